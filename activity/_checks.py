@@ -1,0 +1,61 @@
+"""Input checks shared by the core modules (internal)."""
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from .constants import ZERO_CELSIUS
+from .errors import InputError
+
+#: Temperature range covered by the water-property correlations, K.
+T_MIN, T_MAX = ZERO_CELSIUS, ZERO_CELSIUS + 150.0
+
+
+def finite_array(value: Any, field: str, *, nonnegative: bool = False, positive: bool = False) -> np.ndarray:
+    """Convert to a float ndarray, refusing NaN, infinities and (optionally) negatives."""
+    try:
+        arr = np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError("not a number", field=field, value=value) from None
+    if not np.all(np.isfinite(arr)):
+        bad = arr if arr.ndim == 0 else arr[~np.isfinite(arr)][0]
+        raise InputError("must be finite (no NaN or infinity)", field=field, value=float(bad))
+    if positive and np.any(arr <= 0):
+        bad = arr if arr.ndim == 0 else arr[arr <= 0][0]
+        raise InputError("must be positive", field=field, value=float(bad))
+    if nonnegative and np.any(arr < 0):
+        bad = arr if arr.ndim == 0 else arr[arr < 0][0]
+        raise InputError("must not be negative", field=field, value=float(bad))
+    return arr
+
+
+def temperature(T: Any, field: str = "T", t_min: float = T_MIN, t_max: float = T_MAX) -> np.ndarray:
+    """Validate a thermodynamic temperature in kelvin.
+
+    A value below 273.15 K that would be a plausible Celsius temperature gets a hint.
+    """
+    arr = finite_array(T, field)
+    lo = float(arr.min()) if arr.size else t_min
+    hi = float(arr.max()) if arr.size else t_max
+    if lo < t_min:
+        if lo >= -50.0 and lo < t_min:
+            raise InputError(
+                f"{lo:g} K is below {t_min:g} K — did you mean {lo:g} °C = "
+                f"{lo + ZERO_CELSIUS:.2f} K? Temperatures are in kelvin",
+                field=field,
+                value=lo,
+            )
+        raise InputError(f"below the lowest temperature covered, {t_min:g} K", field=field, value=lo)
+    if hi > t_max:
+        raise InputError(
+            f"above the highest temperature covered, {t_max:g} K ({t_max - ZERO_CELSIUS:g} °C)",
+            field=field,
+            value=hi,
+        )
+    return arr
+
+
+def scalar_or_array(arr: np.ndarray) -> Any:
+    """Return a Python float for 0-d arrays, else the array itself."""
+    return float(arr) if np.ndim(arr) == 0 else arr

@@ -1,0 +1,152 @@
+"""The shared Debye–Hückel functional form behind four of the built-in models.
+
+    log10 γ_i = −A z_i² √I / (1 + K_i √I) + β_i I,
+    K_i = B(T) å_i + d_i,      β_i = c A z_i² + b_i
+
+* limiting law: å = d = c = b = 0;
+* extended Debye–Hückel: å_i from Kielland (1937);
+* Truesdell–Jones: å_i = a_i and b_i from Truesdell & Jones (1974);
+* Davies: å = 0, d = 1, c = 0.3 (configurable), b = 0.
+
+Neutral species (z = 0) get log10 γ = k_s I with a Setschenow coefficient k_s (default 0).
+
+The osmotic coefficient follows from the Gibbs–Duhem equation integrated along the
+dilution path at constant composition ratios and temperature:
+
+    (φ − 1) Σm = ln10 Σ_i (m_i / I) [ −A z_i² (I √I/(1 + K_i √I) − J(K_i, I)) + β_i I²/2 ],
+    J(K, I) = ∫₀^I √x / (1 + K √x) dx.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any, Mapping
+
+import numpy as np
+
+from ..constants import LN10
+from ..species import parse_species
+from ..water import debye_huckel_A, debye_huckel_B
+from .base import ActivityModel
+
+__all__ = ["DebyeHuckelForm", "IonTerms"]
+
+
+@dataclass(frozen=True)
+class IonTerms:
+    """Per-species parameters of the shared form (arrays of shape ``(n_species,)``)."""
+
+    size: np.ndarray  # å in Å (multiplies B)
+    d: np.ndarray  # constant added to K
+    c: float  # multiplies A z² in the linear term
+    b: np.ndarray  # linear coefficient, kg/mol
+    notes: tuple = ()
+
+
+@dataclass(frozen=True)
+class _Bound:
+    z2: np.ndarray
+    terms: IonTerms
+    groups: tuple  # ((size, d), index array) for each distinct denominator
+
+
+def _J(K: np.ndarray, s: np.ndarray) -> np.ndarray:
+    """∫₀^{s²} √x/(1+K√x) dx, accurate for small K s."""
+    y = K * s
+    small = y < 1e-2
+    ys = np.where(small, y, 0.0)
+    series = 2.0 * s**3 * (1 / 3 - ys / 4 + ys**2 / 5 - ys**3 / 6 + ys**4 / 7 - ys**5 / 8)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        yl = np.where(small, 1.0, y)
+        Kl = np.where(small, 1.0, K)
+        closed = 2.0 / Kl**3 * (yl * yl / 2 - yl + np.log1p(yl))
+    return np.where(small, series, closed)
+
+
+class DebyeHuckelForm(ActivityModel):
+    """Base of the Debye–Hückel-type models; subclasses supply :meth:`_ion_terms`."""
+
+    def __init__(self, *, salting: Mapping[str, float] | None = None, **params: Any):
+        super().__init__(**params, **({"salting": dict(salting)} if salting else {}))
+        self._salting = {parse_species(k).name: float(v) for k, v in (salting or {}).items()}
+
+    def _ion_terms(self, species: tuple[str, ...], charges: np.ndarray) -> IonTerms:
+        raise NotImplementedError
+
+    def _bind(self, species, charges):
+        terms = self._ion_terms(species, charges)
+        b = np.array(terms.b, dtype=float)
+        for i, name in enumerate(species):
+            if charges[i] == 0:
+                b[i] = self._salting.get(name, 0.0)
+        terms = IonTerms(np.asarray(terms.size, float), np.asarray(terms.d, float), float(terms.c), b, terms.notes)
+        keys = list(zip(terms.size.tolist(), terms.d.tolist()))
+        groups = tuple(
+            (key, np.array([i for i, k in enumerate(keys) if k == key and charges[i] != 0], dtype=int))
+            for key in dict.fromkeys(k for k, z in zip(keys, charges) if z != 0)
+        )
+        return _Bound(charges.astype(float) ** 2, terms, groups)
+
+    def _bound_notes(self, bound):
+        return bound.terms.notes, ()
+
+    @staticmethod
+    def _AB(sol):
+        T, P = sol.T_compact, sol.P_compact
+        return np.asarray(debye_huckel_A(T, P)), np.asarray(debye_huckel_B(T, P))
+
+    def _log10_gamma(self, sol, bound, I):
+        A, B = self._AB(sol)
+        s = np.sqrt(I)
+        k = len(bound.z2)
+        out = np.empty((k,) + I.shape)
+        As = A * s
+        for (size, d), idx in bound.groups:
+            K = B * size + d
+            f = As / (1.0 + K * s) if (size or d) else As
+            for i in idx:
+                np.multiply(f, -bound.z2[i], out=out[i, ...])
+        t = bound.terms
+        for i in range(k):
+            if bound.z2[i] == 0:
+                out[i] = t.b[i] * I
+                continue
+            beta = t.c * A * bound.z2[i] + t.b[i] if t.c else t.b[i]
+            if np.any(beta):
+                out[i] += beta * I
+        return out
+
+    def _osmotic(self, sol, bound, I):
+        A, B = self._AB(sol)
+        s = np.sqrt(I)
+        m = sol.m
+        acc = np.zeros(I.shape)
+        for (size, d), idx in bound.groups:
+            K = np.broadcast_to(B * size + d, I.shape)
+            w = np.tensordot(bound.z2[idx], m[idx], axes=(0, 0))
+            acc -= A * w * (I * s / (1.0 + K * s) - _J(K, s))
+        t = bound.terms
+        beta = t.c * A * bound.z2[:, None] + t.b[:, None] if np.ndim(A) == 0 else None
+        if beta is not None:
+            lin = np.tensordot(beta[:, 0], m, axes=(0, 0))
+        else:
+            lin = sum((t.c * A * bound.z2[i] + t.b[i]) * m[i] for i in range(len(bound.z2)))
+        acc += lin * I * I / 2.0
+        total = np.asarray(sol.total_molality)
+        denom = total * I
+        with np.errstate(divide="ignore", invalid="ignore"):
+            phi = 1.0 + LN10 * np.where(denom > 0, acc / np.where(denom > 0, denom, 1.0), 0.0)
+        return phi
+
+
+def table_values(name: str) -> Mapping[str, Any]:
+    """The ``values`` table of a section of ``models/species.toml``."""
+    from .. import data
+
+    return data.load("species")[name]["values"]
+
+
+def source_of(name: str) -> str:
+    from .. import data
+
+    sec = data.load("species")[name]
+    return sec["source"] + (f" ({sec['note']})" if "note" in sec else "")

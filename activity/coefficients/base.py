@@ -1,0 +1,239 @@
+"""The contract every activity-coefficient model fulfils, and its result object.
+
+A model is constructed with parameters only (nothing is computed in ``__init__``). It is
+bound once to a species set — precomputing index and parameter arrays — and the binding
+is cached on the instance, so evaluating many batches of the same species set is cheap.
+Subclasses implement :meth:`ActivityModel._bind` and :meth:`ActivityModel._log10_gamma`,
+and :meth:`ActivityModel._osmotic` where the model defines an osmotic coefficient.
+"""
+from __future__ import annotations
+
+import warnings
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from typing import Any, ClassVar, Iterator
+
+import numpy as np
+
+from .._checks import scalar_or_array
+from ..constants import LN10, M_WATER, ZERO_CELSIUS
+from ..errors import ModelError, ValidityWarning
+from ..solution import Solution
+
+__all__ = ["Validity", "CoefficientResult", "ActivityModel"]
+
+
+@dataclass(frozen=True)
+class Validity:
+    """Where a model holds.
+
+    Attributes
+    ----------
+    max_ionic_strength : float
+        Above this ionic strength (mol/kg) results are flagged and a
+        :class:`~activity.errors.ValidityWarning` is issued.
+    T_min, T_max : float
+        Temperature range (K) within which the model is validated; outside it results
+        are flagged and warned about. (Outside 273.15–423.15 K nothing is computed.)
+    species : str
+        Which species the model covers, in words.
+    basis : str
+        Where the limits come from.
+    """
+
+    max_ionic_strength: float
+    T_min: float = ZERO_CELSIUS
+    T_max: float = ZERO_CELSIUS + 150.0
+    species: str = "all ions"
+    basis: str = "common practice"
+
+    def describe(self) -> str:
+        """One line: ionic-strength limit, temperature range, species coverage."""
+        i = "no limit" if not np.isfinite(self.max_ionic_strength) else f"I ≤ {self.max_ionic_strength:g} mol/kg"
+        t = f"{self.T_min - ZERO_CELSIUS:g}–{self.T_max - ZERO_CELSIUS:g} °C"
+        return f"{i}; {t}; {self.species} ({self.basis})"
+
+
+@dataclass(frozen=True, eq=False)
+class CoefficientResult(Mapping):
+    """Activity coefficients of every species in a solution (a read-only mapping).
+
+    ``result[name]`` is γ (float, or an array for a batch). Attributes give the rest.
+
+    Attributes
+    ----------
+    species : tuple of str
+    log10_gamma : ndarray, shape ``(n_species,) + batch shape``
+    ionic_strength : float or ndarray
+    model : str
+    in_range : bool or ndarray of bool
+        Whether each row lies inside the model's declared validity.
+    notes : tuple of str
+        Everything the caller should know: validity excursions, fallbacks, missing
+        parameters.
+    missing : tuple of str
+        Interactions or parameters absent from the parameter set.
+    osmotic_coefficient, water_activity : float, ndarray or None
+        Where the model defines them.
+    """
+
+    species: tuple
+    log10_gamma: np.ndarray
+    ionic_strength: Any
+    model: str
+    in_range: Any = True
+    notes: tuple = ()
+    missing: tuple = ()
+    osmotic_coefficient: Any = None
+    water_activity: Any = None
+    _index: dict = field(default_factory=dict, repr=False)
+
+    def __post_init__(self):
+        self._index.update({n: i for i, n in enumerate(self.species)})
+
+    def __getitem__(self, name: str) -> Any:
+        from ..species import parse_species
+
+        key = name if name in self._index else parse_species(name).name
+        if key not in self._index:
+            raise KeyError(name)
+        return scalar_or_array(10.0 ** self.log10_gamma[self._index[key]])
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(self.species)
+
+    def __len__(self) -> int:
+        return len(self.species)
+
+    @property
+    def gamma(self) -> np.ndarray:
+        """All activity coefficients as an array shaped like :attr:`log10_gamma`."""
+        return 10.0**self.log10_gamma
+
+    def __repr__(self) -> str:
+        body = ", ".join(
+            f"{n!r}: {v:.6g}" if np.ndim(v) == 0 else f"{n!r}: <array {np.shape(v)}>" for n, v in self.items()
+        )
+        return f"CoefficientResult(model={self.model!r}, {{{body}}})"
+
+
+class ActivityModel:
+    """Base class of activity-coefficient models.
+
+    Subclasses set :attr:`name` and :attr:`validity` and implement ``_bind`` and
+    ``_log10_gamma`` (and ``_osmotic`` where defined).
+    """
+
+    name: ClassVar[str] = "abstract"
+    validity: Validity = Validity(np.inf)
+
+    def __init__(self, **params: Any):
+        self.params = dict(params)
+        self._bindings: dict[tuple, Any] = {}
+
+    def __repr__(self) -> str:
+        args = ", ".join(f"{k}={v!r}" for k, v in self.params.items())
+        return f"{type(self).__name__}({args})"
+
+    # ------------------------------------------------------------ hooks
+    def _bind(self, species: tuple[str, ...], charges: np.ndarray) -> Any:
+        """Precompute what depends only on the species set (override)."""
+        return None
+
+    def _log10_gamma(self, sol: Solution, bound: Any, I: np.ndarray) -> np.ndarray:
+        raise NotImplementedError
+
+    def _osmotic(self, sol: Solution, bound: Any, I: np.ndarray) -> np.ndarray | None:
+        return None
+
+    def _bound_notes(self, bound: Any) -> tuple[tuple[str, ...], tuple[str, ...]]:
+        """(notes, missing) that follow from the binding alone (override)."""
+        return (), ()
+
+    # ------------------------------------------------------------ public
+    def bind(self, species: tuple[str, ...], charges: np.ndarray) -> Any:
+        """Return the (cached) binding of this model to a species set."""
+        key = tuple(species)
+        b = self._bindings.get(key)
+        if b is None:
+            b = self._bind(key, np.asarray(charges))
+            self._bindings[key] = b
+        return b
+
+    def _check(self, sol: Solution, I: np.ndarray) -> tuple[Any, tuple[str, ...]]:
+        v = self.validity
+        notes = []
+        ok = np.ones(np.shape(I), dtype=bool)
+        if np.isfinite(v.max_ionic_strength):
+            high = I > v.max_ionic_strength
+            if np.any(high):
+                ok &= ~high
+                notes.append(
+                    f"{self.name}: ionic strength above {v.max_ionic_strength:g} mol/kg "
+                    f"(up to {float(np.max(I)):.4g}) in {int(np.count_nonzero(high))} of {sol.size} row(s)"
+                )
+        T = sol.T_compact
+        t_bad = (T < v.T_min) | (T > v.T_max)
+        if np.any(t_bad):
+            ok &= ~np.broadcast_to(t_bad, ok.shape)
+            notes.append(
+                f"{self.name}: temperature outside {v.T_min - ZERO_CELSIUS:g}–{v.T_max - ZERO_CELSIUS:g} °C"
+            )
+        return ok, tuple(notes)
+
+    def activity_coefficients(self, sol: Solution) -> CoefficientResult:
+        """Activity coefficients (molal scale) of every species in ``sol``.
+
+        Returns a :class:`CoefficientResult`; warns with
+        :class:`~activity.errors.ValidityWarning` when rows fall outside the model's
+        validity.
+        """
+        if not isinstance(sol, Solution):
+            from ..errors import InputError
+
+            raise InputError("expected an activity.Solution", field="solution", value=type(sol).__name__)
+        bound = self.bind(sol.species, sol.charges)
+        I = np.asarray(sol.ionic_strength, dtype=float)
+        lg = self._log10_gamma(sol, bound, I)
+        ok, notes = self._check(sol, I)
+        bnotes, missing = self._bound_notes(bound)
+        for note in notes:
+            warnings.warn(note + "; results are outside the model's validity", ValidityWarning, stacklevel=2)
+        phi = self._osmotic(sol, bound, I)
+        aw = None
+        if phi is not None:
+            aw = scalar_or_array(np.exp(-phi * M_WATER * np.asarray(sol.total_molality)))
+            phi = scalar_or_array(phi)
+        return CoefficientResult(
+            species=sol.species,
+            log10_gamma=lg,
+            ionic_strength=scalar_or_array(I),
+            model=self.name,
+            in_range=bool(ok) if ok.ndim == 0 else ok,
+            notes=notes + bnotes,
+            missing=missing,
+            osmotic_coefficient=phi,
+            water_activity=aw,
+        )
+
+    def log10_gamma(self, sol: Solution) -> np.ndarray:
+        """log10 γ of every species, shape ``(n_species,) + sol.shape`` (no validity checks)."""
+        bound = self.bind(sol.species, sol.charges)
+        return self._log10_gamma(sol, bound, np.asarray(sol.ionic_strength, dtype=float))
+
+    def ln_gamma(self, sol: Solution) -> np.ndarray:
+        """Natural-log activity coefficients, shape ``(n_species,) + sol.shape``."""
+        return LN10 * self.log10_gamma(sol)
+
+    def osmotic_coefficient(self, sol: Solution) -> Any:
+        """Molal osmotic coefficient φ; :class:`~activity.errors.ModelError` if undefined."""
+        bound = self.bind(sol.species, sol.charges)
+        phi = self._osmotic(sol, bound, np.asarray(sol.ionic_strength, dtype=float))
+        if phi is None:
+            raise ModelError(f"model {self.name!r} does not define an osmotic coefficient")
+        return scalar_or_array(phi)
+
+    def water_activity(self, sol: Solution) -> Any:
+        """Activity of water, ``exp(−φ M_w Σm)``; ModelError where φ is undefined."""
+        phi = self.osmotic_coefficient(sol)
+        return scalar_or_array(np.exp(-np.asarray(phi) * M_WATER * np.asarray(sol.total_molality)))

@@ -1,0 +1,86 @@
+"""Exception and warning classes of the package.
+
+Every error raised on purpose derives from :class:`ActivityError`; bad input raises
+:class:`InputError`, which is also a :class:`ValueError` and names the offending field
+and value. Warnings derive from :class:`ActivityWarning` so that a caller can filter
+them as a group.
+"""
+from __future__ import annotations
+
+from typing import Any
+
+__all__ = [
+    "ActivityError",
+    "InputError",
+    "ConvergenceError",
+    "ModelError",
+    "ActivityWarning",
+    "ValidityWarning",
+    "CoverageWarning",
+    "ElectroneutralityWarning",
+]
+
+_MISSING = object()
+
+
+class ActivityError(Exception):
+    """Base class of every error raised by the package."""
+
+
+class InputError(ActivityError, ValueError):
+    """Bad input: names the field and the value that were refused.
+
+    Parameters
+    ----------
+    message : str
+        What is wrong and, where possible, what to do instead.
+    field : str, optional
+        Name of the input field (argument, species, file key, CSV column).
+    value : object, optional
+        The offending value.
+
+    Examples
+    --------
+    >>> err = InputError("must be positive", field="T", value=-3.0)
+    >>> str(err)
+    'T = -3.0: must be positive'
+    """
+
+    def __init__(self, message: str, field: str | None = None, value: Any = _MISSING):
+        self.field = field
+        self.value = None if value is _MISSING else value
+        if field is not None and value is not _MISSING:
+            text = f"{field} = {value!r}: {message}"
+        elif field is not None:
+            text = f"{field}: {message}"
+        else:
+            text = message
+        super().__init__(text)
+
+
+class ConvergenceError(ActivityError, RuntimeError):
+    """An iterative solution did not converge; ``rows`` lists the rows that failed."""
+
+    def __init__(self, message: str, rows: Any = None):
+        self.rows = rows
+        super().__init__(message)
+
+
+class ModelError(ActivityError):
+    """A model cannot compute what was asked (e.g. a quantity it does not define)."""
+
+
+class ActivityWarning(UserWarning):
+    """Base class of the package's warnings: "computed, but look"."""
+
+
+class ValidityWarning(ActivityWarning):
+    """A result was computed outside the declared validity of a model or data set."""
+
+
+class CoverageWarning(ActivityWarning):
+    """Parameters are missing for some interactions; their terms are absent."""
+
+
+class ElectroneutralityWarning(ActivityWarning):
+    """The composition is not electrically neutral within the tolerance."""

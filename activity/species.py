@@ -1,0 +1,235 @@
+"""Species names: parse, canonicalise, charge, element counts and molar mass.
+
+Canonical names follow the mhchem convention: ``Na+``, ``Ca^2+``, ``SO4^2-``, ``H2O``,
+``AgCl(s)``, ``H2(g)``. Input may also say ``Ca2+``, ``Ca++`` or ``Ca+2``. A name such as
+``SO42-`` is ambiguous (``SO4^2-`` or ``SO42^-``?) and is refused with a suggestion.
+The parser is a small hand-written tokenizer; user text is never evaluated.
+"""
+from __future__ import annotations
+
+import functools
+import re
+from dataclasses import dataclass, field
+from types import MappingProxyType
+from typing import Mapping
+
+from . import data
+from .errors import InputError
+
+__all__ = ["Species", "parse_species", "canonical_name", "charge_of", "molar_mass"]
+
+_PHASES = {"s": "s", "cr": "s", "l": "l", "g": "g", "aq": "aq"}
+_PHASE_RE = re.compile(r"\((s|cr|l|g|aq)\)$")
+_ELEMENT_RE = re.compile(r"[A-Z][a-z]?")
+_ELECTRON_MOLAR_MASS = 5.48579909e-7  # kg/mol, CODATA electron mass × N_A (common practice)
+
+
+@dataclass(frozen=True)
+class Species:
+    """A parsed chemical species.
+
+    Attributes
+    ----------
+    name : str
+        Canonical name, e.g. ``'SO4^2-'`` or ``'AgCl(s)'``.
+    formula : str
+        Formula without charge or phase, e.g. ``'SO4'``.
+    charge : int
+        Charge number z.
+    phase : str
+        ``'aq'`` (default), ``'s'``, ``'l'``, ``'g'``, or ``'e'`` for the electron.
+    elements : Mapping[str, int]
+        Element counts.
+    molar_mass : float
+        Molar mass in kg/mol (IUPAC standard atomic weights).
+    """
+
+    name: str
+    formula: str
+    charge: int
+    phase: str
+    elements: Mapping[str, int] = field(compare=False)
+    molar_mass: float = field(compare=False)
+
+    @property
+    def is_ion(self) -> bool:
+        return self.charge != 0 and self.phase == "aq"
+
+    @property
+    def is_electron(self) -> bool:
+        return self.phase == "e"
+
+
+def _charge_text(z: int) -> str:
+    if z == 0:
+        return ""
+    sign = "+" if z > 0 else "-"
+    return sign if abs(z) == 1 else f"^{abs(z)}{sign}"
+
+
+def _parse_charge(text: str, original: str) -> tuple[str, int]:
+    """Split ``text`` into (formula, charge)."""
+    m = re.fullmatch(r"(.*?)\^(\d*)([+-])", text)
+    if m:
+        n = int(m.group(2) or 1)
+        return m.group(1), n if m.group(3) == "+" else -n
+    m = re.fullmatch(r"(.*?[A-Za-z0-9\)\]])([+-])(\d+)", text)
+    if m:
+        n = int(m.group(3))
+        return m.group(1), n if m.group(2) == "+" else -n
+    m = re.fullmatch(r"(.*?)(\++|-+)", text)
+    if not m:
+        return text, 0
+    formula, signs = m.group(1), m.group(2)
+    sign = 1 if signs[0] == "+" else -1
+    if len(signs) > 1:
+        return formula, sign * len(signs)
+    d = re.search(r"(\d+)$", formula)
+    if d is None:
+        return formula, sign
+    digits = d.group(1)
+    base = formula[: -len(digits)]
+    if re.fullmatch(r"[A-Z][a-z]?", base) and len(digits) == 1:
+        return base, sign * int(digits)  # Ca2+ → Ca^2+
+    if len(digits) == 1:
+        return formula, sign  # NH4+, NO3-, H2PO4-
+    suggestion = f"{formula[:-1]}^{digits[-1]}{signs}"
+    raise InputError(
+        f"ambiguous charge; write {suggestion!r} (or '{formula}^{signs}' if the "
+        f"count is {digits})",
+        field="species",
+        value=original,
+    )
+
+
+def _parse_formula(formula: str, original: str) -> dict[str, int]:
+    """Count elements in a formula with (nested) groups and hydrate dots."""
+    weights = data.load("elements")["weights"]
+    total: dict[str, int] = {}
+    for part in re.split(r"[·.*]", formula):
+        m = re.match(r"(\d*)(.*)", part)
+        mult = int(m.group(1)) if m.group(1) else 1
+        counts = _parse_group(m.group(2), original, weights)
+        for el, n in counts.items():
+            total[el] = total.get(el, 0) + mult * n
+    return total
+
+
+def _parse_group(text: str, original: str, weights: Mapping[str, float]) -> dict[str, int]:
+    stack: list[dict[str, int]] = [{}]
+    i = 0
+    while i < len(text):
+        ch = text[i]
+        if ch in "([":
+            stack.append({})
+            i += 1
+            continue
+        if ch in ")]":
+            if len(stack) == 1:
+                raise InputError("unbalanced parenthesis", field="species", value=original)
+            group = stack.pop()
+            i += 1
+            j = i
+            while j < len(text) and text[j].isdigit():
+                j += 1
+            n = int(text[i:j]) if j > i else 1
+            i = j
+            for el, c in group.items():
+                stack[-1][el] = stack[-1].get(el, 0) + c * n
+            continue
+        m = _ELEMENT_RE.match(text, i)
+        if not m:
+            raise InputError(
+                f"cannot read {text[i:]!r} as a chemical formula", field="species", value=original
+            )
+        el = m.group(0)
+        if el not in weights:
+            # Try a one-letter element when the two-letter reading is unknown (e.g. 'Co' vs 'CO').
+            raise InputError(f"unknown element {el!r}", field="species", value=original)
+        i = m.end()
+        j = i
+        while j < len(text) and text[j].isdigit():
+            j += 1
+        n = int(text[i:j]) if j > i else 1
+        i = j
+        stack[-1][el] = stack[-1].get(el, 0) + n
+    if len(stack) != 1:
+        raise InputError("unbalanced parenthesis", field="species", value=original)
+    return stack[0]
+
+
+@functools.lru_cache(maxsize=4096)
+def parse_species(name: str) -> Species:
+    """Parse a species name into a :class:`Species`.
+
+    Parameters
+    ----------
+    name : str
+        A name such as ``'Ca^2+'``, ``'Ca2+'``, ``'Ca++'``, ``'Ca+2'``, ``'SO4^2-'``,
+        ``'AgCl(s)'`` or ``'e-'``.
+
+    Returns
+    -------
+    Species
+
+    Raises
+    ------
+    InputError
+        For malformed, unknown or ambiguous names.
+
+    Examples
+    --------
+    >>> parse_species("Ca2+").name
+    'Ca^2+'
+    >>> parse_species("Hg2Cl2(s)").molar_mass
+    0.47208
+    >>> parse_species("SO42-")
+    Traceback (most recent call last):
+    ...
+    activity.errors.InputError: species = 'SO42-': ambiguous charge; write 'SO4^2-' (or 'SO42^-' if the count is 42)
+    """
+    if not isinstance(name, str):
+        raise InputError("a species name must be a string", field="species", value=name)
+    text = name.strip().replace(" ", "")
+    if not text:
+        raise InputError("empty species name", field="species", value=name)
+    if text in ("e-", "e^-", "e"):
+        return Species("e-", "e", -1, "e", MappingProxyType({}), _ELECTRON_MOLAR_MASS)
+    phase = "aq"
+    m = _PHASE_RE.search(text)
+    if m:
+        phase = _PHASES[m.group(1)]
+        text = text[: m.start()]
+    formula, z = _parse_charge(text, name)
+    if not formula:
+        raise InputError("no formula before the charge", field="species", value=name)
+    elements = _parse_formula(formula, name)
+    if not elements:
+        raise InputError("no elements in the formula", field="species", value=name)
+    if z != 0 and phase != "aq":
+        raise InputError(f"a charged species cannot be in phase {phase!r}", field="species", value=name)
+    weights = data.load("elements")["weights"]
+    mass = sum(weights[el] * n for el, n in elements.items()) / 1000.0
+    canonical = formula + _charge_text(z)
+    if formula == "H2O" and phase == "l":
+        phase_suffix = ""
+    else:
+        phase_suffix = "" if phase == "aq" else f"({phase})"
+    return Species(
+        canonical + phase_suffix, formula, z, phase, MappingProxyType(elements), round(mass, 8)
+    )
+
+
+def canonical_name(name: str) -> str:
+    """Canonical form of a species name, e.g. ``'Ca++'`` → ``'Ca^2+'``."""
+    return parse_species(name).name
+
+
+def charge_of(name: str) -> int:
+    """Charge number of a species."""
+    return parse_species(name).charge
+
+
+def molar_mass(name: str) -> float:
+    """Molar mass in kg/mol."""
+    return parse_species(name).molar_mass
