@@ -44,6 +44,9 @@ _EXPORTS: dict[str, str] = {
     "activity_coefficients": "evaluate",
     "activities": "evaluate",
     "mean_activity_coefficient": "evaluate",
+    # --- pitzer exports (added by the Pitzer work) ---
+    # --- nernst exports (added by the Nernst work) ---
+    # --- uncertainty exports (added by the uncertainty work) ---
 }
 
 __all__ = sorted(_EXPORTS) + ["__version__"]
