@@ -111,14 +111,14 @@ def welch_satterthwaite(contributions, dofs, combined):
 
     Examples
     --------
-    >>> welch_satterthwaite(np.array([1.0, 1.0]), np.array([4.0, 4.0]), np.sqrt(2.0))
+    >>> welch_satterthwaite(np.array([1.0, 1.0]), np.array([4.0, 4.0]), math.sqrt(2.0))
     8.0
     """
     finite = np.isfinite(dofs) & (contributions > 0)
     denominator = float(np.sum(contributions[finite] ** 4 / dofs[finite]))
     if denominator == 0.0 or combined == 0.0:
         return math.inf
-    return combined ** 4 / denominator
+    return float(combined ** 4 / denominator)
 
 
 def budget_rows(model, sensitivities, variance):
