@@ -170,14 +170,16 @@ class ActivityModel:
                 ok &= ~high
                 notes.append(
                     f"{self.name}: ionic strength above {v.max_ionic_strength:g} mol/kg "
-                    f"(up to {float(np.max(I)):.4g}) in {int(np.count_nonzero(high))} of {sol.size} row(s)"
+                    f"(up to {float(np.max(I)):.4g}) in {int(np.count_nonzero(high))} of {sol.size} row(s): "
+                    "outside the model's validity"
                 )
         T = sol.T_compact
         t_bad = (T < v.T_min) | (T > v.T_max)
         if np.any(t_bad):
             ok &= ~np.broadcast_to(t_bad, ok.shape)
             notes.append(
-                f"{self.name}: temperature outside {v.T_min - ZERO_CELSIUS:g}–{v.T_max - ZERO_CELSIUS:g} °C"
+                f"{self.name}: temperature outside {v.T_min - ZERO_CELSIUS:g}–{v.T_max - ZERO_CELSIUS:g} °C, "
+                "the range the model is validated for"
             )
         return ok, tuple(notes)
 
@@ -198,7 +200,7 @@ class ActivityModel:
         ok, notes = self._check(sol, I)
         bnotes, missing = self._bound_notes(bound)
         for note in notes:
-            warnings.warn(note + "; results are outside the model's validity", ValidityWarning, stacklevel=2)
+            warnings.warn(note, ValidityWarning, stacklevel=2)
         phi = self._osmotic(sol, bound, I)
         aw = None
         if phi is not None:

@@ -1,0 +1,155 @@
+"""What the command line prints: library calls arranged into tables, JSON or CSV.
+
+Kept apart from :mod:`activity.cli` so that argument parsing stays import-light.
+"""
+from __future__ import annotations
+
+import warnings
+from typing import Any
+
+import numpy as np
+
+from .coefficients import available_models, get_model
+from .errors import ActivityError, ActivityWarning
+from .report import fmt, table, to_csv, to_json
+
+__all__ = ["evaluate_models", "solution_report", "models_report", "demo_report"]
+
+
+def evaluate_models(sol, names) -> list[dict[str, Any]]:
+    """Evaluate several models on one solution; failures and warnings are recorded."""
+    out = []
+    for name in names:
+        entry: dict[str, Any] = {"model": name}
+        try:
+            model = get_model(name)
+            with warnings.catch_warnings(record=True) as caught:
+                warnings.simplefilter("always", ActivityWarning)
+                res = model.activity_coefficients(sol)
+            entry["gamma"] = {n: float(res[n]) for n in res}
+            entry["activity"] = {n: float(res[n]) * float(sol.m[i]) for i, n in enumerate(sol.species)}
+            entry["osmotic_coefficient"] = res.osmotic_coefficient
+            entry["water_activity"] = res.water_activity
+            entry["in_range"] = bool(np.all(res.in_range))
+            entry["notes"] = list(dict.fromkeys(res.notes + tuple(str(w.message) for w in caught)))
+            entry["missing"] = list(res.missing)
+            entry["validity"] = model.validity.describe()
+        except ActivityError as exc:
+            entry["error"] = str(exc)
+        out.append(entry)
+    return out
+
+
+def _verdict(entry: dict[str, Any]) -> str:
+    if "error" in entry:
+        return "cannot evaluate"
+    return "within validity" if entry["in_range"] else "OUTSIDE validity"
+
+
+def solution_report(sol, model: str = "davies", fmt: str = "table") -> str:
+    """Report one solution by one model, or by every model when ``model == 'all'``."""
+    if sol.shape != ():
+        raise ActivityError("the solution report takes one composition, not a batch")
+    names = list(available_models()) if model == "all" else [model]
+    if model != "all":
+        get_model(model)  # unknown names fail here with a clear InputError
+    results = evaluate_models(sol, names)
+    if len(results) == 1 and "error" in results[0]:
+        raise ActivityError(results[0]["error"])
+    head = {
+        "temperature_K": float(sol.T),
+        "pressure_Pa": float(sol.P),
+        "ionic_strength_mol_per_kg": float(sol.ionic_strength),
+        "species": [{"name": n, "charge": int(z), "molality_mol_per_kg": float(sol.m[i])} for i, (n, z) in enumerate(zip(sol.species, sol.charges))],
+    }
+    if fmt == "json":
+        return to_json({**head, "models": results})
+    ok = [r for r in results if "error" not in r]
+    if fmt == "csv":
+        rows = [[r["model"], n, float(sol.m[i]), r["gamma"][n], r["activity"][n]] for r in ok for i, n in enumerate(sol.species)]
+        return to_csv(["model", "species", "molality_mol_per_kg", "gamma", "activity"], rows)
+    lines = [
+        f"Solution at {sol.T - 273.15:.2f} °C, {sol.P / 1000:.3f} kPa; ionic strength {fmt_num(sol.ionic_strength)} mol/kg"
+    ]
+    if len(results) == 1:
+        r = results[0]
+        lines.append(f"Model: {r['model']} — {r['validity']}")
+        rows = [[n, int(z), float(sol.m[i]), r["gamma"][n], r["activity"][n]] for i, (n, z) in enumerate(zip(sol.species, sol.charges))]
+        lines.append(table(["species", "z", "m / (mol/kg)", "γ", "activity"], rows))
+        if r["osmotic_coefficient"] is not None:
+            lines.append(f"osmotic coefficient φ = {fmt_num(r['osmotic_coefficient'])}; water activity = {fmt_num(r['water_activity'], 7)}")
+    else:
+        headers = ["species", "m / (mol/kg)"] + [f"γ {r['model']}" for r in ok]
+        rows = [[n, float(sol.m[i])] + [r["gamma"][n] for r in ok] for i, n in enumerate(sol.species)]
+        rows.append(["verdict", ""] + [_verdict(r) for r in ok])
+        lines.append(table(headers, rows, title="Activity coefficients by model (side by side)"))
+        for r in results:
+            if "error" in r:
+                lines.append(f"{r['model']}: cannot evaluate — {r['error']}")
+    for r in results:
+        for note in r.get("notes", []):
+            lines.append(f"note: {note}")
+        if r.get("missing"):
+            lines.append(f"note: {r['model']}: no parameters for {', '.join(r['missing'])}")
+    return "\n".join(lines)
+
+
+def fmt_num(x: Any, digits: int = 5) -> str:
+    return fmt(float(x), digits)
+
+
+def models_report(fmt: str = "table") -> str:
+    """The registered models with their validity ranges."""
+    rows = []
+    for name in available_models():
+        try:
+            v = get_model(name).validity
+            rows.append({"model": name, "max_ionic_strength_mol_per_kg": v.max_ionic_strength, "T_min_K": v.T_min, "T_max_K": v.T_max, "species": v.species, "basis": v.basis})
+        except ActivityError as exc:
+            rows.append({"model": name, "error": str(exc)})
+    if fmt == "json":
+        return to_json(rows)
+    cols = ["model", "max_ionic_strength_mol_per_kg", "T_min_K", "T_max_K", "species", "basis"]
+    if fmt == "csv":
+        return to_csv(cols, [[r.get(c) for c in cols] for r in rows])
+    trows = []
+    for r in rows:
+        if "error" in r:
+            trows.append([r["model"], "—", "—", "cannot load: " + r["error"]])
+            continue
+        imax = "no limit" if not np.isfinite(r["max_ionic_strength_mol_per_kg"]) else f"{r['max_ionic_strength_mol_per_kg']:g}"
+        trows.append([r["model"], imax, f"{r['T_min_K'] - 273.15:g}–{r['T_max_K'] - 273.15:g}", f"{r['species']} ({r['basis']})"])
+    return table(["model", "I max / (mol/kg)", "T / °C", "species covered (basis)"], trows)
+
+
+def demo_report(fmt: str = "table") -> str:
+    """The built-in demo: calcium ISE standards, every model side by side."""
+    from .demo import run_demo
+
+    res = run_demo()
+    ok = [c for c in res.columns if c.error is None]
+    if fmt == "json":
+        return to_json({
+            "title": res.title,
+            "temperature_K": res.T,
+            "standards": [{"calcium_mol_per_L": float(c), "calcium_mol_per_kg": float(m), "ionic_strength_mol_per_kg": float(i)} for c, m, i in zip(res.calcium_molarity, res.calcium_molality, res.ionic_strength)],
+            "models": [{"model": c.model, "gamma_Ca": c.gamma, "activity_Ca": c.activity, "in_range": c.in_range, "notes": list(c.notes), "error": c.error} for c in res.columns],
+        })
+    if fmt == "csv":
+        rows = [[c.model, float(res.calcium_molarity[k]), float(res.calcium_molality[k]), float(res.ionic_strength[k]), float(c.gamma[k]), float(c.activity[k]), bool(c.in_range[k])] for c in ok for k in range(len(res.calcium_molarity))]
+        return to_csv(["model", "calcium_mol_per_L", "calcium_mol_per_kg", "ionic_strength_mol_per_kg", "gamma_Ca", "activity_Ca", "in_range"], rows)
+    out = [res.title, f"Temperature {res.T - 273.15:.2f} °C. Each standard: CaCl2 in 0.1 mol/L KCl.", ""]
+    headers = ["c(Ca) mol/L", "m(Ca) mol/kg", "I mol/kg"] + [f"a(Ca) {c.model}" for c in ok]
+    rows = []
+    for k in range(len(res.calcium_molarity)):
+        row = [float(res.calcium_molarity[k]), float(res.calcium_molality[k]), float(res.ionic_strength[k])]
+        row += [fmt_num(c.activity[k], 4) + ("" if c.in_range[k] else "*") for c in ok]
+        rows.append(row)
+    out.append(table(headers, rows, title="Calcium activity of each standard by model (* = outside the model's validity)"))
+    rows = [[c.model] + [float(g) for g in c.gamma] for c in ok]
+    out.append("")
+    out.append(table(["model"] + [f"γ(Ca) std {k + 1}" for k in range(len(res.calcium_molarity))], rows, digits=4, title="γ(Ca²⁺) by model"))
+    for c in res.columns:
+        if c.error:
+            out.append(f"{c.model}: cannot evaluate — {c.error}")
+    return "\n".join(out)

@@ -1,0 +1,113 @@
+"""Formatting of results for people and programs: aligned tables, JSON, CSV.
+
+Only formatting lives here — no chemistry. :func:`write_text` writes a file whole or not at
+all (a temporary file in the same directory, then an atomic rename).
+"""
+from __future__ import annotations
+
+import csv
+import io
+import json
+import math
+import os
+import tempfile
+from pathlib import Path
+from typing import Any, Iterable, Sequence
+
+__all__ = ["fmt", "table", "to_json", "to_csv", "write_text"]
+
+
+def fmt(value: Any, digits: int = 5) -> str:
+    """Format a number compactly with ``digits`` significant figures; text passes through.
+
+    Examples
+    --------
+    >>> fmt(0.000123456), fmt(12.0), fmt(None), fmt(True)
+    ('0.00012346', '12', '—', 'yes')
+    """
+    if value is None:
+        return "—"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, (int, float)) or hasattr(value, "dtype"):
+        v = float(value)
+        if math.isnan(v):
+            return "nan"
+        if v != 0 and (abs(v) < 1e-4 or abs(v) >= 1e7):
+            return f"{v:.{digits - 1}e}"
+        return f"{v:.{digits}g}" if abs(v) >= 1 else f"{v:.{digits}g}"
+    return str(value)
+
+
+def table(headers: Sequence[str], rows: Iterable[Sequence[Any]], *, digits: int = 5, title: str | None = None) -> str:
+    """An aligned plain-text table (numbers right-aligned, text left-aligned).
+
+    Examples
+    --------
+    >>> print(table(["species", "γ"], [["Na+", 0.778], ["Cl-", 0.7701]]))
+    species  γ
+    -------  ------
+    Na+       0.778
+    Cl-      0.7701
+    """
+    cells = [[fmt(c, digits) for c in row] for row in rows]
+    widths = [len(h) for h in headers]
+    for row in cells:
+        for j, c in enumerate(row):
+            widths[j] = max(widths[j], len(c))
+    lines = []
+    if title:
+        lines.append(title)
+    lines.append("  ".join(h.ljust(w) for h, w in zip(headers, widths)).rstrip())
+    lines.append("  ".join("-" * w for w in widths))
+    for row in cells:
+        out = []
+        for c, w in zip(row, widths):
+            numeric = c[:1].isdigit() or (c[:1] in "-+." and c[1:2].isdigit())
+            out.append(c.rjust(w) if numeric else c.ljust(w))
+        lines.append("  ".join(out).rstrip())
+    return "\n".join(lines)
+
+
+def _plain(obj: Any) -> Any:
+    if isinstance(obj, dict):
+        return {str(k): _plain(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_plain(v) for v in obj]
+    if hasattr(obj, "tolist"):
+        return _plain(obj.tolist())
+    if isinstance(obj, float) and not math.isfinite(obj):
+        return None
+    return obj
+
+
+def to_json(obj: Any) -> str:
+    """JSON text of nested dicts/lists/numpy values (NaN and infinities become null)."""
+    return json.dumps(_plain(obj), indent=2, ensure_ascii=False)
+
+
+def to_csv(headers: Sequence[str], rows: Iterable[Sequence[Any]]) -> str:
+    """CSV text with full-precision numbers (``repr`` of floats)."""
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(headers)
+    for row in rows:
+        w.writerow([repr(float(c)) if isinstance(c, float) or hasattr(c, "dtype") else ("" if c is None else c) for c in row])
+    return buf.getvalue()
+
+
+def write_text(path: str | Path, text: str) -> None:
+    """Write ``text`` to ``path`` atomically: the file appears whole or not at all."""
+    target = Path(path)
+    directory = target.parent if str(target.parent) else Path(".")
+    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", dir=directory)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
+            fh.write(text)
+        os.replace(tmp, target)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except FileNotFoundError:
+            pass
+        raise
