@@ -147,7 +147,7 @@ def _stable(history, m, tolerance, digits):
     if delta is None:
         delta = numerical_tolerance(_pooled_sd(history["mean"], history["m2"], m), digits)
     spread = max(np.std(history[key], ddof=1) for key in ("mean", "sd", "low", "high"))
-    return 2.0 * spread / math.sqrt(h) <= delta, delta
+    return bool(2.0 * spread / math.sqrt(h) <= delta), delta
 
 
 def run_adaptive(model, rng, p, kind, tolerance, digits, chunk, max_trials):
