@@ -81,8 +81,10 @@ def test_monte_carlo_agrees_with_gum_for_near_linear_nernst():
     assert mc.value == pytest.approx(gum.value, abs=3e-6)
     assert mc.standard_uncertainty == pytest.approx(gum.standard_uncertainty, rel=0.01)
     assert mc.coverage_interval() == pytest.approx(gum.coverage_interval(), abs=2e-5)
-    # The Monte Carlo budget carries the GUM sensitivities.
+    # The Monte Carlo budget carries the GUM sensitivities, and says so.
     assert [r.sensitivity for r in mc.budget] == [r.sensitivity for r in gum.budget]
+    text = mc.format_budget()
+    assert "GUM sensitivities" in text and "trials = 200000" in text
 
 
 def test_skewed_output_shortest_interval_is_shorter():

@@ -29,7 +29,7 @@ __all__ = [
 ]
 
 
-def _real(value, field):
+def real_number(value, field):
     """Return ``value`` as a finite float or raise InputError naming ``field``."""
     try:
         number = float(value)
@@ -44,7 +44,7 @@ def _real(value, field):
 
 def _width(value, field):
     """Return a finite, non-negative float (a standard deviation or half-width)."""
-    number = _real(value, field)
+    number = real_number(value, field)
     if number < 0:
         raise InputError(f"{field} must not be negative, got {value!r}",
                          field=field, value=value)
@@ -147,7 +147,7 @@ class Normal(Distribution):
     kind = "normal"
 
     def __post_init__(self):
-        object.__setattr__(self, "mean", _real(self.mean, "mean"))
+        object.__setattr__(self, "mean", real_number(self.mean, "mean"))
         object.__setattr__(self, "sd", _width(self.sd, "sd"))
         object.__setattr__(self, "dof", _dof(self.dof))
 
@@ -166,7 +166,30 @@ class Normal(Distribution):
 
 
 @dataclass(frozen=True)
-class Rectangular(Distribution):
+class _Bounded(Distribution):
+    """Shared part of the symmetric distributions on [centre − half_width, centre + half_width]."""
+
+    centre: float
+    half_width: float
+    dof: float = math.inf
+    _divisor = 1.0
+
+    def __post_init__(self):
+        object.__setattr__(self, "centre", real_number(self.centre, "centre"))
+        object.__setattr__(self, "half_width", _width(self.half_width, "half_width"))
+        object.__setattr__(self, "dof", _dof(self.dof))
+
+    @property
+    def mean(self):
+        return self.centre
+
+    @property
+    def standard_uncertainty(self):
+        return self.half_width / self._divisor
+
+
+@dataclass(frozen=True)
+class Rectangular(_Bounded):
     """Rectangular (uniform) distribution on [centre − half_width, centre + half_width].
 
     The standard uncertainty is ``half_width / sqrt(3)`` (JCGM 100:2008 4.3.7).
@@ -187,23 +210,8 @@ class Rectangular(Distribution):
     0.173205
     """
 
-    centre: float
-    half_width: float
-    dof: float = math.inf
     kind = "rectangular"
-
-    def __post_init__(self):
-        object.__setattr__(self, "centre", _real(self.centre, "centre"))
-        object.__setattr__(self, "half_width", _width(self.half_width, "half_width"))
-        object.__setattr__(self, "dof", _dof(self.dof))
-
-    @property
-    def mean(self):
-        return self.centre
-
-    @property
-    def standard_uncertainty(self):
-        return self.half_width / math.sqrt(3.0)
+    _divisor = math.sqrt(3.0)
 
     def sample(self, rng, n):
         return self.centre + self.half_width * (2.0 * rng.random(n) - 1.0)
@@ -213,7 +221,7 @@ class Rectangular(Distribution):
 
 
 @dataclass(frozen=True)
-class Triangular(Distribution):
+class Triangular(_Bounded):
     """Symmetric triangular distribution on [centre − half_width, centre + half_width].
 
     The standard uncertainty is ``half_width / sqrt(6)`` (JCGM 100:2008 4.3.9).
@@ -233,23 +241,8 @@ class Triangular(Distribution):
     2.44949
     """
 
-    centre: float
-    half_width: float
-    dof: float = math.inf
     kind = "triangular"
-
-    def __post_init__(self):
-        object.__setattr__(self, "centre", _real(self.centre, "centre"))
-        object.__setattr__(self, "half_width", _width(self.half_width, "half_width"))
-        object.__setattr__(self, "dof", _dof(self.dof))
-
-    @property
-    def mean(self):
-        return self.centre
-
-    @property
-    def standard_uncertainty(self):
-        return self.half_width / math.sqrt(6.0)
+    _divisor = math.sqrt(6.0)
 
     def sample(self, rng, n):
         # The difference of two independent U(0, 1) values is triangular on [-1, 1].
@@ -299,7 +292,7 @@ class StudentT(Distribution):
     kind = "student-t"
 
     def __post_init__(self):
-        object.__setattr__(self, "mean", _real(self.mean, "mean"))
+        object.__setattr__(self, "mean", real_number(self.mean, "mean"))
         object.__setattr__(self, "sd", _width(self.sd, "sd"))
         object.__setattr__(self, "dof", _dof(self.dof, finite=True))
 

@@ -10,6 +10,7 @@ import numpy as np
 from activity.errors import InputError
 
 from ._model import Model
+from .distributions import real_number
 from .gum import budget_rows, combine, gum, linearise
 from .montecarlo import block_size, numerical_tolerance, run_adaptive, run_fixed
 from .result import PropagationResult, coverage_kind, coverage_probability
@@ -35,12 +36,8 @@ def _count(value, field, minimum=1):
 
 
 def _positive(value, field):
-    try:
-        number = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"{field} must be a positive number, got {value!r}",
-                         field=field, value=value) from None
-    if not (math.isfinite(number) and number > 0):
+    number = real_number(value, field)
+    if number <= 0:
         raise InputError(f"{field} must be a positive number, got {value!r}",
                          field=field, value=value)
     return number

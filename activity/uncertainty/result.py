@@ -306,6 +306,9 @@ class PropagationResult:
                  r["dof"], r["sensitivity"], r["contribution"],
                  f"{100 * r['share']:.1f} %"] for r in self.budget_table()]
         text = [_table(header, rows), self._result_line()]
+        if self.method == "monte-carlo" and self.budget:
+            text.append("(budget: GUM sensitivities at the input estimates; shares of "
+                        "the linearised variance)")
         if spread is not None:
             text.append(spread.format_line(self.standard_uncertainty))
         return "\n".join(text)
