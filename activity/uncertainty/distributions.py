@@ -167,7 +167,7 @@ class Normal(Distribution):
 
 @dataclass(frozen=True)
 class _Bounded(Distribution):
-    """Shared part of the symmetric distributions on [centre − half_width, centre + half_width]."""
+    """Shared part of the symmetric distributions on [centre ± half_width]."""
 
     centre: float
     half_width: float
