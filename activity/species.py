@@ -60,11 +60,16 @@ class Species:
         return self.phase == "e"
 
 
-def _charge_text(z: int) -> str:
+def _charge_text(z: int, formula: str = "") -> str:
     if z == 0:
         return ""
     sign = "+" if z > 0 else "-"
-    return sign if abs(z) == 1 else f"^{abs(z)}{sign}"
+    if abs(z) > 1:
+        return f"^{abs(z)}{sign}"
+    d = re.search(r"(\d+)$", formula)
+    if d and (len(d.group(1)) > 1 or re.fullmatch(r"[A-Z][a-z]?", formula[: d.start()])):
+        return "^" + sign  # 'Hg2^+': a bare 'Hg2+' would read as Hg^2+
+    return sign
 
 
 def _parse_charge(text: str, original: str) -> tuple[str, int]:
@@ -210,7 +215,7 @@ def parse_species(name: str) -> Species:
         raise InputError(f"a charged species cannot be in phase {phase!r}", field="species", value=name)
     weights = data.load("elements")["weights"]
     mass = sum(weights[el] * n for el, n in elements.items()) / 1000.0
-    canonical = formula + _charge_text(z)
+    canonical = formula + _charge_text(z, formula)
     if formula == "H2O" and phase == "l":
         phase_suffix = ""
     else:

@@ -74,8 +74,8 @@ class ExtendedDebyeHuckel(DebyeHuckelForm):
     def __init__(self, sizes=None, fallback_size: float | None = None, **kw):
         super().__init__(**kw)
         self._sizes = _clean(sizes, "sizes")
-        if fallback_size is not None:
-            _clean({"fallback": fallback_size}, "fallback_size")
+        if fallback_size is not None and not (np.isfinite(fallback_size) and fallback_size >= 0):
+            raise InputError("must be a finite non-negative size in Å", field="fallback_size", value=fallback_size)
         self._fallback = fallback_size
         if sizes:
             self.params["sizes"] = dict(self._sizes)

@@ -1,0 +1,107 @@
+"""The command line: exit codes, formats, one-line errors, whole-or-nothing output."""
+import json
+import subprocess
+import sys
+
+import pytest
+
+from activity.cli import main
+
+
+def run(*args):
+    proc = subprocess.run([sys.executable, "-m", "activity.cli", *args], capture_output=True, text=True, timeout=120)
+    return proc.returncode, proc.stdout, proc.stderr
+
+
+def test_help_does_not_import_numpy():
+    # `activity --help` must start fast: building the parser imports no numerical modules.
+    code = "import sys, activity.cli as c; c.build_parser(); print(sorted(m for m in ('numpy', 'scipy', 'sympy') if m in sys.modules))"
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.strip()
+    assert out == "[]"
+
+
+def test_solution_table(capsys):
+    assert main(["solution", "Na+=0.1 mol/kg", "Cl-=0.1 mol/kg", "-t", "25 °C"]) == 0
+    out = capsys.readouterr().out
+    assert "ionic strength 0.1 mol/kg" in out
+    assert "Na+" in out and "davies" in out
+
+
+def test_solution_json_all_models(capsys):
+    assert main(["solution", "Ca2+=1 mmol/kg", "Cl-=2 mmol/kg", "--model", "all", "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["ionic_strength_mol_per_kg"] == pytest.approx(0.003)
+    names = [m["model"] for m in data["models"]]
+    assert "davies" in names and "extended-debye-huckel" in names
+    davies = next(m for m in data["models"] if m["model"] == "davies")
+    assert 0 < davies["gamma"]["Ca^2+"] < 1
+
+
+def test_solution_csv_from_recipe(tmp_path, capsys):
+    recipe = tmp_path / "r.toml"
+    recipe.write_text('temperature = "37 °C"\n[composition]\n"K+" = "5 mmol/kg"\n"Cl-" = "5 mmol/kg"\n', encoding="utf-8")
+    assert main(["solution", "--recipe", str(recipe), "--csv", "-m", "extended-debye-huckel"]) == 0
+    lines = capsys.readouterr().out.strip().splitlines()
+    assert lines[0] == "model,species,molality_mol_per_kg,gamma,activity"
+    assert len(lines) == 3
+
+
+@pytest.mark.parametrize(
+    "args, text",
+    [
+        (["solution", "Na+=0.1"], "a unit is required"),
+        (["solution", "SO42-=1 mmol/kg"], "SO4^2-"),
+        (["solution", "Na+=0.1 mol/kg", "Cl-=0.1 mol/kg", "-t", "25"], "a unit is required"),
+        (["solution", "Na+=0.1 mol/kg", "Cl-=0.1 mol/kg", "-t", "25 K"], "did you mean 25 °C"),
+        (["solution", "Na+=0.1 mol/kg", "Cl-=0.1 mol/kg", "-m", "nonsense"], "unknown model"),
+        (["solution", "--recipe", "/nonexistent/recipe.toml"], "file not found"),
+        (["solution"], "give a composition"),
+        (["frobnicate"], "invalid choice"),
+    ],
+)
+def test_errors_are_one_line_exit_2(args, text):
+    code, out, err = run(*args)
+    assert code == 2
+    lines = [ln for ln in err.splitlines() if ln.strip()]
+    assert len(lines) == 1, err
+    assert text in lines[0]
+    assert "Traceback" not in err
+
+
+def test_output_file_is_whole_or_absent(tmp_path):
+    target = tmp_path / "out.json"
+    assert main(["solution", "Na+=0.01 mol/kg", "Cl-=0.01 mol/kg", "--json", "-o", str(target)]) == 0
+    assert json.loads(target.read_text(encoding="utf-8"))["ionic_strength_mol_per_kg"] == pytest.approx(0.01)
+    bad = tmp_path / "bad.json"
+    assert main(["solution", "Na+=-1 mol/kg", "--json", "-o", str(bad)]) == 2
+    assert not bad.exists()
+    assert [p.name for p in tmp_path.iterdir()] == ["out.json"]
+
+
+def test_models_lists_validity(capsys):
+    assert main(["models"]) == 0
+    out = capsys.readouterr().out
+    for name in ["ideal", "davies", "extended-debye-huckel", "truesdell-jones"]:
+        assert name in out
+
+
+def test_demo_runs_and_shows_caution(capsys):
+    assert main(["demo"]) == 0
+    out = capsys.readouterr().out
+    assert "Calcium" in out and "davies" in out
+    assert "Caution" in out
+
+
+def test_demo_json(capsys):
+    assert main(["demo", "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert len(data["standards"]) == 5
+    davies = next(m for m in data["models"] if m["model"] == "davies")
+    # the activity of a standard is below its molality (γ < 1) at I ≈ 0.1 mol/kg
+    assert all(a < s["calcium_mol_per_kg"] for a, s in zip(davies["activity_Ca"], data["standards"]))
+
+
+def test_validity_excursion_is_shown_with_the_result():
+    code, out, err = run("solution", "Na+=1 mol/kg", "Cl-=1 mol/kg", "-m", "extended-debye-huckel")
+    assert code == 0
+    assert "note: extended-debye-huckel: ionic strength above 0.1" in out
