@@ -81,16 +81,19 @@ def test_slope_sensitivity_is_analytic():
 def test_gum_of_linear_function_is_exact(a, b, mean, u, kind):
     # For Y = aX + b the law of propagation is exact: u(y) = |a| u(x)
     # (JCGM 100:2008 eq. 10 with a single input). The finite difference is
-    # exact up to the rounding of y: |error of u| <= eps·|y|/step with the
-    # default step h = 1e-3·u (float64 rounding bound, common practice).
+    # exact up to the rounding of y: the small step is used only while its
+    # relative rounding error is below 1e-6, otherwise the ±u difference,
+    # whose rounding error is about eps·|y| (float64 bound, common practice).
     dist = {"normal": Normal(mean, u), "rect": Rectangular(mean, u * math.sqrt(3)),
             "tri": Triangular(mean, u * math.sqrt(6))}[kind]
     result = propagate(lambda x: a * x + b, {"x": dist})
-    rounding = 2 * np.finfo(float).eps * (abs(a * mean) + abs(b)) / 1e-3
-    assert result.standard_uncertainty == pytest.approx(abs(a) * u, rel=1e-9,
+    size = abs(a * mean) + abs(b)
+    rounding = 4 * np.finfo(float).eps * size
+    assert result.standard_uncertainty == pytest.approx(abs(a) * u, rel=2e-6,
                                                         abs=rounding)
     assert result.value == pytest.approx(a * mean + b, rel=1e-12, abs=1e-9)
-    assert result.budget[0].share == pytest.approx(1.0)
+    if abs(a) * u > 1e3 * rounding:   # resolvable in float64 at all
+        assert result.budget[0].share == pytest.approx(1.0)
 
 
 @settings(max_examples=40, deadline=None)
@@ -147,7 +150,7 @@ def test_one_batched_call_with_stacked_points():
         return c * x * y
 
     result = propagate(f, {"x": Normal(2.0, 0.1), "y": Normal(3.0, 0.2), "c": 0.5})
-    assert calls == [(5,)]  # centre + 2 points per uncertain input, one call
+    assert calls == [(9,)]  # centre + 4 points per uncertain input, one call
     # d(cxy)/dx = c y = 1.5, d/dy = c x = 1.0 (analytic).
     assert [row.sensitivity for row in result.budget] == pytest.approx([1.5, 1.0])
 

@@ -164,8 +164,8 @@ def test_chunks_are_batched_calls():
 
     result = propagate(f, {"x": Normal(0.0, 1.0)}, "monte-carlo", trials=25_000,
                        chunk_size=10_000, seed=0)
-    # Three Monte Carlo chunks, then one GUM call (3 rows) for the budget.
-    assert sizes == [10_000, 10_000, 5_000, 3]
+    # Three Monte Carlo chunks, then one GUM call (5 rows) for the budget.
+    assert sizes == [10_000, 10_000, 5_000, 5]
     assert result.trials == 25_000
 
 

@@ -1,17 +1,19 @@
 """GUM law of propagation of uncertainty (JCGM 100:2008, clause 5 and annex G).
 
 Sensitivity coefficients come from central differences evaluated in ONE
-batched call of the model: row 0 is the point of the input estimates, rows
-2i+1 and 2i+2 are that point with input i moved by +h_i and −h_i.
+batched call of the model: row 0 is the point of the input estimates; for
+each input i there are two pairs of rows with input i moved by ±h_i and by
+±u(x_i).
 
 Step size: ``h_i = step · u(x_i)`` with ``step = 1e-3`` by default, but not
 below ``1e-8·|x_i|``. A step tied to u(x_i) makes the derivative describe the
 model over the range the input really varies; 1e-3 keeps the truncation error
-(∝ h²) negligible while the rounding error (≈ ε·|y|/h) stays around 1e-13
-relative to the contribution |c_i|·u(x_i). The floor keeps x ± h apart by
-enough representable digits when u(x_i) is tiny compared with |x_i|. An input
-with u(x_i) = 0 still gets a sensitivity (step ``1e-6·max(|x_i|, 1)``) for the
-budget; it contributes nothing.
+(∝ h²) negligible. Its rounding error is about ε·|y|/|Δy| relative, with Δy
+the change of the output over ±h_i; when that exceeds 1e-6 (the output is
+too large to resolve so small a change) the difference over ±u(x_i) is used
+instead, whose rounding error is a thousand times smaller and which is exact
+for a linear model. An input with u(x_i) = 0 still gets a sensitivity (step
+``1e-6·max(|x_i|, 1)``) for the budget; it contributes nothing.
 """
 
 from __future__ import annotations
@@ -28,10 +30,17 @@ __all__ = ["linearise", "combine", "welch_satterthwaite", "gum"]
 
 
 def _steps(means, uncertainties, step):
+    """Small steps h_i and wide steps u_i (fallbacks for u_i = 0)."""
     scale = np.abs(means)
-    h = np.maximum(step * uncertainties, 1e-8 * scale)
     fallback = 1e-6 * np.maximum(scale, 1.0)
-    return np.where(uncertainties > 0, h, fallback)
+    small = np.where(uncertainties > 0,
+                     np.maximum(step * uncertainties, 1e-8 * scale), fallback)
+    wide = np.where(uncertainties > 0, uncertainties, fallback)
+    return small, wide
+
+
+#: Largest accepted relative rounding error of the small-step difference.
+_ROUNDING_LIMIT = 1e-6
 
 
 def linearise(model, step=1e-3):
@@ -53,25 +62,40 @@ def linearise(model, step=1e-3):
     """
     k = len(model.names)
     means = model.means
-    h = _steps(means, model.uncertainties, step)
-    points = np.tile(means, (2 * k + 1, 1))
+    small, wide = _steps(means, model.uncertainties, step)
     index = np.arange(k)
-    points[1 + 2 * index, index] += h
-    points[2 + 2 * index, index] -= h
+    points = np.tile(means, (4 * k + 1, 1))
+    for offset, h in ((1, small), (1 + 2 * k, wide)):
+        points[offset + 2 * index, index] += h
+        points[offset + 1 + 2 * index, index] -= h
     columns = {name: points[:, i] for i, name in enumerate(model.names)}
-    y = model.evaluate(columns, 2 * k + 1)
+    # Points at ±u(x_i) may leave the model's domain; such values are only
+    # used when finite, so numpy's floating-point warnings are muted here.
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        y = model.evaluate(columns, 4 * k + 1)
     if not np.isfinite(y[0]):
         raise InputError(f"f is not finite at the input estimates ({y[0]!r})",
                          field="f", value=float(y[0]))
-    # Divide by the step actually represented in floating point.
-    span = points[1 + 2 * index, index] - points[2 + 2 * index, index]
-    sensitivities = (y[1::2] - y[2::2]) / span
+
+    def difference(offset):
+        # Divide by the step actually represented in floating point.
+        up, down = offset + 2 * index, offset + 1 + 2 * index
+        rise = y[up] - y[down]
+        scale = np.maximum(np.abs(y[up]), np.abs(y[down]))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            rounding = np.finfo(float).eps * scale / np.abs(rise)
+        return rise / (points[up, index] - points[down, index]), rounding
+
+    sensitivities, rounding = difference(1)
+    wide_sensitivities, _ = difference(1 + 2 * k)
+    unresolved = ~(rounding <= _ROUNDING_LIMIT) & np.isfinite(wide_sensitivities)
+    sensitivities = np.where(unresolved, wide_sensitivities, sensitivities)
     bad = ~np.isfinite(sensitivities) & (model.uncertainties > 0)
     if np.any(bad):
-        name = model.names[int(np.flatnonzero(bad)[0])]
-        raise InputError(f"f is not finite within ±{h[model.names.index(name)]:.3g} of "
-                         f"input {name!r}; the sensitivity cannot be computed",
-                         field=name, value=float(means[model.names.index(name)]))
+        i = int(np.flatnonzero(bad)[0])
+        raise InputError(f"f is not finite within ±{small[i]:.3g} of input "
+                         f"{model.names[i]!r}; the sensitivity cannot be computed",
+                         field=model.names[i], value=float(means[i]))
     return float(y[0]), sensitivities
 
 
