@@ -1,0 +1,211 @@
+"""The Pitzer ion-interaction model as an :class:`~activity.coefficients.base.ActivityModel`."""
+from __future__ import annotations
+
+import dataclasses
+import threading
+import warnings
+from typing import Any
+
+import numpy as np
+
+from ...constants import LN10, ZERO_CELSIUS
+from ...errors import CoverageWarning, InputError, ValidityWarning
+from ...water import debye_huckel_Aphi
+from ..base import ActivityModel, CoefficientResult, Validity
+from ._binding import bind
+from ._kernel import evaluate
+from ._params import ParameterSet, combine
+
+__all__ = ["PitzerModel"]
+
+#: Rows evaluated per block: bounds temporary memory, keeps blocks in cache.
+CHUNK = 8192
+
+
+class PitzerModel(ActivityModel):
+    """Pitzer ion-interaction model (Pitzer 1991, ch. 3; Harvie, Møller & Weare 1984).
+
+    Binary β(0), β(1), β(2), Cφ; like-charge mixing θ with unsymmetrical terms Eθ, Eθ′
+    (Pitzer 1975); triple terms ψ; neutral-species λ and ζ. Aφ comes from
+    :func:`activity.water.debye_huckel_Aphi` at the solution's T and P. Parameters are
+    data (``models/pitzer.toml``); each may depend on temperature.
+
+    Parameters
+    ----------
+    extra : str, path, Mapping or sequence of them, optional
+        Further parameter files (or parsed mappings in the same layout) laid over the
+        base set; an entry replaces the base entry for the same interaction.
+    base : str, path, Mapping or None, default "pitzer"
+        The base parameter set (a shipped name, a file, a mapping), or None for none.
+    parameters : optional
+        Same as ``extra`` (for ``get_model("pitzer", parameters="my.toml")``).
+
+    Notes
+    -----
+    Cation–anion pairs without parameters are listed in the result's ``missing`` and
+    warned about once per species set (:class:`~activity.errors.CoverageWarning`); their
+    terms are absent (only the Debye–Hückel term acts). Rows beyond a pair's fitted
+    molality (compared as the ionic strength of the binary solution at that molality)
+    or temperature range are flagged in ``in_range``, noted, and warned about
+    (:class:`~activity.errors.ValidityWarning`).
+
+    Examples
+    --------
+    >>> from activity import Solution
+    >>> model = PitzerModel()
+    >>> sol = Solution({"Na+": 1.0, "Cl-": 1.0})
+    >>> g = model.activity_coefficients(sol)
+    >>> round(float(np.sqrt(g["Na+"] * g["Cl-"])), 3)   # Robinson & Stokes 1959: 0.657
+    0.656
+    >>> round(model.osmotic_coefficient(sol), 3)          # Robinson & Stokes 1959: 0.936
+    0.936
+    """
+
+    name = "pitzer"
+    validity = Validity(
+        6.0,
+        ZERO_CELSIUS,
+        ZERO_CELSIUS + 50.0,
+        species="ions and neutrals with parameters in the set (missing pairs are listed)",
+        basis="shipped parameter set; per-interaction limits are checked as well",
+    )
+
+    def __init__(self, extra: Any = None, *, base: Any = "pitzer", parameters: Any = None):
+        super().__init__()
+        self.params = {"extra": extra, "base": base, "parameters": parameters}
+        self._table: ParameterSet | None = None
+        self._local = threading.local()
+
+    # ------------------------------------------------------------ parameters
+    @staticmethod
+    def _as_list(x: Any) -> list:
+        if x is None:
+            return []
+        if isinstance(x, (list, tuple)):
+            return list(x)
+        return [x]
+
+    @property
+    def table(self) -> ParameterSet:
+        """The parameter set in use (base overlaid with the extras), loaded on first use."""
+        if self._table is None:
+            p = self.params
+            self._table = combine(self._as_list(p["base"]) + self._as_list(p["extra"]) + self._as_list(p["parameters"]))
+        return self._table
+
+    # ------------------------------------------------------------ contract
+    def _bind(self, species, charges):
+        b = bind(self.table, species, charges)
+        if b.missing:
+            warnings.warn(b.notes[0] + " (Debye–Hückel term only)", CoverageWarning, stacklevel=4)
+        return b
+
+    def _bound_notes(self, bound):
+        return bound.notes, bound.missing
+
+    def _run(self, sol, bound, want: set) -> dict:
+        memo = getattr(self._local, "memo", None)
+        if memo is not None and memo.get("sol") is sol:
+            return memo
+        if memo is not None:
+            want = {"lng", "phi"}
+        n, N = len(sol.species), sol.size
+        m = sol.m.reshape(n, N)
+        I = np.asarray(sol.ionic_strength, dtype=float).reshape(N)
+        T, P = sol.T_compact, sol.P_compact
+        scalar_T = T.size == 1
+        Aphi_all = np.asarray(debye_huckel_Aphi(T, P))
+        if Aphi_all.size > 1:
+            Aphi_all = np.broadcast_to(Aphi_all, sol.shape).reshape(N)
+        else:
+            Aphi_all = float(Aphi_all.reshape(()))
+        if scalar_T:
+            params = bound.at(T.reshape(()))
+        else:
+            T_all = np.broadcast_to(T, sol.shape).reshape(N)
+        res = {k: np.empty((n, N) if k == "lng" else (N,)) for k in want}
+        for s in range(0, N, CHUNK):
+            sl = slice(s, min(N, s + CHUNK))
+            Pc = params if scalar_T else bound.at(T_all[sl])
+            Ac = Aphi_all if np.ndim(Aphi_all) == 0 else Aphi_all[sl]
+            part = evaluate(bound, Pc, not scalar_T, m[:, sl], I[sl], Ac, want)
+            for k, v in part.items():
+                res[k][..., sl] = v
+        out = {k: (v.reshape((n,) + sol.shape) if k == "lng" else v.reshape(sol.shape)) for k, v in res.items()}
+        if memo is not None:
+            memo.clear()
+            memo.update(out, sol=sol)
+        return out
+
+    def _log10_gamma(self, sol, bound, I):
+        return self._run(sol, bound, {"lng"})["lng"] / LN10
+
+    def _osmotic(self, sol, bound, I):
+        return self._run(sol, bound, {"phi"})["phi"]
+
+    # ------------------------------------------------------------ public
+    def excess_gibbs(self, sol) -> Any:
+        """Excess Gibbs energy per kilogram of water over RT, Gex/(w RT), in mol/kg.
+
+        ``ln γ_i`` is its derivative with respect to ``m_i``; the tests check this.
+
+        Examples
+        --------
+        >>> from activity import Solution
+        >>> round(PitzerModel().excess_gibbs(Solution({"K+": 0.1, "Cl-": 0.1})), 5)
+        -0.03819
+        """
+        bound = self.bind(sol.species, sol.charges)
+        g = self._run(sol, bound, {"gex"})["gex"]
+        return float(g) if g.ndim == 0 else g
+
+    def activity_coefficients(self, sol) -> CoefficientResult:
+        """Activity coefficients, osmotic coefficient and water activity of ``sol``.
+
+        As :meth:`ActivityModel.activity_coefficients`, plus per-interaction checks of
+        the fitted molality and temperature ranges (noted, warned, and reflected in
+        ``in_range``).
+        """
+        self._local.memo = {}
+        try:
+            res = super().activity_coefficients(sol)
+        finally:
+            self._local.memo = None
+        bound = self.bind(sol.species, sol.charges)
+        ok, notes = self._pair_checks(sol, bound)
+        if not notes:
+            return res
+        for note in notes:
+            warnings.warn(note + "; results are outside the parameters' validity", ValidityWarning, stacklevel=2)
+        in_range = np.asarray(res.in_range) & ok
+        return dataclasses.replace(
+            res,
+            in_range=bool(in_range) if in_range.ndim == 0 else in_range,
+            notes=res.notes + notes,
+            _index={},
+        )
+
+    def _pair_checks(self, sol, bound) -> tuple[np.ndarray, tuple]:
+        ok = np.ones(sol.shape, dtype=bool)
+        if not bound.checks:
+            return ok, ()
+        I = np.asarray(sol.ionic_strength, dtype=float)
+        T = np.broadcast_to(sol.T_compact, sol.shape)
+        notes = []
+        for label, idx, i_max, t_lo, t_hi in bound.checks:
+            present = np.all(sol.m[idx] > 0, axis=0)
+            high = present & (I > i_max * (1 + 1e-9))
+            cold = present & ((T < t_lo - 1e-9) | (T > t_hi + 1e-9))
+            if np.any(high):
+                notes.append(
+                    f"pitzer: {label} parameters hold to I = {i_max:g} mol/kg (the binary solution's "
+                    f"fitted range); I up to {float(np.max(I[high])):.4g} in {int(np.count_nonzero(high))} "
+                    f"of {sol.size} row(s)"
+                )
+            if np.any(cold):
+                notes.append(
+                    f"pitzer: {label} parameters hold at {t_lo - ZERO_CELSIUS:g}–{t_hi - ZERO_CELSIUS:g} °C; "
+                    f"outside in {int(np.count_nonzero(cold))} of {sol.size} row(s)"
+                )
+            ok &= ~(high | cold)
+        return ok, tuple(notes)
