@@ -45,6 +45,8 @@ _EXPORTS: dict[str, str] = {
     "activities": "evaluate",
     "mean_activity_coefficient": "evaluate",
     # --- pitzer exports (added by the Pitzer work) ---
+    "PitzerModel": "coefficients.pitzer",
+    "load_pitzer_parameters": "coefficients.pitzer:load_parameters",
     # --- nernst exports (added by the Nernst work) ---
     # --- uncertainty exports (added by the uncertainty work) ---
 }
