@@ -1,0 +1,163 @@
+"""Galvanic cells: EMF = E(right) − E(left) + E_j.
+
+Each electrode is a :class:`~activity.nernst.HalfReaction` (dipping into its
+compartment's solution), an :class:`~activity.electrodes.IonSelectiveElectrode`, or a
+:class:`~activity.electrodes.ReferenceElectrode` (whose compartment is its own filling).
+With one solution for both electrodes the cell has no liquid junction (a cell without
+transference); with two different compartment solutions the junction term
+E_j = φ(right solution) − φ(left solution) is computed by the Henderson equation, given
+as a number, or left out — and reported separately either way.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any, Mapping
+
+import numpy as np
+
+from . import _checks
+from .coefficients import resolve_model
+from .electrodes import IonSelectiveElectrode, ReferenceElectrode
+from .errors import InputError
+from .junction import henderson_potential
+from .nernst import ElectrodeResult, HalfReaction
+from .solution import Solution
+
+__all__ = ["CellResult", "Cell"]
+
+_ELECTRODES = (HalfReaction, ReferenceElectrode, IonSelectiveElectrode)
+
+
+@dataclass(frozen=True)
+class CellResult:
+    """The EMF of a cell and its parts.
+
+    Attributes
+    ----------
+    emf : float or ndarray
+        E(right) − E(left) + junction_potential, V.
+    right, left : ElectrodeResult
+        The two electrode potentials with their details.
+    junction_potential : float or ndarray
+        φ(right solution) − φ(left solution), V (0 for one solution or when neglected).
+    model : str
+        Activity model applied to the sample.
+    notes : tuple of str
+    """
+
+    emf: Any
+    right: ElectrodeResult
+    left: ElectrodeResult
+    junction_potential: Any
+    model: str
+    notes: tuple = ()
+
+    @property
+    def right_potential(self) -> Any:
+        """Potential of the right electrode, V vs SHE."""
+        return self.right.potential
+
+    @property
+    def left_potential(self) -> Any:
+        """Potential of the left electrode, V vs SHE."""
+        return self.left.potential
+
+
+class Cell:
+    """A galvanic cell ``left | … | right``.
+
+    Parameters
+    ----------
+    left, right : HalfReaction, ReferenceElectrode or IonSelectiveElectrode
+    junction : None, 'henderson' or float, default None
+        How to treat a liquid junction between two different compartment solutions:
+        left out (recorded in the notes), the Henderson equation, or a fixed value in V.
+
+    Examples
+    --------
+    >>> from activity import Solution
+    >>> from activity.nernst import standard_couple
+    >>> harned = Cell(left=standard_couple("H+/H2"), right=standard_couple("AgCl/Ag"))
+    >>> round(harned.emf(Solution({"H+": 0.01, "Cl-": 0.01}), "davies", pressures={"H2(g)": 1e5}), 4)
+    0.4643
+    """
+
+    def __init__(self, left: Any, right: Any, junction: Any = None):
+        for side, e in (("left", left), ("right", right)):
+            if not isinstance(e, _ELECTRODES):
+                raise InputError("expected a HalfReaction, ReferenceElectrode or IonSelectiveElectrode", field=side, value=type(e).__name__)
+        if not (junction is None or junction == "henderson" or isinstance(junction, (int, float))):
+            raise InputError("must be None, 'henderson' or a number in V", field="junction", value=junction)
+        self.left, self.right, self.junction = left, right, junction
+
+    @staticmethod
+    def _electrode(e: Any, sol: Solution, model: Any, T: Any, pressures: Any) -> ElectrodeResult:
+        if isinstance(e, ReferenceElectrode):
+            return e.evaluate(T)
+        if isinstance(e, HalfReaction):
+            return e.evaluate(sol, model, pressures=pressures)
+        return e.evaluate(sol, model)
+
+    def evaluate(
+        self,
+        sol: Solution | None = None,
+        model: Any = "davies",
+        *,
+        left_solution: Solution | None = None,
+        right_solution: Solution | None = None,
+        pressures: Mapping[str, Any] | None = None,
+    ) -> CellResult:
+        """EMF with both electrode potentials and the junction term.
+
+        Parameters
+        ----------
+        sol : Solution, optional
+            The sample: the solution of every compartment not otherwise given.
+        model : str or ActivityModel, default 'davies'
+            Activity model for the sample (a reference electrode uses its own).
+        left_solution, right_solution : Solution, optional
+            Compartment solutions of a two-compartment cell.
+        pressures : Mapping[str, array_like], optional
+            Gas partial pressures in Pa.
+        """
+        model = resolve_model(model)
+        comp = {}
+        for side, e, given in (("left", self.left, left_solution), ("right", self.right, right_solution)):
+            if isinstance(e, ReferenceElectrode):
+                if given is not None:
+                    raise InputError("a reference electrode's compartment is its own filling", field=f"{side}_solution", value=None)
+                comp[side] = None
+            else:
+                comp[side] = given if given is not None else sol
+                if not isinstance(comp[side], Solution):
+                    raise InputError(f"the {side} electrode needs a solution", field="solution", value=comp[side])
+        samples = [s for s in comp.values() if s is not None]
+        if not samples:
+            raise InputError("a cell of two reference electrodes has nothing to measure", field="solution", value=None)
+        T = samples[0].T_compact
+        left = self._electrode(self.left, comp["left"], model, T, pressures)
+        right = self._electrode(self.right, comp["right"], model, T, pressures)
+        notes: list[str] = []
+        ej: Any = 0.0
+        lsol = comp["left"] if comp["left"] is not None else self.left.filling_solution(T)
+        rsol = comp["right"] if comp["right"] is not None else self.right.filling_solution(T)
+        if lsol is not rsol:
+            if self.junction is None:
+                notes.append("liquid junction between the two compartments left out (junction=None)")
+            elif self.junction == "henderson":
+                jr = henderson_potential(lsol, rsol)
+                ej = jr.potential
+                notes.extend(jr.notes)
+            else:
+                ej = float(self.junction)
+                notes.append(f"liquid-junction potential fixed at {ej:g} V")
+        emf = np.asarray(right.potential) - np.asarray(left.potential) + np.asarray(ej)
+        notes = [f"left: {n}" for n in left.notes] + [f"right: {n}" for n in right.notes] + notes
+        return CellResult(_checks.scalar_or_array(emf), right, left, ej, model.name, tuple(dict.fromkeys(notes)))
+
+    def emf(self, sol: Solution | None = None, model: Any = "davies", **kw: Any) -> Any:
+        """EMF = E(right) − E(left) + E_j in V (shorthand for ``evaluate(...).emf``)."""
+        return self.evaluate(sol, model, **kw).emf
+
+    def __repr__(self) -> str:
+        return f"Cell(left={self.left!r}, right={self.right!r}, junction={self.junction!r})"

@@ -1,0 +1,225 @@
+"""Reference electrodes computed from their filling solutions, and ion-selective electrodes.
+
+A reference electrode's potential is not looked up: the engine builds the KCl filling
+solution (a stated molarity or molality, or saturated at the temperature), evaluates the
+chloride activity with the best available model for concentrated KCl (Pitzer when
+installed, else the next in :data:`activity.nernst.MODEL_PREFERENCE`; the choice is
+recorded), and applies the Nernst equation of the AgCl/Ag or Hg2Cl2/Hg couple.
+
+An :class:`IonSelectiveElectrode` follows the Nikolsky–Eisenman equation.
+"""
+from __future__ import annotations
+
+from typing import Any, Mapping
+
+import numpy as np
+
+from . import _checks, data
+from .coefficients import ActivityModel, resolve_model
+from .constants import LN10, T_REF, ZERO_CELSIUS
+from .electrochem import nernst_slope
+from .errors import InputError
+from .membrane import nikolsky_eisenman
+from .nernst import ElectrodeResult, HalfReaction, _quiet_validity, best_available_model, standard_couple
+from .solution import Solution
+from .species import parse_species
+
+__all__ = [
+    "kcl_saturation_molality",
+    "ReferenceElectrode",
+    "silver_chloride_electrode",
+    "calomel_electrode",
+    "IonSelectiveElectrode",
+]
+
+
+def kcl_saturation_molality(T: Any = T_REF) -> Any:
+    """Molality of saturated KCl at T (linear interpolation of the table), mol/kg.
+
+    Examples
+    --------
+    >>> kcl_saturation_molality(298.15)
+    4.81
+    """
+    tab = data.load("reference_electrodes")["kcl_saturation"]
+    t = _checks.finite_array(T, "T", positive=True) - ZERO_CELSIUS
+    lo, hi = tab["temperature"][0], tab["temperature"][-1]
+    if np.any(t < lo) or np.any(t > hi):
+        raise InputError(f"KCl solubility is tabulated for {lo:g}–{hi:g} °C only", field="T", value=float(np.max(t) + ZERO_CELSIUS))
+    return _checks.scalar_or_array(np.interp(t, tab["temperature"], tab["molality"]))
+
+
+class ReferenceElectrode:
+    """A metal | sparingly soluble chloride | KCl(aq) reference electrode.
+
+    Parameters
+    ----------
+    couple : HalfReaction or str
+        The chloride couple (e.g. ``'AgCl/Ag'``).
+    filling : 'saturated' or float
+        The KCl filling: saturated at the working temperature, or a concentration.
+    basis : {'mol/L', 'mol/kg'}, default 'mol/L'
+        Unit of a numeric ``filling``. Per-litre values are converted with the density
+        model of :meth:`Solution.from_molarity` (excess volume neglected).
+    model : str or ActivityModel, optional
+        Model for the filling; by default the best available for concentrated KCl.
+    name : str, optional
+
+    Examples
+    --------
+    >>> ref = silver_chloride_electrode("saturated")
+    >>> round(ref.potential(298.15), 3)
+    0.196
+    """
+
+    def __init__(self, couple: HalfReaction | str, filling: Any = "saturated", *, basis: str = "mol/L", model: Any = None, name: str | None = None):
+        self.couple = couple if isinstance(couple, HalfReaction) else standard_couple(couple)
+        if "Cl-" not in self.couple.species:
+            raise InputError("a KCl-filled reference electrode needs a chloride couple", field="couple", value=self.couple.name)
+        if isinstance(filling, str):
+            if filling.strip().lower() != "saturated":
+                raise InputError("give 'saturated' or a number with basis=", field="filling", value=filling)
+            self.filling = "saturated"
+        else:
+            self.filling = float(_checks.finite_array(filling, "filling", positive=True))
+        if basis not in ("mol/L", "mol/kg"):
+            raise InputError("must be 'mol/L' or 'mol/kg'", field="basis", value=basis)
+        self.basis = basis
+        if model is None:
+            self._model, self._model_notes = best_available_model(("K+", "Cl-"))
+        else:
+            self._model, self._model_notes = resolve_model(model), ()
+        label = "saturated" if self.filling == "saturated" else f"{self.filling:g} {basis}"
+        self.name = name or f"{self.couple.name} in {label} KCl"
+
+    @property
+    def model(self) -> ActivityModel:
+        """The activity model applied to the filling solution."""
+        return self._model
+
+    def filling_solution(self, T: Any = T_REF) -> Solution:
+        """The KCl filling as a :class:`Solution` at temperature T."""
+        if self.filling == "saturated":
+            m = kcl_saturation_molality(T)
+            return Solution({"K+": m, "Cl-": m}, T=T)
+        if self.basis == "mol/kg":
+            return Solution({"K+": self.filling, "Cl-": self.filling}, T=T)
+        return Solution.from_molarity({"K+": self.filling, "Cl-": self.filling}, T=T)
+
+    def evaluate(self, T: Any = T_REF) -> ElectrodeResult:
+        """Potential vs SHE at T with the model used and every assumption in the notes."""
+        sol = self.filling_solution(T)
+        res, caught = _quiet_validity(self.couple.evaluate, sol, self._model)
+        notes = (
+            (f"filling {self.name}: chloride activity from {res.model}",)
+            + self._model_notes
+            + res.notes
+            + tuple(c for c in caught if not any(c.startswith(n) for n in res.notes))
+            + ("single-ion activity of Cl- as given by the model (not measurable on its own)",)
+        )
+        return ElectrodeResult(res.potential, res.standard_potential, res.log10_activity, res.T, res.model, tuple(dict.fromkeys(notes)), res.in_range)
+
+    def potential(self, T: Any = T_REF) -> Any:
+        """Potential vs SHE at T, V."""
+        return self.evaluate(T).potential
+
+    def __repr__(self) -> str:
+        return f"ReferenceElectrode({self.name!r})"
+
+
+def silver_chloride_electrode(filling: Any = "saturated", **kw: Any) -> ReferenceElectrode:
+    """Ag | AgCl(s) | KCl(aq), e.g. ``silver_chloride_electrode(3.5)`` for 3.5 mol/L KCl."""
+    return ReferenceElectrode("AgCl/Ag", filling, **kw)
+
+
+def calomel_electrode(filling: Any = "saturated", **kw: Any) -> ReferenceElectrode:
+    """Hg(l) | Hg2Cl2(s) | KCl(aq); ``calomel_electrode()`` is the saturated calomel electrode.
+
+    Examples
+    --------
+    >>> round(calomel_electrode().potential(298.15), 3)
+    0.241
+    """
+    return ReferenceElectrode("Hg2Cl2/Hg", filling, **kw)
+
+
+class IonSelectiveElectrode:
+    """An ion-selective electrode following the Nikolsky–Eisenman equation.
+
+    E = E0 + (k·s/zᵢ) log10(aᵢ + Σⱼ Kᵢⱼ aⱼ^(zᵢ/zⱼ)), s = RT ln10/F, k = ``slope_factor``.
+
+    Parameters
+    ----------
+    ion : str
+        Primary ion, e.g. ``'Ca^2+'``.
+    E0 : float
+        Electrode constant at 298.15 K, V (on the scale of the cell it is used in).
+    selectivity : Mapping[str, float], optional
+        Selectivity coefficients Kᵢⱼ by interfering ion.
+    slope_factor : float, default 1
+        Fraction of the Nernst slope.
+    dE0dT : float, default 0
+        Temperature coefficient of E0, V/K.
+
+    Examples
+    --------
+    >>> from activity import Solution
+    >>> from activity.cell import Cell
+    >>> ise = IonSelectiveElectrode("Ca^2+", E0=0.05, selectivity={"Mg^2+": 0.01})
+    >>> std = Solution({"Ca^2+": [1e-4, 1e-3], "K+": 0.1, "Cl-": [0.1002, 0.102]})
+    >>> res = Cell(left=silver_chloride_electrode(3.0), right=ise).evaluate(std, "davies")
+    >>> [round(float(e) * 1000, 1) for e in res.emf]
+    [-287.3, -257.8]
+    """
+
+    def __init__(self, ion: str, E0: float, *, selectivity: Mapping[str, float] | None = None, slope_factor: float = 1.0, dE0dT: float = 0.0, name: str | None = None):
+        sp = parse_species(ion)
+        if not sp.is_ion:
+            raise InputError("the primary species of an ion-selective electrode must be an ion", field="ion", value=ion)
+        self.ion = sp.name
+        self.z = sp.charge
+        self.E0 = float(_checks.finite_array(E0, "E0"))
+        self.dE0dT = float(_checks.finite_array(dE0dT, "dE0dT"))
+        self.slope_factor = float(_checks.finite_array(slope_factor, "slope_factor", positive=True))
+        self.selectivity: dict[str, float] = {}
+        for k, v in (selectivity or {}).items():
+            j = parse_species(k)
+            if j.name == self.ion or not j.is_ion or np.sign(j.charge) != np.sign(self.z):
+                raise InputError("an interferent must be another ion of the primary ion's sign", field="selectivity", value=k)
+            self.selectivity[j.name] = float(_checks.finite_array(v, f"selectivity[{k!r}]", nonnegative=True))
+        self.name = name or f"{self.ion} ion-selective electrode"
+
+    def slope(self, T: Any = T_REF) -> Any:
+        """Response slope k·RT ln10/(zF), V per decade of the primary ion's activity."""
+        return self.slope_factor * nernst_slope(T, self.z)
+
+    def _terms(self, sol: Solution, lg: np.ndarray) -> tuple[np.ndarray, list, list, np.ndarray, tuple]:
+        if self.ion not in sol.species:
+            raise InputError(f"the primary ion of {self.name} is not in the solution", field="species", value=self.ion)
+        i = sol.index(self.ion)
+        ai = sol.m[i] * 10.0 ** lg[i]
+        present = [j for j in self.selectivity if j in sol.species]
+        absent = tuple(f"interferent {j} absent from the solution (activity 0)" for j in self.selectivity if j not in sol.species)
+        idx = [sol.index(j) for j in present]
+        aj = sol.m[idx] * 10.0 ** lg[idx] if idx else np.zeros((0,) + sol.shape)
+        return ai, present, [parse_species(j).charge for j in present], aj, absent
+
+    def evaluate(self, sol: Solution, model: Any = "davies") -> ElectrodeResult:
+        """Electrode potential in ``sol`` (same scale as E0), with activities used."""
+        model = resolve_model(model)
+        g = model.activity_coefficients(sol)
+        ai, present, zj, aj, absent = self._terms(sol, g.log10_gamma)
+        T = sol.T_compact
+        E0 = self.E0 + self.dE0dT * (np.asarray(T) - T_REF)
+        E = nikolsky_eisenman(E0, ai, self.z, aj, zj, [self.selectivity[j] for j in present], T, self.slope_factor)
+        lg = {self.ion: _checks.scalar_or_array(np.log10(np.where(ai > 0, ai, np.nan)))}
+        with np.errstate(divide="ignore"):
+            lg.update({j: _checks.scalar_or_array(np.log(aj[n]) / LN10) for n, j in enumerate(present)})
+        return ElectrodeResult(E, _checks.scalar_or_array(E0), lg, _checks.scalar_or_array(T), g.model, tuple(g.notes) + absent, g.in_range)
+
+    def potential(self, sol: Solution, model: Any = "davies") -> Any:
+        """Electrode potential, V (shorthand for ``evaluate(...).potential``)."""
+        return self.evaluate(sol, model).potential
+
+    def __repr__(self) -> str:
+        return f"IonSelectiveElectrode({self.ion!r}, E0={self.E0!r}, selectivity={self.selectivity!r})"
