@@ -49,6 +49,19 @@ _EXPORTS: dict[str, str] = {
     "load_pitzer_parameters": "coefficients.pitzer:load_parameters",
     # --- nernst exports (added by the Nernst work) ---
     # --- uncertainty exports (added by the uncertainty work) ---
+    "propagate": "uncertainty",
+    "validate_gum": "uncertainty",
+    "model_spread": "uncertainty",
+    "Normal": "uncertainty",
+    "Rectangular": "uncertainty",
+    "Triangular": "uncertainty",
+    "StudentT": "uncertainty",
+    "measured": "uncertainty",
+    "Distribution": "uncertainty",
+    "PropagationResult": "uncertainty",
+    "ValidationResult": "uncertainty",
+    "BudgetRow": "uncertainty",
+    "ModelSpread": "uncertainty",
 }
 
 __all__ = sorted(_EXPORTS) + ["__version__"]

@@ -50,16 +50,17 @@ class _Bound:
 
 
 def _J(K: np.ndarray, s: np.ndarray) -> np.ndarray:
-    """∫₀^{s²} √x/(1+K√x) dx, accurate for small K s."""
+    """∫₀^{s²} √x/(1+K√x) dx, accurate for small K s (series below K s = 0.01)."""
+    K, s = np.broadcast_arrays(np.asarray(K, float), np.asarray(s, float))
     y = K * s
+    out = np.empty(y.shape)
     small = y < 1e-2
-    ys = np.where(small, y, 0.0)
-    series = 2.0 * s**3 * (1 / 3 - ys / 4 + ys**2 / 5 - ys**3 / 6 + ys**4 / 7 - ys**5 / 8)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        yl = np.where(small, 1.0, y)
-        Kl = np.where(small, 1.0, K)
-        closed = 2.0 / Kl**3 * (yl * yl / 2 - yl + np.log1p(yl))
-    return np.where(small, series, closed)
+    big = ~small
+    yb, Kb = y[big], K[big]
+    out[big] = 2.0 / Kb**3 * (yb * yb / 2 - yb + np.log1p(yb))
+    ys, ss = y[small], s[small]
+    out[small] = 2.0 * ss**3 * (1 / 3 - ys / 4 + ys**2 / 5 - ys**3 / 6 + ys**4 / 7 - ys**5 / 8)
+    return out
 
 
 class DebyeHuckelForm(ActivityModel):

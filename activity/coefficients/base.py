@@ -8,6 +8,7 @@ and :meth:`ActivityModel._osmotic` where the model defines an osmotic coefficien
 """
 from __future__ import annotations
 
+import functools
 import warnings
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -74,7 +75,8 @@ class CoefficientResult(Mapping):
     missing : tuple of str
         Interactions or parameters absent from the parameter set.
     osmotic_coefficient, water_activity : float, ndarray or None
-        Where the model defines them.
+        Where the model defines them (computed on first access, so that callers who only
+        need γ do not pay for them).
     """
 
     species: tuple
@@ -84,12 +86,29 @@ class CoefficientResult(Mapping):
     in_range: Any = True
     notes: tuple = ()
     missing: tuple = ()
-    osmotic_coefficient: Any = None
-    water_activity: Any = None
+    _phi: Any = field(default=None, repr=False)  # value, or a callable computing it
+    _total_molality: Any = field(default=None, repr=False)
     _index: dict = field(default_factory=dict, repr=False)
+    _cache: dict = field(default_factory=dict, repr=False)
 
     def __post_init__(self):
         self._index.update({n: i for i, n in enumerate(self.species)})
+
+    @property
+    def osmotic_coefficient(self) -> Any:
+        """Molal osmotic coefficient φ, or None where the model does not define it."""
+        if "phi" not in self._cache:
+            phi = self._phi() if callable(self._phi) else self._phi
+            self._cache["phi"] = None if phi is None else scalar_or_array(np.asarray(phi, dtype=float))
+        return self._cache["phi"]
+
+    @property
+    def water_activity(self) -> Any:
+        """Activity of water exp(−φ M_w Σm), or None where φ is undefined."""
+        phi = self.osmotic_coefficient
+        if phi is None:
+            return None
+        return scalar_or_array(np.exp(-np.asarray(phi) * M_WATER * np.asarray(self._total_molality)))
 
     def __getitem__(self, name: str) -> Any:
         from ..species import parse_species
@@ -201,11 +220,6 @@ class ActivityModel:
         bnotes, missing = self._bound_notes(bound)
         for note in notes:
             warnings.warn(note, ValidityWarning, stacklevel=2)
-        phi = self._osmotic(sol, bound, I)
-        aw = None
-        if phi is not None:
-            aw = scalar_or_array(np.exp(-phi * M_WATER * np.asarray(sol.total_molality)))
-            phi = scalar_or_array(phi)
         return CoefficientResult(
             species=sol.species,
             log10_gamma=lg,
@@ -214,8 +228,8 @@ class ActivityModel:
             in_range=bool(ok) if ok.ndim == 0 else ok,
             notes=notes + bnotes,
             missing=missing,
-            osmotic_coefficient=phi,
-            water_activity=aw,
+            _phi=functools.partial(self._osmotic, sol, bound, I),
+            _total_molality=sol.total_molality,
         )
 
     def log10_gamma(self, sol: Solution) -> np.ndarray:
