@@ -90,7 +90,10 @@ def bind(params: ParameterSet, species: tuple, charges: np.ndarray) -> Bound:
             a1[i, j] = e.alpha[0] if e.alpha[0] is not None else d1
             a2[i, j] = e.alpha[1] if e.alpha[1] is not None else d2
             nu_c, nu_a = -za[j], zc[i]  # unreduced stoichiometry; I of the binary solution
-            i_max = 0.5 * e.max_molality * (nu_c * zc[i] ** 2 + nu_a * za[j] ** 2) / np.gcd(int(zc[i]), int(-za[j]))
+            i_max = e.max_ionic_strength
+            if i_max is None:
+                g = np.gcd(int(zc[i]), int(-za[j]))
+                i_max = 0.5 * e.max_molality * (nu_c * zc[i] ** 2 + nu_a * za[j] ** 2) / g
             checks.append((f"{c} {a}", np.array([cat[i], an[j]]), i_max, *e.T_range))
     alphas = np.unique(np.concatenate([a1[np.any(W[1] != 0, -1)], a2[np.any(W[2] != 0, -1)]]))
     Bk = np.stack([W[1] * (a1 == al)[..., None] + W[2] * (a2 == al)[..., None] for al in alphas]) if len(alphas) else np.zeros((0, nc, na, 5))

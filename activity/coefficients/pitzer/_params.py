@@ -46,7 +46,7 @@ _COEFFS = {
 }
 _KIND = {("salt", 2): "salt", ("mixing", 2): "theta", ("mixing", 3): "psi", ("neutral", 2): "lambda", ("neutral", 3): "zeta"}
 _COMMON = {"source", "note", "celsius", "max_molality"}
-_SALT_ONLY = {"alpha1", "alpha2"}
+_SALT_ONLY = {"alpha1", "alpha2", "max_ionic_strength"}
 
 
 def basis(T: Any) -> np.ndarray:
@@ -69,6 +69,7 @@ class Entry:
     alpha: tuple
     T_range: tuple
     max_molality: float
+    max_ionic_strength: float | None
     source: str
     note: str
     origin: str
@@ -203,7 +204,13 @@ def _entry(section: str, raw: str, body: Any, origin: str) -> Entry:
         for a, v in zip(("alpha1", "alpha2"), alpha):
             if v is not None and v <= 0:
                 raise _fail(origin, f"{where}.{a}", "must be positive", v)
-    return Entry(key[0], key[1:], coeffs, alpha, (lo + ZERO_CELSIUS, hi + ZERO_CELSIUS), mmax, source, note, origin)
+    i_max = None
+    if "max_ionic_strength" in body:
+        i_max = _number(body["max_ionic_strength"], origin, f"{where}.max_ionic_strength")
+        if i_max <= 0:
+            raise _fail(origin, f"{where}.max_ionic_strength", "must be positive", i_max)
+    T_range = (lo + ZERO_CELSIUS, hi + ZERO_CELSIUS)
+    return Entry(key[0], key[1:], coeffs, alpha, T_range, mmax, i_max, source, note, origin)
 
 
 def parse_parameters(doc: Mapping[str, Any], origin: str) -> ParameterSet:
