@@ -1,0 +1,319 @@
+"""From a measured potential back to the activity and the molality of the determinand.
+
+Two questions, two functions:
+
+* :func:`activity_from_potential` — the activity that makes an electrode read E in a
+  given solution (the other species' activities taken from that solution as it is);
+  a closed form, no iteration.
+* :func:`molality_from_potential` and :func:`molality_from_emf` — the molality of the
+  determinand in a stated sample matrix. The activity coefficient depends on the ionic
+  strength, which depends on the unknown, so the equation E(m) = E_measured is solved
+  for ln m by a vectorised secant iteration (every row at once) to a relative change
+  below ``rtol`` (default 1e-10); rows that do not converge raise
+  :class:`~activity.errors.ConvergenceError` naming them.
+"""
+from __future__ import annotations
+
+import warnings
+from dataclasses import dataclass
+from typing import Any, Callable, Mapping
+
+import numpy as np
+
+from . import _checks
+from .cell import Cell
+from .coefficients import resolve_model
+from .constants import F, LN10, R
+from .electrodes import IonSelectiveElectrode
+from .errors import ActivityWarning, ConvergenceError, InputError
+from .nernst import HalfReaction
+from .solution import Solution
+from .species import parse_species
+
+__all__ = ["InverseResult", "activity_from_potential", "molality_from_potential", "molality_from_emf"]
+
+_LN_M_MIN, _LN_M_MAX = np.log(1e-16), np.log(30.0)
+
+
+@dataclass(frozen=True)
+class InverseResult:
+    """The determinand found from a measured potential.
+
+    Attributes
+    ----------
+    species : str
+    molality : float or ndarray
+        mol/kg in the sample.
+    activity : float or ndarray
+        a = γ m at that molality.
+    gamma : float or ndarray
+        Activity coefficient of the determinand.
+    ionic_strength : float or ndarray
+        Of the sample with the determinand (and its counter-ion) added.
+    iterations : int
+        Secant iterations used (0 for a closed form).
+    solution : Solution
+        The sample as solved.
+    model : str
+    notes : tuple of str
+    """
+
+    species: str
+    molality: Any
+    activity: Any
+    gamma: Any
+    ionic_strength: Any
+    iterations: int
+    solution: Solution
+    model: str
+    notes: tuple = ()
+
+
+def _determinand(electrode: Any, species: str | None) -> str:
+    if isinstance(electrode, IonSelectiveElectrode):
+        name = electrode.ion
+        if species is not None and parse_species(species).name != name:
+            raise InputError(f"the electrode responds to {name}", field="species", value=species)
+        return name
+    if isinstance(electrode, HalfReaction):
+        options = electrode.determinands
+        if species is None:
+            if len(options) != 1:
+                raise InputError(f"say which species to solve for: one of {options}", field="species", value=None)
+            return options[0]
+        name = parse_species(species).name
+        if name not in options:
+            raise InputError(f"not a dissolved species of {electrode.name} (choose from {options})", field="species", value=species)
+        return name
+    raise InputError("expected a HalfReaction or an IonSelectiveElectrode", field="electrode", value=type(electrode).__name__)
+
+
+def activity_from_potential(electrode: Any, E: Any, sol: Solution, model: Any = "davies", species: str | None = None, **kw: Any) -> Any:
+    """Activity of the determinand that makes ``electrode`` read ``E`` in ``sol``.
+
+    The other species' activities (and, for an ion-selective electrode, the interfering
+    ions) are those of ``sol`` under ``model``; the determinand's own molality in
+    ``sol`` is not used except through the ionic strength.
+
+    Parameters
+    ----------
+    electrode : HalfReaction or IonSelectiveElectrode
+    E : array_like
+        Measured electrode potential, V (vs SHE, or the scale of the electrode's E0).
+    sol : Solution
+    model : str or ActivityModel
+    species : str, optional
+        Which species to solve for when a half-reaction has several.
+    **kw
+        ``pressures=`` for half-reactions with gases.
+
+    Examples
+    --------
+    >>> from activity import Solution
+    >>> from activity.nernst import standard_couple
+    >>> hr = standard_couple("AgCl/Ag")
+    >>> round(activity_from_potential(hr, 0.3405, Solution({"Na+": 0.1, "NO3-": 0.1})), 6)
+    0.010058
+    """
+    name = _determinand(electrode, species)
+    E = _checks.finite_array(E, "E")
+    T = np.asarray(sol.T_compact, float)
+    if isinstance(electrode, HalfReaction):
+        ref = electrode.evaluate(sol, model, activities={name: 1.0}, **kw).potential
+        i = electrode.species.index(name)
+        ln_a = (np.asarray(ref) - E) * electrode.n * F / (R * T * electrode.nu[i])
+        return _checks.scalar_or_array(np.exp(ln_a))
+    probe = sol if name in sol.species else sol.replace({name: 0.0})
+    g = resolve_model(model).activity_coefficients(probe)
+    _, present, zj, aj, _ = electrode._terms(probe, g.log10_gamma)
+    E0 = electrode.E0 + electrode.dE0dT * (T - 298.15)
+    total = 10.0 ** ((E - E0) / electrode.slope(T))  # slope carries 1/z
+    K = np.array([electrode.selectivity[j] for j in present]).reshape((-1,) + (1,) * (aj.ndim - 1))
+    zi = electrode.z
+    interf = np.sum(K * aj ** (zi / np.array(zj, float).reshape(K.shape)), axis=0) if present else 0.0
+    a = total - interf
+    if np.any(a <= 0):
+        rows = np.flatnonzero(np.ravel(a <= 0))[:10].tolist()
+        raise InputError(f"potential at or below what the interfering ions alone give (rows {rows})", field="E", value=None)
+    return _checks.scalar_or_array(a)
+
+
+def _counter_amount(species: str, counter_ion: str | None) -> tuple[str | None, float]:
+    if counter_ion is None:
+        return None, 0.0
+    zc = parse_species(counter_ion).charge
+    zd = parse_species(species).charge
+    if zc == 0 or zd == 0 or np.sign(zc) == np.sign(zd):
+        raise InputError("the counter-ion must carry charge opposite to the determinand", field="counter_ion", value=counter_ion)
+    return parse_species(counter_ion).name, abs(zd / zc)
+
+
+def _solve(
+    forward: Callable[[Solution], Any],
+    target: Any,
+    matrix: Solution,
+    species: str,
+    counter_ion: str | None,
+    model: Any,
+    rtol: float,
+    max_iter: int,
+) -> InverseResult:
+    if not isinstance(matrix, Solution):
+        raise InputError("expected an activity.Solution for the sample matrix", field="matrix", value=type(matrix).__name__)
+    counter, ratio = _counter_amount(species, counter_ion)
+    base_c = np.asarray(matrix.molality(counter), float) if counter else 0.0
+    base_d = np.asarray(matrix.molality(species), float)
+    if np.any(base_d > 0):
+        raise InputError("the matrix already holds the determinand; give the matrix without it", field="matrix", value=species)
+    target = _checks.finite_array(target, "potential")
+    shape = np.broadcast_shapes(matrix.shape, target.shape)
+
+    def build(x: np.ndarray) -> Solution:
+        m = np.exp(x)
+        comp = {species: m}
+        if counter:
+            comp[counter] = base_c + ratio * m
+        return matrix.replace(comp, neutrality="ignore")
+
+    def f(x: np.ndarray) -> np.ndarray:
+        return np.broadcast_to(np.asarray(forward(build(x)), float), shape) - target
+
+    x0 = np.full(shape, np.log(1e-3))
+    x1 = np.full(shape, np.log(1e-2))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ActivityWarning)
+        f0, f1 = f(x0), f(x1)
+        done = np.zeros(shape, bool)
+        it = 0
+        for it in range(1, max_iter + 1):
+            df = f1 - f0
+            ok = (df != 0) & ~done
+            step = np.where(ok, -f1 * (x1 - x0) / np.where(ok, df, 1.0), 0.0)
+            step = np.clip(step, -5.0, 5.0)
+            x2 = np.clip(x1 + step, _LN_M_MIN, _LN_M_MAX)
+            inside = (x2 > _LN_M_MIN) & (x2 < _LN_M_MAX)
+            done |= (np.abs(x2 - x1) <= rtol) & inside
+            x0, f0, x1 = x1, f1, x2
+            if np.all(done):
+                break
+            f1 = f(x1)
+    if not np.all(done):
+        rows = np.flatnonzero(~np.ravel(done))
+        raise ConvergenceError(
+            f"no molality of {species} between 1e-16 and 30 mol/kg reproduces the potential within "
+            f"{max_iter} iterations in {rows.size} row(s): {rows[:10].tolist()}",
+            rows=rows,
+        )
+    sol = build(x1)
+    g = resolve_model(model).activity_coefficients(sol)
+    j = sol.index(species)
+    gamma = 10.0 ** g.log10_gamma[j]
+    notes = list(g.notes)
+    if counter is None:
+        notes.append(f"{species} added without a counter-ion (counter_ion=None): the sample's charge balance ignores it")
+    return InverseResult(
+        species,
+        _checks.scalar_or_array(sol.m[j].copy()),
+        _checks.scalar_or_array(gamma * sol.m[j]),
+        _checks.scalar_or_array(gamma),
+        sol.ionic_strength,
+        it,
+        sol,
+        g.model,
+        tuple(notes),
+    )
+
+
+def molality_from_potential(
+    electrode: Any,
+    E: Any,
+    matrix: Solution,
+    model: Any = "davies",
+    *,
+    species: str | None = None,
+    counter_ion: str | None = None,
+    pressures: Mapping[str, Any] | None = None,
+    rtol: float = 1e-10,
+    max_iter: int = 60,
+) -> InverseResult:
+    """Molality of the determinand in ``matrix`` from a measured electrode potential.
+
+    Parameters
+    ----------
+    electrode : HalfReaction or IonSelectiveElectrode
+    E : array_like
+        Measured potential, V (broadcasts with the matrix batch).
+    matrix : Solution
+        The sample without the determinand (background electrolyte, other ions, T).
+    model : str or ActivityModel, default 'davies'
+    species : str, optional
+        Determinand, when a half-reaction involves several dissolved species.
+    counter_ion : str, optional
+        Ion added with the determinand in the electroneutral amount (e.g. ``'Cl-'`` for
+        CaCl2); without one only the determinand enters the ionic strength (noted).
+    pressures : Mapping, optional
+        Gas partial pressures (Pa) for half-reactions with gases.
+    rtol : float, default 1e-10
+        Convergence: change of ln m (relative change of m) per iteration.
+    max_iter : int, default 60
+
+    Returns
+    -------
+    InverseResult
+
+    Examples
+    --------
+    >>> from activity import Solution
+    >>> from activity.electrodes import IonSelectiveElectrode
+    >>> ise = IonSelectiveElectrode("Ca^2+", E0=0.1)
+    >>> matrix = Solution({"K+": 0.1, "Cl-": 0.1})
+    >>> res = molality_from_potential(ise, 0.0, matrix, counter_ion="Cl-")
+    >>> round(res.molality, 6), round(res.activity, 6)
+    (0.001128, 0.000416)
+    """
+    name = _determinand(electrode, species)
+    if isinstance(electrode, HalfReaction):
+        def forward(s: Solution) -> Any:
+            return electrode.evaluate(s, model, pressures=pressures).potential
+    else:
+        def forward(s: Solution) -> Any:
+            return electrode.evaluate(s, model).potential
+    return _solve(forward, E, matrix, name, counter_ion, model, rtol, max_iter)
+
+
+def molality_from_emf(
+    cell: Cell,
+    emf: Any,
+    matrix: Solution,
+    model: Any = "davies",
+    *,
+    species: str,
+    counter_ion: str | None = None,
+    pressures: Mapping[str, Any] | None = None,
+    rtol: float = 1e-10,
+    max_iter: int = 60,
+) -> InverseResult:
+    """Molality of ``species`` in the sample from a measured cell EMF.
+
+    The sample is the solution of every compartment that is not a reference
+    electrode's filling; the junction term (if the cell has one) is recomputed at each
+    step, since it too depends on the unknown.
+
+    Examples
+    --------
+    >>> from activity import Solution
+    >>> from activity.electrodes import IonSelectiveElectrode, silver_chloride_electrode
+    >>> cell = Cell(left=silver_chloride_electrode(3.0), right=IonSelectiveElectrode("Ca^2+", E0=0.05))
+    >>> matrix = Solution({"K+": 0.1, "Cl-": 0.1})
+    >>> emf = cell.emf(Solution({"Ca^2+": 0.002, "K+": 0.1, "Cl-": 0.104}))
+    >>> round(molality_from_emf(cell, emf, matrix, species="Ca2+", counter_ion="Cl-").molality, 9)
+    0.002
+    """
+    if not isinstance(cell, Cell):
+        raise InputError("expected an activity.cell.Cell", field="cell", value=type(cell).__name__)
+    name = parse_species(species).name
+
+    def forward(s: Solution) -> Any:
+        return cell.evaluate(s, model, pressures=pressures).emf
+
+    return _solve(forward, emf, matrix, name, counter_ion, model, rtol, max_iter)
