@@ -29,6 +29,7 @@ __all__ = [
     "ReferenceElectrode",
     "silver_chloride_electrode",
     "calomel_electrode",
+    "common_practice_potential",
     "IonSelectiveElectrode",
 ]
 
@@ -141,6 +142,28 @@ def calomel_electrode(filling: Any = "saturated", **kw: Any) -> ReferenceElectro
     0.241
     """
     return ReferenceElectrode("Hg2Cl2/Hg", filling, **kw)
+
+
+def common_practice_potential(kind: str, filling: Any) -> tuple[float, str] | None:
+    """The potential of common practice at 25 °C for comparison, with its source, or None.
+
+    Parameters
+    ----------
+    kind : {'silver-chloride', 'calomel'}
+    filling : 'saturated' or float
+        KCl in mol/L.
+
+    Examples
+    --------
+    >>> common_practice_potential("calomel", "saturated")[0]
+    0.241
+    """
+    table = data.load("reference_electrodes")["common_practice"]
+    label = "saturated" if isinstance(filling, str) and filling.strip().lower() == "saturated" else f"{float(filling):g} mol/L"
+    for entry in table["values"]:
+        if entry["electrode"] == kind and entry["filling"] == label:
+            return float(entry["E"]), f"{table['source']} ({table['note']})"
+    return None
 
 
 class IonSelectiveElectrode:

@@ -256,3 +256,53 @@ def test_ise_calibration_against_reference():
     res = cell.evaluate(std, "davies")
     a_ca = act.activities(std, "davies")["Ca^2+"]
     assert np.allclose(res.emf, S25 / 2 * np.log10(a_ca) - res.left_potential, atol=1e-13, rtol=0)
+
+
+# ------------------------------------------------------------------ command line
+def _run_cli(capsys, *argv):
+    from activity.cli import main
+
+    rc = main(list(argv))
+    out = capsys.readouterr()
+    return rc, out.out, out.err
+
+
+def test_cli_potential_and_cell(capsys):
+    import json
+
+    rc, out, _ = _run_cli(capsys, "potential", "AgCl/Ag", "K+=0.01 mol/kg", "Cl-=0.01 mol/kg", "--json")
+    assert rc == 0
+    doc = json.loads(out)
+    sol = act.Solution({"K+": 0.01, "Cl-": 0.01})
+    assert doc["results"]["E"]["value"] == pytest.approx(standard_couple("AgCl/Ag").potential(sol, "davies"), abs=1e-15)
+    rc, out, _ = _run_cli(capsys, "cell", "--left", "H+/H2", "--right", "AgCl/Ag", "H+=0.01 mol/kg", "Cl-=0.01 mol/kg", "--csv")
+    assert rc == 0
+    emf = float([line for line in out.splitlines() if line.startswith("EMF,")][0].split(",")[1])
+    assert emf == pytest.approx(harned_cell().emf(HCL, "davies"), abs=1e-15)
+
+
+def test_cli_reference_and_invert(capsys):
+    rc, out, _ = _run_cli(capsys, "reference", "calomel")
+    assert rc == 0 and "common practice" in out
+    rc, out, _ = _run_cli(capsys, "invert", "--couple", "Ag+/Ag", "--reading", "500 mV", "K+=0.1 mol/kg", "NO3-=0.1 mol/kg", "--json")
+    assert rc == 0
+    import json
+
+    m = json.loads(out)["results"]["molality"]["value"]
+    back = standard_couple("Ag+/Ag").potential(act.Solution({"K+": 0.1, "NO3-": 0.1, "Ag+": m}, neutrality="ignore"), "davies")
+    assert back == pytest.approx(0.5, abs=1e-12)
+
+
+@pytest.mark.parametrize(
+    "argv, field",
+    [
+        (("potential", "Foo/Bar", "K+=0.1 mol/kg", "Cl-=0.1 mol/kg"), "couple"),
+        (("reference", "calomel", "--filling", "3 g/L"), "filling"),
+        (("invert", "--reading", "0.5 V", "K+=0.1 mol/kg", "Cl-=0.1 mol/kg"), "electrode"),
+        (("invert", "--ise", "Ca2+", "--reading", "0.5", "K+=0.1 mol/kg", "Cl-=0.1 mol/kg"), "e0"),
+    ],
+)
+def test_cli_errors_are_one_line_exit_2(capsys, argv, field):
+    rc, _, err = _run_cli(capsys, *argv)
+    assert rc == 2
+    assert err.count("\n") == 1 and field in err
