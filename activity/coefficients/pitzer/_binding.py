@@ -36,9 +36,10 @@ class Bound:
     alphas: np.ndarray  # distinct α values (K,)
     blocks: dict  # name -> weights array (..., 5)
     flags: dict  # name -> bool, whether the block has any non-zero weight
-    etheta_c: tuple  # ((zi, zj, mask (n_c, n_c)), ...) unlike-charge cation pairs
+    etheta_c: tuple  # ((zi, zj, mask (n_c, n_c)), ...) per unlike-charge combination
     etheta_a: tuple
     checks: tuple  # ((label, species index array, I_max, T_min, T_max), ...)
+    check_arrays: tuple  # the same as arrays: (index (n_checks, 3), I_max, T_min, T_max)
     missing: tuple
     notes: tuple
     _cache: dict = field(default_factory=dict, repr=False)
@@ -104,7 +105,7 @@ def bind(params: ParameterSet, species: tuple, charges: np.ndarray) -> Bound:
         n, no = len(names), len(opp_names)
         th = np.zeros((n, n, 5))
         ps = np.zeros((n, n, no, 5))
-        et = []
+        et: dict = {}
         for (i, p), (j, q) in combinations(enumerate(names), 2):
             key = tuple(sorted((p, q)))
             th[i, j] = th[j, i] = _weights(params, "theta", key, "theta")
@@ -112,15 +113,15 @@ def bind(params: ParameterSet, species: tuple, charges: np.ndarray) -> Bound:
             if e is not None:
                 checks.append((f"θ {p} {q}", np.array([idx[i], idx[j]]), np.inf, *e.T_range))
             if zs[i] != zs[j]:
-                mask = np.zeros((n, n))
+                zkey = (float(min(zs[i], zs[j], key=abs)), float(max(zs[i], zs[j], key=abs)))
+                mask = et.setdefault(zkey, np.zeros((n, n)))
                 mask[i, j] = mask[j, i] = 1.0
-                et.append((float(zs[i]), float(zs[j]), mask))
             for k, o in enumerate(opp_names):
                 ps[i, j, k] = ps[j, i, k] = _weights(params, "psi", (*key, o), "psi")
                 e = params.get(("psi", *key, o))
                 if e is not None:
                     checks.append((f"ψ {p} {q} {o}", np.array([idx[i], idx[j], opp_idx[k]]), np.inf, *e.T_range))
-        return th, ps, tuple(et)
+        return th, ps, tuple((zi, zj, mask) for (zi, zj), mask in et.items())
 
     thc, psc, etc = same_sign(C, zc, cat, A, an, "c")
     tha, psa, eta = same_sign(A, za, an, C, cat, "a")  # psa[a, a', c]
@@ -158,9 +159,19 @@ def bind(params: ParameterSet, species: tuple, charges: np.ndarray) -> Bound:
         zA=zeta.transpose(2, 0, 1, 3).reshape(na, nn * nc, 5),
     )
     flags = {k: bool(np.any(v)) for k, v in blocks.items()}
+    check_idx = np.full((len(checks), 3), ns, dtype=int)  # padded with ns: an always-present row
+    for r, c in enumerate(checks):
+        check_idx[r, : len(c[1])] = c[1]
+    check_arrays = (
+        check_idx,
+        np.array([c[2] for c in checks], dtype=float),
+        np.array([c[3] for c in checks], dtype=float),
+        np.array([c[4] for c in checks], dtype=float),
+    )
     notes = ()
     if missing:
         notes = (f"pitzer: no parameters for {', '.join(missing)}; those terms are absent",)
     return Bound(
-        tuple(species), z, cat, an, neu, alphas, blocks, flags, etc, eta, tuple(checks), tuple(missing), notes
+        tuple(species), z, cat, an, neu, alphas, blocks, flags, etc, eta, tuple(checks), check_arrays,
+        tuple(missing), notes,
     )

@@ -57,12 +57,16 @@ def _outer(u: np.ndarray, v: np.ndarray) -> np.ndarray:
     return (u[:, None, :] * v[None, :, :]).reshape(u.shape[0] * v.shape[0], -1)
 
 
-def _etheta_sums(pairs, m, Aphi, I):
-    """Σ_j Eθ_ij m_j (per ion) and Σ_{i<j} m_i m_j Eθ′_ij for unlike-charge pairs."""
+def _etheta_sums(pairs, m, Aphi, I, cache):
+    """Σ_j Eθ_ij m_j (per ion) and Σ_{i<j} m_i m_j Eθ′_ij for unlike-charge pairs.
+
+    ``pairs`` holds one (zi, zj, mask) per distinct charge combination; ``mask`` marks
+    every ion pair with those charges.
+    """
     em = np.zeros_like(m)
     sp = np.zeros(m.shape[1:])
     for zi, zj, mask in pairs:
-        et, etp = e_theta(zi, zj, Aphi, I)
+        et, etp = e_theta(zi, zj, Aphi, I, cache)
         mm = mask @ m
         em += et * mm
         sp += 0.5 * etp * np.sum(m * mm, axis=0)
@@ -102,8 +106,9 @@ def evaluate(bound, P: dict, rowwise: bool, m: np.ndarray, I: np.ndarray, Aphi, 
     # like-charge mixing
     PhiC = _dot(P["thc"], mc, rowwise) if f["thc"] else np.zeros_like(mc)
     PhiA = _dot(P["tha"], ma, rowwise) if f["tha"] else np.zeros_like(ma)
-    e_c, spc = _etheta_sums(bound.etheta_c, mc, Aphi, I)
-    e_a, spa = _etheta_sums(bound.etheta_a, ma, Aphi, I)
+    jcache: dict = {}
+    e_c, spc = _etheta_sums(bound.etheta_c, mc, Aphi, I, jcache)
+    e_a, spa = _etheta_sums(bound.etheta_a, ma, Aphi, I, jcache)
     PhiC += e_c
     PhiA += e_a
     PsiC = _dot(P["psiC"], mm, rowwise) if f["psiC"] else 0.0 * mc

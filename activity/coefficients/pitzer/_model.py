@@ -186,26 +186,32 @@ class PitzerModel(ActivityModel):
         )
 
     def _pair_checks(self, sol, bound) -> tuple[np.ndarray, tuple]:
-        ok = np.ones(sol.shape, dtype=bool)
+        """Rows beyond an interaction's fitted ionic strength or temperature range."""
         if not bound.checks:
-            return ok, ()
-        I = np.asarray(sol.ionic_strength, dtype=float)
-        T = np.broadcast_to(sol.T_compact, sol.shape)
+            return np.ones(sol.shape, dtype=bool), ()
+        idx, i_max, t_lo, t_hi = bound.check_arrays
+        n, N = len(sol.species), sol.size
+        pos = np.ones((n + 1, N), dtype=bool)
+        pos[:n] = sol.m.reshape(n, N) > 0
+        present = pos[idx].all(axis=1)  # (n_checks, N)
+        I = np.asarray(sol.ionic_strength, dtype=float).reshape(N)
+        T = np.asarray(sol.T_compact, dtype=float)
+        T = T.reshape(()) if T.size == 1 else np.broadcast_to(T, sol.shape).reshape(N)
+        high = present & (I > i_max[:, None] * (1 + 1e-9))
+        cold = present & ((T < t_lo[:, None] - 1e-9) | (T > t_hi[:, None] + 1e-9))
         notes = []
-        for label, idx, i_max, t_lo, t_hi in bound.checks:
-            present = np.all(sol.m[idx] > 0, axis=0)
-            high = present & (I > i_max * (1 + 1e-9))
-            cold = present & ((T < t_lo - 1e-9) | (T > t_hi + 1e-9))
-            if np.any(high):
+        for r in np.flatnonzero(high.any(axis=1) | cold.any(axis=1)):
+            label = bound.checks[r][0]
+            nh, nc = int(np.count_nonzero(high[r])), int(np.count_nonzero(cold[r]))
+            if nh:
                 notes.append(
-                    f"pitzer: {label} parameters hold to I = {i_max:g} mol/kg (the binary solution's "
-                    f"fitted range); I up to {float(np.max(I[high])):.4g} in {int(np.count_nonzero(high))} "
-                    f"of {sol.size} row(s)"
+                    f"pitzer: {label} parameters hold to I = {i_max[r]:g} mol/kg; "
+                    f"I up to {float(np.max(I[high[r]])):.4g} in {nh} of {N} row(s)"
                 )
-            if np.any(cold):
+            if nc:
                 notes.append(
-                    f"pitzer: {label} parameters hold at {t_lo - ZERO_CELSIUS:g}–{t_hi - ZERO_CELSIUS:g} °C; "
-                    f"outside in {int(np.count_nonzero(cold))} of {sol.size} row(s)"
+                    f"pitzer: {label} parameters hold at {t_lo[r] - ZERO_CELSIUS:g}–{t_hi[r] - ZERO_CELSIUS:g} °C; "
+                    f"outside in {nc} of {N} row(s)"
                 )
-            ok &= ~(high | cold)
-        return ok, tuple(notes)
+        ok = ~(high | cold).any(axis=0)
+        return ok.reshape(sol.shape), tuple(notes)

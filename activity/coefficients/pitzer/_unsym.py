@@ -41,10 +41,12 @@ def j_pitzer1975(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return J, dJ
 
 
-def e_theta(zi: float, zj: float, Aphi, I: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def e_theta(zi: float, zj: float, Aphi, I: np.ndarray, cache: dict | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Eθ and Eθ′ (kg/mol and kg²/mol²) for charges ``zi``, ``zj`` of the same sign.
 
-    Broadcasts over ``Aphi`` and ``I``; both are 0 where I = 0 or zi = zj.
+    Broadcasts over ``Aphi`` and ``I``; both are 0 where I = 0 or zi = zj. ``cache``
+    (a dict, optional) keeps J(x) and x J′(x) per charge product for reuse with the same
+    ``Aphi`` and ``I``.
 
     Examples
     --------
@@ -59,9 +61,16 @@ def e_theta(zi: float, zj: float, Aphi, I: np.ndarray) -> tuple[np.ndarray, np.n
     pos = I > 0
     Is = np.where(pos, I, 1.0)
     base = 6.0 * Aphi * np.sqrt(Is)
+    cache = {} if cache is None else cache
+
+    def jx(p):
+        if p not in cache:
+            J, dJ = j_pitzer1975(p * base)
+            cache[p] = (J, p * base * dJ)
+        return cache[p]
+
     zz = zi * zj
-    xs = (zz * base, zi * zi * base, zj * zj * base)
-    (Jij, dij), (Jii, dii), (Jjj, djj) = (j_pitzer1975(x) for x in xs)
+    (Jij, xdij), (Jii, xdii), (Jjj, xdjj) = jx(zz), jx(zi * zi), jx(zj * zj)
     et = zz / (4.0 * Is) * (Jij - 0.5 * Jii - 0.5 * Jjj)
-    etp = -et / Is + zz / (8.0 * Is * Is) * (xs[0] * dij - 0.5 * xs[1] * dii - 0.5 * xs[2] * djj)
+    etp = -et / Is + zz / (8.0 * Is * Is) * (xdij - 0.5 * xdii - 0.5 * xdjj)
     return np.where(pos, et, 0.0), np.where(pos, etp, 0.0)
