@@ -44,7 +44,7 @@ def j_pitzer1975(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 def e_theta(zi: float, zj: float, Aphi, I: np.ndarray, cache: dict | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Eθ and Eθ′ (kg/mol and kg²/mol²) for charges ``zi``, ``zj`` of the same sign.
 
-    Broadcasts over ``Aphi`` and ``I``; both are 0 where I = 0 or zi = zj. ``cache``
+    Broadcasts over ``Aphi`` and ``I``; both are 0 where I ≤ 1e-20 mol/kg or zi = zj. ``cache``
     (a dict, optional) keeps J(x) and x J′(x) per charge product for reuse with the same
     ``Aphi`` and ``I``.
 
@@ -58,7 +58,9 @@ def e_theta(zi: float, zj: float, Aphi, I: np.ndarray, cache: dict | None = None
     if zi == zj:
         z = np.zeros(np.broadcast_shapes(np.shape(Aphi), I.shape))
         return z, z.copy()
-    pos = I > 0
+    # Below I = 1e-20 mol/kg the terms (multiplied by m_i m_j ≤ 4I²) are negligible, and
+    # Eθ′ ~ 1/I² would overflow; they are set to 0 there.
+    pos = I > 1e-20
     Is = np.where(pos, I, 1.0)
     base = 6.0 * Aphi * np.sqrt(Is)
     cache = {} if cache is None else cache
