@@ -159,3 +159,15 @@ def test_inside_every_range_no_warning():
         res = PitzerModel().activity_coefficients(Solution({"K+": 0.5, "Na+": 0.5, "Cl-": 1.0}, T=303.15))
     assert res.in_range is True and res.notes == ()
     assert 0 < res.water_activity < 1
+
+
+def test_edge_species_sets_and_batch_shapes():
+    model = PitzerModel()
+    with pytest.warns(act.CoverageWarning, match="CO2"):
+        only_neutral = model.activity_coefficients(Solution({"CO2": 0.01}))
+    assert only_neutral["CO2"] == 1.0 and only_neutral.missing == ("CO2 (no λ)",)
+    m = np.full((2, 3), 0.5)
+    sol = Solution({"Na+": m, "Cl-": 0.5, "Mg^2+": 0.1, "SO4^2-": 0.1}, T=np.array([[290.0], [300.0]]))
+    res = model.activity_coefficients(sol)
+    assert res.log10_gamma.shape == (4, 2, 3) and res.osmotic_coefficient.shape == (2, 3)
+    assert np.allclose(res.log10_gamma[:, 0, 0], model.log10_gamma(Solution({"Na+": 0.5, "Cl-": 0.5, "Mg^2+": 0.1, "SO4^2-": 0.1}, T=290.0)))

@@ -16,9 +16,12 @@ from ._params import ParameterSet, basis
 
 __all__ = ["Bound", "bind"]
 
-#: Default α rules (Pitzer 1991, ch. 3; common practice): α1 = 2.0 (kg/mol)^½ with β2
-#: unused, except for 2:2 electrolytes, where α1 = 1.4 and α2 = 12 (Pitzer & Mayorga 1974).
 def default_alpha(zc: int, za: int) -> tuple[float, float]:
+    """(α1, α2) in (kg/mol)^½ by charge type (Pitzer 1991, ch. 3; common practice).
+
+    α1 = 2.0 (α2 = 12, used only where a β2 is given, e.g. Ca–OH of Harvie, Møller &
+    Weare 1984), except for 2:2 electrolytes: α1 = 1.4, α2 = 12 (Pitzer & Mayorga 1974).
+    """
     if abs(zc) == 2 and abs(za) == 2:
         return 1.4, 12.0
     return 2.0, 12.0
@@ -71,14 +74,14 @@ def bind(params: ParameterSet, species: tuple, charges: np.ndarray) -> Bound:
     """Precompute index arrays and weight blocks for ``species``."""
     z = np.asarray(charges, dtype=float)
     cat, an, neu = (np.flatnonzero(c) for c in (z > 0, z < 0, z == 0))
-    C, A, Nn = ([species[i] for i in idx] for idx in (cat, an, neu))
-    nc, na, nn, ns = len(C), len(A), len(Nn), len(species)
+    Cn, A, Nn = ([species[i] for i in idx] for idx in (cat, an, neu))
+    nc, na, nn, ns = len(Cn), len(A), len(Nn), len(species)
     zc, za = z[cat], z[an]
     W = np.zeros((4, nc, na, 5))  # beta0, beta1, beta2, cphi
     a1 = np.zeros((nc, na))
     a2 = np.zeros((nc, na))
     checks, missing = [], []
-    for i, c in enumerate(C):
+    for i, c in enumerate(Cn):
         for j, a in enumerate(A):
             e = params.get(("salt", c, a))
             d1, d2 = default_alpha(int(zc[i]), int(za[j]))
@@ -97,11 +100,14 @@ def bind(params: ParameterSet, species: tuple, charges: np.ndarray) -> Bound:
                 i_max = 0.5 * e.max_molality * (nu_c * zc[i] ** 2 + nu_a * za[j] ** 2) / g
             checks.append((f"{c} {a}", np.array([cat[i], an[j]]), i_max, *e.T_range))
     alphas = np.unique(np.concatenate([a1[np.any(W[1] != 0, -1)], a2[np.any(W[2] != 0, -1)]]))
-    Bk = np.stack([W[1] * (a1 == al)[..., None] + W[2] * (a2 == al)[..., None] for al in alphas]) if len(alphas) else np.zeros((0, nc, na, 5))
-    cfac = 1.0 / (2.0 * np.sqrt(np.abs(np.outer(zc, za))))[..., None] if nc and na else np.zeros((nc, na, 1))
-    blocks = {"b0": W[0], "b0T": W[0].swapaxes(0, 1), "Bk": Bk, "BkT": Bk.swapaxes(1, 2), "C": W[3] * cfac, "CT": (W[3] * cfac).swapaxes(0, 1)}
+    # β1 and β2 regrouped by α value: B = β0 + Σ_k Bk g(α_k √I)
+    Bk = np.zeros((len(alphas), nc, na, 5))
+    for k, al in enumerate(alphas):
+        Bk[k] = W[1] * (a1 == al)[..., None] + W[2] * (a2 == al)[..., None]
+    C = W[3] / (2.0 * np.sqrt(np.abs(np.outer(zc, za))))[..., None]  # C = Cφ / (2 √|z_c z_a|)
+    blocks = {"b0": W[0], "b0T": W[0].swapaxes(0, 1), "Bk": Bk, "BkT": Bk.swapaxes(1, 2), "C": C, "CT": C.swapaxes(0, 1)}
 
-    def same_sign(names, zs, idx, opp_names, opp_idx, tag):
+    def same_sign(names, zs, idx, opp_names, opp_idx):
         n, no = len(names), len(opp_names)
         th = np.zeros((n, n, 5))
         ps = np.zeros((n, n, no, 5))
@@ -123,8 +129,8 @@ def bind(params: ParameterSet, species: tuple, charges: np.ndarray) -> Bound:
                     checks.append((f"ψ {p} {q} {o}", np.array([idx[i], idx[j], opp_idx[k]]), np.inf, *e.T_range))
         return th, ps, tuple((zi, zj, mask) for (zi, zj), mask in et.items())
 
-    thc, psc, etc = same_sign(C, zc, cat, A, an, "c")
-    tha, psa, eta = same_sign(A, za, an, C, cat, "a")  # psa[a, a', c]
+    thc, psc, etc = same_sign(Cn, zc, cat, A, an)
+    tha, psa, eta = same_sign(A, za, an, Cn, cat)  # psa[a, a', c]
     blocks.update(
         thc=thc,
         tha=tha,
@@ -146,7 +152,7 @@ def bind(params: ParameterSet, species: tuple, charges: np.ndarray) -> Bound:
                 found = True
         if not found:
             missing.append(f"{n} (no λ)")
-        for i, c in enumerate(C):
+        for i, c in enumerate(Cn):
             for j, a in enumerate(A):
                 e = params.get(("zeta", n, c, a))
                 if e is not None:

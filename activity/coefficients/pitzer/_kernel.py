@@ -54,7 +54,7 @@ def _dot(A: np.ndarray, x: np.ndarray, rowwise: bool) -> np.ndarray:
 
 
 def _outer(u: np.ndarray, v: np.ndarray) -> np.ndarray:
-    return (u[:, None, :] * v[None, :, :]).reshape(u.shape[0] * v.shape[0], -1)
+    return (u[:, None, :] * v[None, :, :]).reshape(u.shape[0] * v.shape[0], u.shape[1])
 
 
 def _etheta_sums(pairs, m, Aphi, I, cache):
