@@ -19,8 +19,8 @@ from .coefficients import ActivityModel, resolve_model
 from .constants import LN10, T_REF, ZERO_CELSIUS
 from .electrochem import nernst_slope
 from .errors import InputError
-from .membrane import nikolsky_eisenman
-from .nernst import ElectrodeResult, HalfReaction, _quiet_validity, best_available_model, standard_couple
+from .membrane import nikolsky_eisenman_core
+from .nernst import ElectrodeResult, HalfReaction, LazyMapping, _quiet_validity, best_available_model, standard_couple
 from .solution import Solution
 from .species import parse_species
 
@@ -32,6 +32,11 @@ __all__ = [
     "common_practice_potential",
     "IonSelectiveElectrode",
 ]
+
+
+def _log10_or_nan(a: np.ndarray) -> Any:
+    with np.errstate(divide="ignore"):
+        return _checks.scalar_or_array(np.where(a > 0, np.log10(a), -np.inf))
 
 
 def kcl_saturation_molality(T: Any = T_REF) -> Any:
@@ -219,12 +224,22 @@ class IonSelectiveElectrode:
     def _terms(self, sol: Solution, lg: np.ndarray) -> tuple[np.ndarray, list, list, np.ndarray, tuple]:
         if self.ion not in sol.species:
             raise InputError(f"the primary ion of {self.name} is not in the solution", field="species", value=self.ion)
-        i = sol.index(self.ion)
-        ai = sol.m[i] * 10.0 ** lg[i]
         present = [j for j in self.selectivity if j in sol.species]
         absent = tuple(f"interferent {j} absent from the solution (activity 0)" for j in self.selectivity if j not in sol.species)
-        idx = [sol.index(j) for j in present]
-        aj = sol.m[idx] * 10.0 ** lg[idx] if idx else np.zeros((0,) + sol.shape)
+        done: list[tuple[int, np.ndarray]] = []
+
+        def activity(k: int) -> np.ndarray:
+            # models of the Debye–Hückel family give equal log γ rows to ions of equal |z|:
+            # reuse γ instead of exponentiating again (a comparison is far cheaper than exp)
+            for k2, gamma in done:
+                if np.array_equal(lg[k], lg[k2]):
+                    return sol.m[k] * gamma
+            gamma = np.exp(LN10 * lg[k])
+            done.append((k, gamma))
+            return sol.m[k] * gamma
+
+        ai = activity(sol.index(self.ion))
+        aj = [activity(sol.index(j)) for j in present]
         return ai, present, [parse_species(j).charge for j in present], aj, absent
 
     def evaluate(self, sol: Solution, model: Any = "davies") -> ElectrodeResult:
@@ -234,11 +249,10 @@ class IonSelectiveElectrode:
         ai, present, zj, aj, absent = self._terms(sol, g.log10_gamma)
         T = sol.T_compact
         E0 = self.E0 + self.dE0dT * (np.asarray(T) - T_REF)
-        E = nikolsky_eisenman(E0, ai, self.z, aj, zj, [self.selectivity[j] for j in present], T, self.slope_factor)
-        lg = {self.ion: _checks.scalar_or_array(np.log10(np.where(ai > 0, ai, np.nan)))}
-        with np.errstate(divide="ignore"):
-            lg.update({j: _checks.scalar_or_array(np.log(aj[n]) / LN10) for n, j in enumerate(present)})
-        return ElectrodeResult(E, _checks.scalar_or_array(E0), lg, _checks.scalar_or_array(T), g.model, tuple(g.notes) + absent, g.in_range)
+        K = [self.selectivity[j] for j in present]
+        E = nikolsky_eisenman_core(E0, ai, self.z, aj, [self.z / z for z in zj], K, T, self.slope_factor)
+        lg = LazyMapping({j: (lambda a=a: _log10_or_nan(a)) for j, a in zip([self.ion] + present, [ai, *aj])})
+        return ElectrodeResult(_checks.scalar_or_array(E), _checks.scalar_or_array(E0), lg, _checks.scalar_or_array(T), g.model, tuple(g.notes) + absent, g.in_range)
 
     def potential(self, sol: Solution, model: Any = "davies") -> Any:
         """Electrode potential, V (shorthand for ``evaluate(...).potential``)."""

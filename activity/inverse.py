@@ -128,9 +128,8 @@ def activity_from_potential(electrode: Any, E: Any, sol: Solution, model: Any = 
     _, present, zj, aj, _ = electrode._terms(probe, g.log10_gamma)
     E0 = electrode.E0 + electrode.dE0dT * (T - 298.15)
     total = 10.0 ** ((E - E0) / electrode.slope(T))  # slope carries 1/z
-    K = np.array([electrode.selectivity[j] for j in present]).reshape((-1,) + (1,) * (aj.ndim - 1))
     zi = electrode.z
-    interf = np.sum(K * aj ** (zi / np.array(zj, float).reshape(K.shape)), axis=0) if present else 0.0
+    interf = sum(electrode.selectivity[j] * a_j ** (zi / z_j) for j, z_j, a_j in zip(present, zj, aj))
     a = total - interf
     if np.any(a <= 0):
         rows = np.flatnonzero(np.ravel(a <= 0))[:10].tolist()

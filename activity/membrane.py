@@ -19,7 +19,7 @@ from . import _checks
 from .constants import F, LN10, R, T_REF
 from .errors import InputError
 
-__all__ = ["ghk_potential", "DonnanResult", "donnan_potential", "nikolsky_eisenman"]
+__all__ = ["ghk_potential", "DonnanResult", "donnan_potential", "nikolsky_eisenman", "nikolsky_eisenman_core"]
 
 
 def _charges(z: Any, k: int, field: str = "z") -> np.ndarray:
@@ -215,15 +215,28 @@ def nikolsky_eisenman(
     zi = float(_charges([z_primary], 1, "z_primary")[0])
     ai = _checks.finite_array(a_primary, "a_primary", nonnegative=True)
     K = np.asarray(_checks.finite_array(selectivity, "selectivity", nonnegative=True), float).reshape(-1)
-    total = ai
+    zj = np.zeros(0)
+    aj = np.zeros((0,) + ai.shape)
     if K.size:
         zj = _charges(z_interferents, K.size, "z_interferents")
         if np.any(np.sign(zj) != np.sign(zi)):
             raise InputError("interferents must carry charge of the primary ion's sign", field="z_interferents", value=z_interferents)
         aj = _leading(a_interferents, K.size, "a_interferents")
-        total = ai + np.sum(_expand(K, aj.ndim) * aj ** _expand(zi / zj, aj.ndim), axis=0)
-    if np.any(total <= 0):
-        raise InputError("primary and interfering activities are all zero in some row", field="a_primary", value=None)
     Tk = _checks.finite_array(T, "T", positive=True)
-    s = np.asarray(slope_factor, float) * R * Tk * LN10 / F
-    return _checks.scalar_or_array(np.asarray(E0, float) + s / zi * np.log10(total))
+    return _checks.scalar_or_array(nikolsky_eisenman_core(E0, ai, zi, aj, zi / zj, K, Tk, slope_factor))
+
+
+def nikolsky_eisenman_core(E0: Any, ai: np.ndarray, zi: float, aj: Any, ratio: Any, K: Any, T: Any, slope_factor: Any = 1.0) -> np.ndarray:
+    """Nikolsky–Eisenman potential from checked arrays (no validation; internal fast path).
+
+    ``aj`` is a sequence of interferent activities, ``ratio`` the exponents zᵢ/zⱼ.
+    """
+    total = ai
+    for a, r, k in zip(aj, ratio, K):
+        total = total + k * (a if r == 1 else a**r)
+    if not np.all(total > 0):
+        raise InputError("primary and interfering activities are all zero in some row", field="a_primary", value=None)
+    ln_total = np.log(total)
+    ln_total *= np.asarray(slope_factor, float) * R * np.asarray(T, float) / (zi * F)
+    ln_total += E0
+    return ln_total
