@@ -23,7 +23,7 @@ import numpy as np
 from . import _checks
 from .cell import Cell
 from .coefficients import resolve_model
-from .constants import F, LN10, R
+from .constants import F, R
 from .electrodes import IonSelectiveElectrode
 from .errors import ActivityWarning, ConvergenceError, InputError
 from .nernst import HalfReaction

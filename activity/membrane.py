@@ -16,7 +16,7 @@ from typing import Any
 import numpy as np
 
 from . import _checks
-from .constants import F, LN10, R, T_REF
+from .constants import F, R, T_REF
 from .errors import InputError
 
 __all__ = ["ghk_potential", "DonnanResult", "donnan_potential", "nikolsky_eisenman", "nikolsky_eisenman_core"]
