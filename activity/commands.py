@@ -133,11 +133,13 @@ def demo_report(fmt: str = "table") -> str:
             "title": res.title,
             "temperature_K": res.T,
             "standards": [{"calcium_mol_per_L": float(c), "calcium_mol_per_kg": float(m), "ionic_strength_mol_per_kg": float(i)} for c, m, i in zip(res.calcium_molarity, res.calcium_molality, res.ionic_strength)],
-            "models": [{"model": c.model, "gamma_Ca": c.gamma, "activity_Ca": c.activity, "in_range": c.in_range, "notes": list(c.notes), "error": c.error} for c in res.columns],
+            "nernst_slope_V_per_decade": res.nernst_slope,
+            "reference_electrode": {"name": "Ag/AgCl in 3 mol/L KCl", "potential_V_vs_SHE": res.reference_potential, "notes": list(res.reference_notes)},
+            "models": [{"model": c.model, "gamma_Ca": c.gamma, "activity_Ca": c.activity, "emf_V": c.emf, "in_range": c.in_range, "notes": list(c.notes), "error": c.error} for c in res.columns],
         })
     if fmt == "csv":
-        rows = [[c.model, float(res.calcium_molarity[k]), float(res.calcium_molality[k]), float(res.ionic_strength[k]), float(c.gamma[k]), float(c.activity[k]), bool(c.in_range[k])] for c in ok for k in range(len(res.calcium_molarity))]
-        return to_csv(["model", "calcium_mol_per_L", "calcium_mol_per_kg", "ionic_strength_mol_per_kg", "gamma_Ca", "activity_Ca", "in_range"], rows)
+        rows = [[c.model, float(res.calcium_molarity[k]), float(res.calcium_molality[k]), float(res.ionic_strength[k]), float(c.gamma[k]), float(c.activity[k]), float(c.emf[k]), bool(c.in_range[k])] for c in ok for k in range(len(res.calcium_molarity))]
+        return to_csv(["model", "calcium_mol_per_L", "calcium_mol_per_kg", "ionic_strength_mol_per_kg", "gamma_Ca", "activity_Ca", "emf_V", "in_range"], rows)
     out = [res.title, f"Temperature {res.T - 273.15:.2f} °C. Each standard: CaCl2 in 0.1 mol/L KCl.", ""]
     headers = ["c(Ca) mol/L", "m(Ca) mol/kg", "I mol/kg"] + [f"a(Ca) {c.model}" for c in ok]
     rows = []
@@ -149,6 +151,22 @@ def demo_report(fmt: str = "table") -> str:
     rows = [[c.model] + [float(g) for g in c.gamma] for c in ok]
     out.append("")
     out.append(table(["model"] + [f"γ(Ca) std {k + 1}" for k in range(len(res.calcium_molarity))], rows, digits=4, title="γ(Ca²⁺) by model"))
+    out.append("")
+    rows = [[c.model] + [f"{float(e) * 1000:.1f}" + ("" if c.in_range[k] else "*") for k, e in enumerate(c.emf)] for c in ok]
+    out.append(
+        table(
+            ["model"] + [f"std {k + 1}" for k in range(len(res.calcium_molarity))],
+            rows,
+            digits=5,
+            title="Expected EMF / mV of Ag|AgCl|KCl(3 mol/L) ‖ standard | Ca²⁺ ISE "
+            "(invented electrode: E0 = 50.0 mV, K(Ca,K) = 1e-4; * = outside the model's validity)",
+        )
+    )
+    out.append(
+        f"Nernst slope at {res.T - 273.15:.2f} °C for Ca²⁺ (z = 2): {res.nernst_slope * 1000:.3f} mV per decade; "
+        f"reference Ag/AgCl (3 mol/L KCl) computed from its filling: {res.reference_potential * 1000:.1f} mV vs SHE "
+        f"({'; '.join(res.reference_notes[:1])})"
+    )
     for c in res.columns:
         if c.error:
             out.append(f"{c.model}: cannot evaluate — {c.error}")

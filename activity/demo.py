@@ -4,7 +4,14 @@ A teaching laboratory of our own invention calibrates a calcium ion-selective el
 with five CaCl2 standards, 10⁻⁵ to 10⁻¹ mol/L, each made up in 0.1 mol/L KCl as an
 ionic-strength background, at 25 °C. The electrode answers to the calcium *activity*;
 this module computes ionic strength, γ(Ca²⁺) and a(Ca²⁺) of every standard by every
-registered activity model, side by side, with each model's validity verdict.
+registered activity model, side by side, with each model's validity verdict, and the EMF
+each standard should give in the cell
+
+    Ag | AgCl | KCl (3 mol/L) ‖ standard | Ca²⁺-selective membrane
+
+with the Nernst slope at the demo temperature. The electrode constant (E0 = 50.0 mV) and
+the selectivity coefficient K(Ca, K) = 10⁻⁴ are invented demo values of a plausible order
+of magnitude; the reference potential is computed from its KCl filling.
 """
 from __future__ import annotations
 
@@ -18,13 +25,16 @@ from .coefficients import available_models, get_model
 from .errors import ActivityError, ActivityWarning
 from .solution import Solution
 
-__all__ = ["SCENARIO", "calcium_standards", "ModelColumn", "DemoResult", "run_demo"]
+__all__ = ["SCENARIO", "calcium_standards", "demo_cell", "ModelColumn", "DemoResult", "run_demo"]
 
 SCENARIO = {
     "title": "Calcium ISE calibration standards in 0.1 mol/L KCl (invented teaching-lab scenario)",
     "temperature": 298.15,  # K
     "calcium": (1e-5, 1e-4, 1e-3, 1e-2, 1e-1),  # mol/L CaCl2 in each standard
     "background": 0.1,  # mol/L KCl
+    "ise_E0": 0.050,  # V, invented demo value
+    "ise_selectivity": {"K+": 1e-4},  # invented demo value
+    "reference_filling": 3.0,  # mol/L KCl
 }
 
 
@@ -43,6 +53,7 @@ class ModelColumn:
     gamma: Any = None  # γ(Ca²⁺) per standard
     activity: Any = None  # a(Ca²⁺) per standard
     in_range: Any = None  # bool per standard
+    emf: Any = None  # expected EMF against the Ag/AgCl reference, V
     notes: tuple = ()
     error: str | None = None
 
@@ -57,23 +68,43 @@ class DemoResult:
     calcium_molality: np.ndarray
     ionic_strength: np.ndarray
     columns: tuple = field(default_factory=tuple)
+    nernst_slope: float = 0.0  # V per decade of a(Ca²⁺)
+    reference_potential: float = 0.0  # V vs SHE
+    reference_notes: tuple = ()
+
+
+def demo_cell():
+    """The demo cell: Ag/AgCl (3 mol/L KCl) on the left, the calcium ISE on the right."""
+    from .cell import Cell
+    from .electrodes import IonSelectiveElectrode, silver_chloride_electrode
+
+    ise = IonSelectiveElectrode("Ca^2+", E0=SCENARIO["ise_E0"], selectivity=SCENARIO["ise_selectivity"], name="demo calcium ISE")
+    return Cell(left=silver_chloride_electrode(SCENARIO["reference_filling"]), right=ise)
 
 
 def run_demo(models: Sequence[str] | None = None) -> DemoResult:
     """Compute the demo table; a model that cannot evaluate is reported, not hidden."""
+    from .electrochem import nernst_slope
+
     sol = calcium_standards()
     i = sol.index("Ca^2+")
+    cell = demo_cell()
     columns = []
     for name in models or available_models():
         try:
             with warnings.catch_warnings(record=True) as caught:
                 warnings.simplefilter("always", ActivityWarning)
-                res = get_model(name).activity_coefficients(sol)
+                model = get_model(name)
+                res = model.activity_coefficients(sol)
+                emf = cell.evaluate(sol, model)
             gamma = res.gamma[i]
             notes = tuple(dict.fromkeys(res.notes + tuple(str(w.message) for w in caught)))
-            columns.append(ModelColumn(name, gamma, gamma * sol.m[i], np.broadcast_to(res.in_range, sol.shape), notes))
+            columns.append(ModelColumn(name, gamma, gamma * sol.m[i], np.broadcast_to(res.in_range, sol.shape), np.asarray(emf.emf), notes))
         except ActivityError as exc:
             columns.append(ModelColumn(name, error=str(exc)))
+    with warnings.catch_warnings(record=True):
+        warnings.simplefilter("always", ActivityWarning)
+        ref = cell.left.evaluate(SCENARIO["temperature"])
     return DemoResult(
         SCENARIO["title"],
         SCENARIO["temperature"],
@@ -81,4 +112,7 @@ def run_demo(models: Sequence[str] | None = None) -> DemoResult:
         sol.m[i].copy(),
         np.asarray(sol.ionic_strength),
         tuple(columns),
+        float(nernst_slope(SCENARIO["temperature"], 2)),
+        float(ref.potential),
+        tuple(ref.notes),
     )

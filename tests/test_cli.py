@@ -105,3 +105,19 @@ def test_validity_excursion_is_shown_with_the_result():
     code, out, err = run("solution", "Na+=1 mol/kg", "Cl-=1 mol/kg", "-m", "extended-debye-huckel")
     assert code == 0
     assert "note: extended-debye-huckel: ionic strength above 0.1" in out
+
+
+def test_demo_emf_follows_the_nernst_slope():
+    # Between standards 3 and 4 (K+ interference negligible: K·a_K² ≪ a_Ca), the EMF step
+    # equals the Nernst slope RT ln10/(2F) times the change in log10 a(Ca²⁺).
+    import numpy as np
+
+    from activity.demo import run_demo
+
+    res = run_demo(["davies"])
+    col = res.columns[0]
+    step = col.emf[3] - col.emf[2]
+    assert step == pytest.approx(res.nernst_slope * np.log10(col.activity[3] / col.activity[2]), rel=2e-3)
+    assert res.nernst_slope == pytest.approx(0.029580, abs=2e-6)  # 59.16/2 mV, CODATA constants
+    # Ag/AgCl in 3 mol/L KCl: about 0.210 V vs SHE at 25 °C (common practice).
+    assert res.reference_potential == pytest.approx(0.210, abs=5e-3)
