@@ -206,6 +206,6 @@ def test_chunked_evaluation_matches_small_batches(monkeypatch):
 @given(st.floats(-300.0, 1.0), st.floats(273.15, 323.15))
 def test_finite_down_to_vanishing_ionic_strength(log_m, T):
     m = 10**log_m
-    sol = Solution({"Na+": m, "Ca^2+": m, "Mg^2+": 0.1 * m, "Cl-": 3.2 * m, "SO4^2-": 0.5 * m}, T=T)
+    sol = Solution({"Na+": m, "Ca^2+": m, "Mg^2+": 0.1 * m, "Cl-": 2.2 * m, "SO4^2-": 0.5 * m}, T=T)
     res = quiet(MODEL.activity_coefficients, sol)
     assert np.all(np.isfinite(res.log10_gamma)) and np.isfinite(res.osmotic_coefficient)
