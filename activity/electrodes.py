@@ -182,8 +182,9 @@ class IonSelectiveElectrode:
         Primary ion, e.g. ``'Ca^2+'``.
     E0 : float
         Electrode constant at 298.15 K, V (on the scale of the cell it is used in).
-    selectivity : Mapping[str, float], optional
-        Selectivity coefficients Kᵢⱼ by interfering ion.
+    selectivity : Mapping[str, array_like], optional
+        Selectivity coefficients Kᵢⱼ by interfering ion (an array broadcasts with the
+        solution's batch, e.g. to propagate their uncertainty).
     slope_factor : float, default 1
         Fraction of the Nernst slope.
     dE0dT : float, default 0
@@ -214,7 +215,7 @@ class IonSelectiveElectrode:
             j = parse_species(k)
             if j.name == self.ion or not j.is_ion or np.sign(j.charge) != np.sign(self.z):
                 raise InputError("an interferent must be another ion of the primary ion's sign", field="selectivity", value=k)
-            self.selectivity[j.name] = float(_checks.finite_array(v, f"selectivity[{k!r}]", nonnegative=True))
+            self.selectivity[j.name] = _checks.scalar_or_array(_checks.finite_array(v, f"selectivity[{k!r}]", nonnegative=True))
         self.name = name or f"{self.ion} ion-selective electrode"
 
     def slope(self, T: Any = T_REF) -> Any:
