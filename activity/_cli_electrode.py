@@ -58,16 +58,66 @@ def _gases(pairs: list[str] | None) -> dict[str, float] | None:
     return {k: parse_pressure(v, field=f"gas[{k}]") for k, v in parse_pairs(pairs, field="gas").items()}
 
 
-def _render(args: argparse.Namespace, title: str, rows: list[list[Any]], notes: tuple | list, extra: dict | None = None) -> str:
+def _render(args: argparse.Namespace, title: str, rows: list[list[Any]], notes: tuple | list, extra: dict | None = None,
+            chain: Any = None) -> str:
+    """Table, JSON or CSV of the result rows; with ``chain`` (a ChainResult) its uncertainty too."""
     from .report import table, to_csv, to_json
 
+    if chain is not None:
+        rows = rows + _uncertainty_rows(chain)
+        notes = list(notes) + list(chain.notes)
     if args.json:
         body = {r[0]: {"value": r[1], "unit": r[2]} for r in rows}
-        return to_json({"title": title, "results": body, **(extra or {}), "notes": list(notes)})
+        extra = {**(extra or {}), **({"uncertainty": _uncertainty_json(chain)} if chain is not None else {})}
+        return to_json({"title": title, "results": body, **extra, "notes": list(notes)})
     if args.csv:
+        if chain is not None:
+            budget = chain.propagation.budget_table()
+            return to_csv(list(budget[0]), [list(r.values()) for r in budget]).rstrip("\n")
         return to_csv(["quantity", "value", "unit"], rows).rstrip("\n")
     text = table(["quantity", "value", "unit"], rows, digits=6, title=title)
+    if chain is not None:
+        text += f"\n\nuncertainty budget of {chain.quantity} ({chain.unit}), {chain.propagation.method}\n{chain.format_budget()}"
     return text + "".join(f"\nnote: {n}" for n in dict.fromkeys(notes))
+
+
+def _uncertainty_rows(chain: Any) -> list[list[Any]]:
+    q, unit, res = chain.quantity, chain.unit, chain.propagation
+    low, high = chain.coverage_interval()
+    p = f"{100 * res.coverage:g} %"
+    return [
+        [f"u({q}), standard", chain.standard_uncertainty, unit],
+        [f"U({q}), expanded, k = {res.coverage_factor():.3g}", chain.expanded_uncertainty(), unit],
+        [f"coverage interval ({p}), low", low, unit],
+        [f"coverage interval ({p}), high", high, unit],
+    ]
+
+
+def _uncertainty_json(chain: Any) -> dict[str, Any]:
+    res, spread = chain.propagation, chain.spread
+    return {
+        "quantity": chain.quantity,
+        "unit": chain.unit,
+        "model": chain.model,
+        "method": res.method,
+        "value": chain.value,
+        "standard_uncertainty": chain.standard_uncertainty,
+        "expanded_uncertainty": chain.expanded_uncertainty(),
+        "coverage": res.coverage,
+        "coverage_factor": res.coverage_factor(),
+        "coverage_interval": list(chain.coverage_interval()),
+        "dof": res.dof,
+        "trials": res.trials,
+        "budget": res.budget_table(),
+        "model_choice": None if spread is None else {
+            "values": spread.values,
+            "lowest": spread.lowest,
+            "highest": spread.highest,
+            "spread": spread.spread,
+            "standard_uncertainty": spread.standard_uncertainty,
+            "line": spread.format_line(chain.standard_uncertainty),
+        },
+    }
 
 
 def _temperature_row(T: float) -> list[Any]:
@@ -76,6 +126,161 @@ def _temperature_row(T: float) -> list[Any]:
 
 def _one(value: Any) -> float:
     return float(value)
+
+
+# ------------------------------------------------------------ uncertainty options
+_U_OPTIONS = ("u_amount", "u", "u_temperature", "u_e0", "u_reading", "u_selectivity")
+
+
+def _percent(text: str, field: str) -> float:
+    """'1%' or '0.5 %' → 0.01, 0.005; anything else is an InputError naming ``field``."""
+    import re
+
+    from .errors import InputError
+
+    m = re.fullmatch(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*%\s*", str(text))
+    if not m:
+        raise InputError("expected a relative standard uncertainty with %, e.g. '1%'", field=field, value=text)
+    return _not_negative(float(m.group(1)) / 100.0, field, text)
+
+
+def _not_negative(value: float, field: str, text: str) -> float:
+    from .errors import InputError
+
+    if value < 0:
+        raise InputError("an uncertainty must not be negative", field=field, value=text)
+    return value
+
+
+def _u_potential(text: str, field: str) -> float:
+    from .units import parse_potential
+
+    return _not_negative(parse_potential(text, field=field), field, text)
+
+
+def _u_temperature(text: str, field: str = "--u-temperature") -> float:
+    """A temperature difference: '0.2 K', '0.2 °C', '50 mK' → kelvin."""
+    from .errors import InputError
+    from .units import _split
+
+    value, unit = _split(text, field)
+    scale = {"K": 1.0, "mK": 1e-3, "°C": 1.0, "degC": 1.0, "C": 1.0, "℃": 1.0}.get(unit)
+    if scale is None:
+        raise InputError("expected a temperature difference in K, mK or °C, e.g. '0.2 K'", field=field, value=text)
+    return _not_negative(value * scale, field, text)
+
+
+def _stated_amounts(args: argparse.Namespace) -> dict[str, Any]:
+    """Species → the Amount stated for it (recipe file, then SPECIES=AMOUNT pairs)."""
+    from .recipe import load_recipe, parse_pairs
+    from .species import parse_species
+    from .units import parse_amount
+
+    comp = dict(load_recipe(args.recipe).get("composition", {})) if args.recipe else {}
+    comp.update(parse_pairs(args.pairs or []))
+    return {parse_species(k).name: parse_amount(v, field=f"composition[{k!r}]") for k, v in comp.items()}
+
+
+def _e0_uncertainty(texts: list[str]) -> Any:
+    """--u-e0 '0.3 mV' (every electrode) or repeated --u-e0 SIDE=VALUE (SIDE left, right)."""
+    from .errors import InputError
+    from .recipe import parse_pairs
+
+    keyed = [t for t in texts if "=" in t]
+    if not keyed:
+        if len(texts) > 1:
+            raise InputError("give one value for every electrode, or SIDE=VALUE entries", field="--u-e0", value=texts)
+        return _u_potential(texts[0], "--u-e0")
+    if len(keyed) != len(texts):
+        raise InputError("give either one value for every electrode or SIDE=VALUE entries, not both", field="--u-e0", value=texts)
+    return {side.strip().lower(): _u_potential(v, f"--u-e0 {side}") for side, v in parse_pairs(keyed, field="--u-e0").items()}
+
+
+def _coverage(text: str) -> float:
+    from .errors import InputError
+
+    if str(text).strip().endswith("%"):
+        return _percent(text, "--coverage")
+    try:
+        return float(text)
+    except ValueError:
+        raise InputError("expected a coverage probability such as 0.95 or '95%'", field="--coverage", value=text) from None
+
+
+def _chain_options(args: argparse.Namespace, sample: Any, selectivity: dict[str, float] | None = None) -> dict[str, Any] | None:
+    """Keyword arguments for :mod:`activity.chain` from the uncertainty options, or None if none was given."""
+    from .errors import InputError
+    from .recipe import parse_pairs
+
+    if not any(getattr(args, k, None) for k in _U_OPTIONS):
+        for flag, value, default in (("--method", args.method, "gum"), ("--trials", args.trials, None), ("--seed", args.seed, None)):
+            if value != default:
+                raise InputError("state an uncertainty (--u-amount, --u, --u-temperature, --u-e0, …) to propagate", field=flag, value=value)
+        return None
+    u_amount, u_molality = _amount_uncertainties(args, sample)
+    opts: dict[str, Any] = dict(u_amount=u_amount, u_molality=u_molality, method=args.method, trials=args.trials,
+                                seed=args.seed, coverage=_coverage(args.coverage))
+    if args.u_temperature:
+        opts["u_temperature"] = _u_temperature(args.u_temperature)
+    if args.u_e0:
+        opts["u_e0"] = _e0_uncertainty(args.u_e0)
+    if getattr(args, "u_reading", None):
+        opts["u_reading"] = _u_potential(args.u_reading, "--u-reading")
+    if getattr(args, "u_selectivity", None):
+        u_sel = {}
+        for ion, text in parse_pairs(args.u_selectivity, field="--u-selectivity").items():
+            field = f"--u-selectivity {ion}"
+            K = (selectivity or {}).get(ion)
+            if K is None:
+                raise InputError("no --selectivity given for this ion", field=field, value=text)
+            if text.rstrip().endswith("%"):
+                u_sel[ion] = _percent(text, field) * K
+            else:
+                try:
+                    u_sel[ion] = _not_negative(float(text), field, text)
+                except ValueError:
+                    raise InputError("expected '20%' or a number (K is dimensionless)", field=field, value=text) from None
+        opts["u_selectivity"] = u_sel
+    return opts
+
+
+def _amount_uncertainties(args: argparse.Namespace, sample: Any) -> tuple[dict[str, float] | None, dict[str, float]]:
+    """Relative and absolute (mol/kg) standard uncertainties by species, from --u-amount and --u.
+
+    ``--u-amount`` applies to every species of ``sample``; ``--u SPECIES=...`` overrides it.
+    A per-litre absolute uncertainty becomes relative to the amount stated for the species.
+    """
+    from .errors import InputError
+    from .recipe import parse_pairs
+    from .species import parse_species
+    from .units import parse_amount
+
+    relative: dict[str, float] = {}
+    if args.u_amount is not None:
+        every = _percent(args.u_amount, "--u-amount")
+        relative = {name: every for name in sample.species}
+    absolute: dict[str, float] = {}
+    stated = None
+    for name, text in parse_pairs(args.u or [], field="--u").items():
+        field = f"--u {name}"
+        key = parse_species(name).name
+        absolute.pop(key, None)
+        relative.pop(key, None)
+        if text.rstrip().endswith("%"):
+            relative[key] = _percent(text, field)
+            continue
+        u = parse_amount(text, field=field)
+        molar_mass = parse_species(key).molar_mass
+        if u.basis == "kg":
+            absolute[key] = u.moles(molar_mass)
+            continue
+        stated = _stated_amounts(args) if stated is None else stated
+        given = stated.get(key)
+        if given is None or given.basis != "L" or given.moles(molar_mass) == 0:
+            raise InputError(f"a per-litre uncertainty needs {key} stated per litre (non-zero); give it in % or per kg",
+                             field=field, value=text)
+        relative[key] = u.moles(molar_mass) / given.moles(molar_mass)
+    return (relative or None), absolute
 
 
 def cmd_potential(args: argparse.Namespace) -> int:
@@ -93,7 +298,13 @@ def cmd_potential(args: argparse.Namespace) -> int:
     ]
     rows += [[f"log10 a({n})", _one(v), ""] for n, v in res.log10_activity.items() if not n.endswith(("(s)", "(l)"))]
     notes = list(res.notes) + ([f"E° source: {hr.source}"] if hr.source else [])
-    emit(args, _render(args, f"{hr.name} by {res.model}", rows, notes))
+    chain = None
+    opts = _chain_options(args, sol)
+    if opts is not None:
+        from .chain import potential_with_uncertainty
+
+        chain = potential_with_uncertainty(hr, sol, args.model, pressures=_gases(args.gas), **opts)
+    emit(args, _render(args, f"{hr.name} by {res.model}", rows, notes, chain=chain))
     return 0
 
 
@@ -131,7 +342,13 @@ def cmd_cell(args: argparse.Namespace) -> int:
         ["liquid junction", _one(res.junction_potential), "V"],
         ["EMF", _one(res.emf), "V"],
     ]
-    emit(args, _render(args, f"{args.left} | sample | {args.right} by {res.model}", rows, res.notes))
+    chain = None
+    opts = _chain_options(args, sol)
+    if opts is not None:
+        from .chain import emf_with_uncertainty
+
+        chain = emf_with_uncertainty(cell, sol, args.model, pressures=_gases(args.gas), **opts)
+    emit(args, _render(args, f"{args.left} | sample | {args.right} by {res.model}", rows, res.notes, chain=chain))
     return 0
 
 
@@ -142,10 +359,12 @@ def cmd_invert(args: argparse.Namespace) -> int:
     from .errors import InputError
     from .inverse import molality_from_emf, molality_from_potential
     from .recipe import parse_pairs
+    from .species import parse_species
     from .units import parse_potential
 
     if (args.couple is None) == (args.ise is None):
         raise InputError("give either --couple NAME or --ise ION (with --e0)", field="electrode", value=args.couple)
+    sel: dict[str, float] = {}
     if args.ise is not None:
         if args.e0 is None:
             raise InputError("an ion-selective electrode needs --e0, e.g. '52.1 mV'", field="e0", value=None)
@@ -163,7 +382,15 @@ def cmd_invert(args: argparse.Namespace) -> int:
             raise InputError("say which species to solve for (--species)", field="species", value=None)
         res = molality_from_emf(cell, reading, matrix, args.model, species=species, **kw)
     else:
-        res = molality_from_potential(electrode, reading, matrix, args.model, species=args.species, **kw)
+        species = args.species
+        res = molality_from_potential(electrode, reading, matrix, args.model, species=species, **kw)
+    chain = None
+    opts = _chain_options(args, matrix, {parse_species(k).name: v for k, v in sel.items()})
+    if opts is not None:
+        from .chain import molality_with_uncertainty
+
+        measured = cell if args.against else electrode
+        chain = molality_with_uncertainty(measured, reading, matrix, args.model, species=species, **kw, **opts)
     rows = [
         ["species", res.species, ""],
         ["molality", _one(res.molality), "mol/kg"],
@@ -172,8 +399,25 @@ def cmd_invert(args: argparse.Namespace) -> int:
         ["ionic strength", _one(res.ionic_strength), "mol/kg"],
         ["iterations", res.iterations, ""],
     ]
-    emit(args, _render(args, f"{res.species} from a reading of {args.reading} by {res.model}", rows, res.notes))
+    emit(args, _render(args, f"{res.species} from a reading of {args.reading} by {res.model}", rows, res.notes, chain=chain))
     return 0
+
+
+def _add_uncertainty(p: argparse.ArgumentParser, inverse: bool = False) -> None:
+    g = p.add_argument_group("uncertainty (any of these prints a budget and the spread between activity models)")
+    g.add_argument("--u-amount", metavar="PCT", help="relative standard uncertainty of every amount, e.g. '1%%'")
+    g.add_argument("--u", action="append", metavar="SPECIES=U",
+                   help="standard uncertainty of one amount: '0.5%%', '0.002 mmol/L' or '0.01 mmol/kg' (repeatable; overrides --u-amount)")
+    g.add_argument("--u-temperature", metavar="DT", help="standard uncertainty of the temperature, e.g. '0.2 K'")
+    g.add_argument("--u-e0", action="append", metavar="[SIDE=]E",
+                   help="standard uncertainty of E° (ISE constant), e.g. '0.3 mV' for every electrode, or 'right=0.3 mV' (SIDE left/right of a cell)")
+    if inverse:
+        g.add_argument("--u-reading", metavar="E", help="standard uncertainty of the reading, e.g. '0.2 mV'")
+        g.add_argument("--u-selectivity", action="append", metavar="ION=U", help="standard uncertainty of a selectivity coefficient: '20%%' or a number")
+    g.add_argument("--method", choices=("gum", "monte-carlo"), default="gum", help="GUM (JCGM 100, default) or Monte Carlo (JCGM 101)")
+    g.add_argument("--trials", type=int, metavar="N", help="Monte Carlo trials (default: adaptive, JCGM 101 7.9)")
+    g.add_argument("--seed", type=int, metavar="N", help="Monte Carlo random seed, for a repeatable result")
+    g.add_argument("--coverage", default="0.95", metavar="P", help="coverage probability, e.g. 0.95 (default) or '99%%'")
 
 
 def register(subparsers: Any) -> None:
@@ -190,6 +434,7 @@ def register(subparsers: Any) -> None:
     p.add_argument("couple", help="couple name, e.g. 'AgCl/Ag', 'Fe3+/Fe2+', 'quinhydrone'")
     add_solution_arguments(p)
     common(p)
+    _add_uncertainty(p)
     p.set_defaults(func=cmd_potential)
 
     p = subparsers.add_parser("reference", help="potential of a KCl reference electrode, computed from its filling",
@@ -207,6 +452,7 @@ def register(subparsers: Any) -> None:
     p.add_argument("--junction", choices=("none", "henderson"), default="none", help="liquid-junction treatment (default none)")
     add_solution_arguments(p)
     common(p)
+    _add_uncertainty(p)
     p.set_defaults(func=cmd_cell)
 
     p = subparsers.add_parser("invert", help="molality of the determinand from a measured potential",
@@ -222,4 +468,5 @@ def register(subparsers: Any) -> None:
     p.add_argument("--counter-ion", help="ion added with the determinand to keep the sample neutral, e.g. 'Cl-'")
     add_solution_arguments(p)
     common(p)
+    _add_uncertainty(p, inverse=True)
     p.set_defaults(func=cmd_invert)

@@ -284,12 +284,13 @@ def _run(quantity: Callable[[_Point, Any], Any], sample: Solution, model: Any, i
     result, seen = _caught(lambda: propagate(f, dists, method, trials=trials, seed=seed, coverage=coverage))
     labels = {i.key: i.label for i in inputs}
     result = dataclasses.replace(result, budget=tuple(dataclasses.replace(r, name=labels[r.name]) for r in result.budget))
-    notes: dict[tuple, str] = {}
-    for w in seen:  # Monte Carlo chunks repeat a warning with other numbers: keep one per kind
-        kind = (w.category, str(w.message).split(":")[0])
-        if kind not in notes:
-            notes[kind] = str(w.message)
-            warnings.warn(f"during the propagation: {w.message}", w.category, stacklevel=3)
+    kinds: dict[tuple, list] = {}
+    for w in seen:  # Monte Carlo chunks repeat a warning with other numbers: one note per kind
+        kinds.setdefault((w.category, str(w.message).split(":")[0]), []).append(str(w.message))
+    notes = {}
+    for (category, _), messages in kinds.items():
+        notes[category, messages[0]] = f"during the propagation ({len(messages)} batch call(s) warned; the first): {messages[0]}"
+        warnings.warn(notes[category, messages[0]], category, stacklevel=3)
     spread, spread_notes = _spread(quantity, build({i.key: i.dist.mean for i in inputs}), spread_models)
     return ChainResult(label, unit, model.name, result, spread, tuple(notes.values()) + tuple(spread_notes))
 
