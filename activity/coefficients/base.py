@@ -165,6 +165,11 @@ class ActivityModel:
     def _osmotic(self, sol: Solution, bound: Any, I: np.ndarray) -> np.ndarray | None:
         return None
 
+    def _evaluate(self, sol: Solution, bound: Any, I: np.ndarray) -> tuple[np.ndarray, Any]:
+        """(log10 γ, φ) for :meth:`activity_coefficients`; φ may be a callable (computed on
+        first access). Override when both come cheaply from one pass."""
+        return self._log10_gamma(sol, bound, I), functools.partial(self._osmotic, sol, bound, I)
+
     def _bound_notes(self, bound: Any) -> tuple[tuple[str, ...], tuple[str, ...]]:
         """(notes, missing) that follow from the binding alone (override)."""
         return (), ()
@@ -215,7 +220,7 @@ class ActivityModel:
             raise InputError("expected an activity.Solution", field="solution", value=type(sol).__name__)
         bound = self.bind(sol.species, sol.charges)
         I = np.asarray(sol.ionic_strength, dtype=float)
-        lg = self._log10_gamma(sol, bound, I)
+        lg, phi = self._evaluate(sol, bound, I)
         ok, notes = self._check(sol, I)
         bnotes, missing = self._bound_notes(bound)
         for note in notes:
@@ -228,7 +233,7 @@ class ActivityModel:
             in_range=bool(ok) if ok.ndim == 0 else ok,
             notes=notes + bnotes,
             missing=missing,
-            _phi=functools.partial(self._osmotic, sol, bound, I),
+            _phi=phi,
             _total_molality=sol.total_molality,
         )
 

@@ -2,7 +2,6 @@
 from __future__ import annotations
 
 import dataclasses
-import threading
 import warnings
 from typing import Any
 
@@ -74,7 +73,6 @@ class PitzerModel(ActivityModel):
         super().__init__()
         self.params = {"extra": extra, "base": base, "parameters": parameters}
         self._table: ParameterSet | None = None
-        self._local = threading.local()
 
     # ------------------------------------------------------------ parameters
     @staticmethod
@@ -104,11 +102,6 @@ class PitzerModel(ActivityModel):
         return bound.notes, bound.missing
 
     def _run(self, sol, bound, want: set) -> dict:
-        memo = getattr(self._local, "memo", None)
-        if memo is not None and memo.get("sol") is sol:
-            return memo
-        if memo is not None:
-            want = {"lng", "phi"}
         n, N = len(sol.species), sol.size
         m = sol.m.reshape(n, N)
         I = np.asarray(sol.ionic_strength, dtype=float).reshape(N)
@@ -131,11 +124,12 @@ class PitzerModel(ActivityModel):
             part = evaluate(bound, Pc, not scalar_T, m[:, sl], I[sl], Ac, want)
             for k, v in part.items():
                 res[k][..., sl] = v
-        out = {k: (v.reshape((n,) + sol.shape) if k == "lng" else v.reshape(sol.shape)) for k, v in res.items()}
-        if memo is not None:
-            memo.clear()
-            memo.update(out, sol=sol)
-        return out
+        return {k: (v.reshape((n,) + sol.shape) if k == "lng" else v.reshape(sol.shape)) for k, v in res.items()}
+
+    def _evaluate(self, sol, bound, I):
+        # γ and φ share their sums: one pass gives both for little more than γ alone.
+        out = self._run(sol, bound, {"lng", "phi"})
+        return out["lng"] / LN10, out["phi"]
 
     def _log10_gamma(self, sol, bound, I):
         return self._run(sol, bound, {"lng"})["lng"] / LN10
@@ -166,11 +160,7 @@ class PitzerModel(ActivityModel):
         the fitted molality and temperature ranges (noted, warned, and reflected in
         ``in_range``).
         """
-        self._local.memo = {}
-        try:
-            res = super().activity_coefficients(sol)
-        finally:
-            self._local.memo = None
+        res = super().activity_coefficients(sol)
         bound = self.bind(sol.species, sol.charges)
         ok, notes = self._pair_checks(sol, bound)
         if not notes:
