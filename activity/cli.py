@@ -87,8 +87,19 @@ def _fmt_T(T: float) -> str:
 
 
 def cmd_solution(args: argparse.Namespace) -> int:
-    from .commands import solution_report
+    from .commands import solution_report, table_report
 
+    form = "json" if args.json else "csv" if args.csv else "table"
+    if args.table:
+        from .errors import InputError
+        from .tablefile import read_table, solution_from_table
+
+        if args.pairs or args.recipe:
+            raise InputError("give either --table FILE or a composition, not both", field="table", value=args.table)
+        tbl = read_table(args.table)
+        sol = solution_from_table(tbl, balance_with=args.balance_with) if args.balance_with else solution_from_table(tbl)
+        emit(args, table_report(sol, tbl.labels, args.model, fmt=form))
+        return 0
     sol = solution_from_args(args)
     emit(args, solution_report(sol, args.model, fmt="json" if args.json else "csv" if args.csv else "table"))
     return 0
@@ -121,6 +132,7 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = sub.add_parser("solution", help="ionic strength, γ and activities of one solution", description="Evaluate one solution: ionic strength, activity coefficients and activities by one model or all side by side.", epilog=CAUTION)
     add_solution_arguments(p)
+    p.add_argument("--table", metavar="CSV", help="a batch: one composition per row, headers 'Ca2+ [mmol/L]', 'temperature [°C]', optional 'label'")
     p.add_argument("-m", "--model", default="davies", help="activity model name, or 'all' for every model side by side (default davies)")
     _add_output(p)
     p.set_defaults(func=cmd_solution)
@@ -167,6 +179,11 @@ def main(argv: Sequence[str] | None = None) -> int:
     except ActivityError as exc:
         print(f"activity: error: {exc}", file=sys.stderr)
         return 2
+    except BrokenPipeError:  # output piped into a program that stopped reading (e.g. head)
+        import os
+
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 141
     except OSError as exc:
         print(f"activity: error: {exc.strerror or exc}: {exc.filename or ''}".rstrip(": "), file=sys.stderr)
         return 2

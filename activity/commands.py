@@ -94,6 +94,55 @@ def solution_report(sol, model: str = "davies", fmt: str = "table") -> str:
     return "\n".join(lines)
 
 
+def table_report(sol, labels, model: str = "davies", fmt: str = "table") -> str:
+    """Report a batch read from a CSV file: one row per composition."""
+    names = list(available_models()) if model == "all" else [model]
+    if model != "all":
+        get_model(model)
+    I = np.atleast_1d(np.asarray(sol.ionic_strength))
+    results = []
+    for name in names:
+        try:
+            with warnings.catch_warnings(record=True) as caught:
+                warnings.simplefilter("always", ActivityWarning)
+                res = get_model(name).activity_coefficients(sol)
+            gamma = res.gamma
+            notes = list(dict.fromkeys(res.notes + tuple(str(w.message) for w in caught)))
+            results.append({"model": name, "gamma": gamma, "in_range": np.broadcast_to(res.in_range, sol.shape), "notes": notes})
+        except ActivityError as exc:
+            results.append({"model": name, "error": str(exc)})
+    ok = [r for r in results if "error" not in r]
+    if not ok:
+        raise ActivityError(results[0]["error"])
+    if fmt == "json":
+        return to_json({
+            "rows": [
+                {"label": lab, "temperature_K": float(np.broadcast_to(sol.T, sol.shape)[k]), "ionic_strength_mol_per_kg": float(I[k]),
+                 "molality_mol_per_kg": {n: float(sol.m[i, k]) for i, n in enumerate(sol.species)},
+                 "models": {r["model"]: {"gamma": {n: float(r["gamma"][i, k]) for i, n in enumerate(sol.species)},
+                                         "activity": {n: float(r["gamma"][i, k] * sol.m[i, k]) for i, n in enumerate(sol.species)},
+                                         "in_range": bool(r["in_range"][k])} for r in ok}}
+                for k, lab in enumerate(labels)
+            ],
+            "notes": {r["model"]: r.get("notes", [r.get("error")]) for r in results},
+        })
+    if fmt == "csv":
+        headers = ["label", "model", "ionic_strength_mol_per_kg"] + [f"gamma {n}" for n in sol.species] + [f"activity {n}" for n in sol.species] + ["in_range"]
+        rows = [[lab, r["model"], float(I[k])] + [float(r["gamma"][i, k]) for i in range(len(sol.species))]
+                + [float(r["gamma"][i, k] * sol.m[i, k]) for i in range(len(sol.species))] + [bool(r["in_range"][k])]
+                for r in ok for k, lab in enumerate(labels)]
+        return to_csv(headers, rows)
+    out = []
+    for r in ok:
+        headers = ["label", "I mol/kg"] + [f"a({n})" for n in sol.species]
+        rows = [[lab, float(I[k])] + [fmt_num(r["gamma"][i, k] * sol.m[i, k], 5) + ("" if r["in_range"][k] else "*") for i in range(len(sol.species))] for k, lab in enumerate(labels)]
+        out.append(table(headers, rows, title=f"Activities by {r['model']} (* = outside the model's validity)"))
+        out.extend(f"note: {n}" for n in r["notes"])
+        out.append("")
+    out.extend(f"{r['model']}: cannot evaluate — {r['error']}" for r in results if "error" in r)
+    return "\n".join(out).rstrip()
+
+
 def fmt_num(x: Any, digits: int = 5) -> str:
     return fmt(float(x), digits)
 

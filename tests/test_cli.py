@@ -121,3 +121,45 @@ def test_demo_emf_follows_the_nernst_slope():
     assert res.nernst_slope == pytest.approx(0.029580, abs=2e-6)  # 59.16/2 mV, CODATA constants
     # Ag/AgCl in 3 mol/L KCl: about 0.210 V vs SHE at 25 °C (common practice).
     assert res.reference_potential == pytest.approx(0.210, abs=5e-3)
+
+
+TABLE = """label,Ca2+ [mmol/L],K+ [mol/L],Cl- [mol/L],temperature [°C]
+std 1,0.01,0.1,0.10002,25
+std 2,0.1,0.1,0.1002,25
+std 3,1,0.1,0.102,37
+"""
+
+
+def test_table_batch_equals_single_solutions(tmp_path, capsys):
+    path = tmp_path / "standards.csv"
+    path.write_text(TABLE, encoding="utf-8")
+    assert main(["solution", "--table", str(path), "--json", "-m", "davies"]) == 0
+    rows = json.loads(capsys.readouterr().out)["rows"]
+    assert [r["label"] for r in rows] == ["std 1", "std 2", "std 3"]
+    assert rows[2]["temperature_K"] == pytest.approx(310.15)
+    # the same composition given on the command line gives the same activity
+    assert main(["solution", "Ca2+=1 mmol/L", "K+=0.1 mol/L", "Cl-=0.102 mol/L", "-t", "37 °C", "--json"]) == 0
+    single = json.loads(capsys.readouterr().out)
+    davies = next(m for m in single["models"] if m["model"] == "davies")
+    assert rows[2]["models"]["davies"]["activity"]["Ca^2+"] == pytest.approx(davies["activity"]["Ca^2+"], rel=1e-12)
+
+
+@pytest.mark.parametrize(
+    "body, text",
+    [
+        ("Ca2+ [mmol/L],Cl- [mmol/L]\n1,x\n", "row 2, column 'Cl- [mmol/L]'"),
+        ("Ca2+ [mmol/L],Cl- [mmol/L]\n1,2,3\n", "row 2"),
+        ("Ca2+,Cl- [mmol/L]\n1,2\n", "headers are 'name [unit]'"),
+        ("Ca2+ [mmol/L],Cl- [mmol/kg]\n1,2\n", "mix per-kg and per-litre"),
+        ("Ca2+ [mmol/L],Cl- [mmol/L]\n", "at least one data row"),
+        ("Ca2+ [mmol/L],Cl- [mmol/L]\n1,-2\n", "must not be negative"),
+    ],
+)
+def test_bad_tables_fail_whole(tmp_path, body, text):
+    path = tmp_path / "bad.csv"
+    path.write_text(body, encoding="utf-8")
+    out = tmp_path / "out.csv"
+    code, _, err = run("solution", "--table", str(path), "--csv", "-o", str(out))
+    assert code == 2
+    assert text in err and len(err.strip().splitlines()) == 1
+    assert not out.exists()

@@ -1,0 +1,153 @@
+"""Batches from CSV files: one composition per row, units in the column headers.
+
+Headers name a quantity and its unit in square brackets::
+
+    label,Ca2+ [mmol/L],K+ [mol/L],Cl- [mol/L],temperature [°C],reading [mV]
+    std 1,0.01,0.1,0.10002,25.0,-314.2
+    std 2,0.1,0.1,0.1002,25.0,-286.5
+
+* a species column holds amounts (all species columns on one basis: per kg of water or
+  per litre of solution);
+* ``temperature`` and ``pressure`` columns (optional) hold the conditions of each row;
+* ``label`` (optional) names the rows; any other bracketed column (e.g. ``reading``) is
+  kept as a float array for the command that needs it.
+
+Errors name the file, the row and the column. The whole file is read before anything is
+computed, so a bad row stops the batch before any output is written.
+"""
+from __future__ import annotations
+
+import csv
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from .errors import InputError
+
+__all__ = ["TableInput", "read_table", "solution_from_table"]
+
+_HEADER = re.compile(r"^\s*(?P<name>[^\[\]]+?)\s*\[(?P<unit>[^\[\]]+)\]\s*$")
+_CONDITIONS = ("temperature", "pressure")
+
+
+@dataclass(frozen=True)
+class TableInput:
+    """A parsed CSV batch."""
+
+    path: str
+    labels: tuple
+    species: dict = field(default_factory=dict)  # name → (unit, values)
+    conditions: dict = field(default_factory=dict)  # 'temperature'/'pressure' → (unit, values)
+    extra: dict = field(default_factory=dict)  # other name → (unit, values)
+
+    @property
+    def rows(self) -> int:
+        return len(self.labels)
+
+
+def _number(text: str, where: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise InputError("not a number", field=where, value=text) from None
+    if not np.isfinite(value):
+        raise InputError("must be finite", field=where, value=text)
+    return value
+
+
+def read_table(path: str | Path) -> TableInput:
+    """Read a CSV batch (see the module docstring).
+
+    Examples
+    --------
+    >>> import tempfile, os
+    >>> d = tempfile.mkdtemp(); p = os.path.join(d, "b.csv")
+    >>> _ = open(p, "w").write("K+ [mmol/kg],Cl- [mmol/kg],temperature [°C]\\n1,1,25\\n2,2,37\\n")
+    >>> read_table(p).species["K+"][1]
+    array([1., 2.])
+    """
+    p = Path(path)
+    try:
+        with p.open(newline="", encoding="utf-8-sig") as fh:
+            rows = list(csv.reader(fh))
+    except FileNotFoundError:
+        raise InputError("file not found", field="table", value=str(p)) from None
+    except UnicodeDecodeError:
+        raise InputError("not a UTF-8 text file", field="table", value=str(p)) from None
+    rows = [r for r in rows if any(c.strip() for c in r)]
+    if len(rows) < 2:
+        raise InputError("needs a header row and at least one data row", field="table", value=str(p))
+    header, body = rows[0], rows[1:]
+    columns: list[tuple[str, str | None]] = []
+    for h in header:
+        if h.strip().lower() == "label":
+            columns.append(("label", None))
+            continue
+        m = _HEADER.match(h)
+        if not m:
+            raise InputError("column headers are 'name [unit]' (or 'label')", field=f"{p.name}: header", value=h)
+        columns.append((m.group("name"), m.group("unit").strip()))
+    names = [c[0] for c in columns]
+    if len(set(names)) != len(names):
+        raise InputError("a column name appears twice", field=f"{p.name}: header", value=header)
+    values: dict[str, list[float]] = {n: [] for n, u in columns if u is not None}
+    labels: list[str] = []
+    for k, row in enumerate(body, start=2):
+        if len(row) != len(columns):
+            raise InputError(f"has {len(row)} cells, the header {len(columns)}", field=f"{p.name}: row {k}", value=row)
+        label = f"row {k}"
+        for (name, unit), cell in zip(columns, row):
+            if unit is None:
+                label = cell.strip() or label
+            else:
+                values[name].append(_number(cell.strip(), f"{p.name}: row {k}, column '{name} [{unit}]'"))
+        labels.append(label)
+    species, conditions, extra = {}, {}, {}
+    for name, unit in columns:
+        if unit is None:
+            continue
+        arr = np.array(values[name])
+        key = name.strip().lower()
+        if key in _CONDITIONS:
+            conditions[key] = (unit, arr)
+        elif key in ("reading", "potential", "emf"):
+            extra[key] = (unit, arr)
+        else:
+            species[name.strip()] = (unit, arr)
+    return TableInput(str(p), tuple(labels), species, conditions, extra)
+
+
+def solution_from_table(table: TableInput, **kw: Any):
+    """Build one batch :class:`~activity.Solution` from a :class:`TableInput`."""
+    from .constants import P_ATM, T_REF
+    from .solution import Solution
+    from .species import parse_species
+    from .units import parse_amount, parse_pressure, parse_temperature
+
+    if not table.species:
+        raise InputError("no species columns", field="table", value=table.path)
+    amounts, bases = {}, set()
+    for name, (unit, arr) in table.species.items():
+        sp = parse_species(name)
+        amt = parse_amount(f"1 {unit}", field=f"column '{name} [{unit}]'")
+        if np.any(arr < 0):
+            row = int(np.flatnonzero(arr < 0)[0])
+            raise InputError("must not be negative", field=f"{table.labels[row]}, column '{name}'", value=float(arr[row]))
+        bases.add(amt.basis)
+        amounts[sp.name] = arr * amt.moles(sp.molar_mass)
+    if len(bases) > 1:
+        raise InputError("species columns mix per-kg and per-litre units", field="table", value=table.path)
+    T, P = T_REF, P_ATM
+    if "temperature" in table.conditions:
+        unit, arr = table.conditions["temperature"]
+        offset = parse_temperature(f"0 {unit}", field="column 'temperature'")
+        T = arr * (parse_temperature(f"1 {unit}", field="column 'temperature'") - offset) + offset
+    if "pressure" in table.conditions:
+        unit, arr = table.conditions["pressure"]
+        P = arr * parse_pressure(f"1 {unit}", field="column 'pressure'")
+    if bases == {"L"}:
+        return Solution.from_molarity(amounts, T=T, P=P, **kw)
+    return Solution(amounts, T=T, P=P, **kw)
