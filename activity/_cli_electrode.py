@@ -211,6 +211,7 @@ def _chain_options(args: argparse.Namespace, sample: Any, selectivity: dict[str,
     """Keyword arguments for :mod:`activity.chain` from the uncertainty options, or None if none was given."""
     from .errors import InputError
     from .recipe import parse_pairs
+    from .species import parse_species
 
     if not any(getattr(args, k, None) for k in _U_OPTIONS):
         for flag, value, default in (("--method", args.method, "gum"), ("--trials", args.trials, None), ("--seed", args.seed, None)):
@@ -228,8 +229,9 @@ def _chain_options(args: argparse.Namespace, sample: Any, selectivity: dict[str,
         opts["u_reading"] = _u_potential(args.u_reading, "--u-reading")
     if getattr(args, "u_selectivity", None):
         u_sel = {}
-        for ion, text in parse_pairs(args.u_selectivity, field="--u-selectivity").items():
-            field = f"--u-selectivity {ion}"
+        for raw, text in parse_pairs(args.u_selectivity, field="--u-selectivity").items():
+            field = f"--u-selectivity {raw}"
+            ion = parse_species(raw).name
             K = (selectivity or {}).get(ion)
             if K is None:
                 raise InputError("no --selectivity given for this ion", field=field, value=text)

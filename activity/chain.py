@@ -200,6 +200,7 @@ class _Point:
     e0: dict  # side → E° − its tabulated value (E° enters every potential additively)
     selectivity: dict
     reading: Any
+    shape: tuple  # batch shape of the columns
 
     def shift(self, side: str) -> Any:
         return self.e0.get(side, 0.0)
@@ -216,6 +217,7 @@ def _point_builder(sample: Solution, inputs: list[_Input], reading: Any) -> Call
             {i.target: cols[i.key] - i.dist.mean for i in inputs if i.role == "e0"},
             {i.target: cols[i.key] for i in inputs if i.role == "K"},
             read,
+            np.broadcast_shapes(*(np.shape(cols[i.key]) for i in inputs)),
         )
 
     return build
@@ -243,18 +245,23 @@ def _electrode_potential(electrode: Any, sol: Solution, model: Any, pressures: A
 
 # ------------------------------------------------------------------ running
 def _caught(func: Callable[[], Any]) -> tuple[Any, list]:
+    """Call ``func``; return its value and the package's warnings (others are passed on)."""
     with warnings.catch_warnings(record=True) as seen:
         warnings.simplefilter("always", ActivityWarning)
         out = func()
+    for w in seen:
+        if not issubclass(w.category, ActivityWarning):
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
     return out, [w for w in seen if issubclass(w.category, ActivityWarning)]
 
 
 def _spread(quantity: Callable[[_Point, Any], Any], point: _Point, names: Any) -> tuple[ModelSpread | None, list[str]]:
     """The quantity at the estimates by each model; notes for the models not counted."""
     values, notes = {}, []
-    for name in (available_models() if names is None else names):
+    for item in (available_models() if names is None else names):
+        name = getattr(item, "name", item)
         try:
-            y, seen = _caught(lambda: float(quantity(point, resolve_model(name))))
+            y, seen = _caught(lambda: float(quantity(point, resolve_model(item))))
         except (ActivityError, ImportError) as exc:
             notes.append(f"model choice: {name} not counted, cannot evaluate this sample ({exc})")
             continue
@@ -311,7 +318,7 @@ _OPTIONS_DOC = """
     method : {'gum', 'monte-carlo'}, default 'gum'
     trials, seed, coverage
         As for :func:`activity.uncertainty.propagate`.
-    spread_models : sequence of str, optional
+    spread_models : sequence of str or ActivityModel, optional
         Models for the model-choice spread (default: every registered model).
 """
 
@@ -463,7 +470,7 @@ def molality_with_uncertainty(electrode: Any, reading: float, matrix: Solution, 
         name = parse_species(species).name
 
         def quantity(p: _Point, m: Any) -> Any:
-            target = p.reading - p.shift("right") + p.shift("left")
+            target = np.broadcast_to(p.reading - p.shift("right") + p.shift("left"), p.shape)
             return molality_from_emf(_cell_at(electrode, p.selectivity), target, p.sol, m, species=name,
                                      counter_ion=counter_ion, pressures=pressures).molality
     elif isinstance(electrode, (HalfReaction, IonSelectiveElectrode)):
@@ -474,8 +481,9 @@ def molality_with_uncertainty(electrode: Any, reading: float, matrix: Solution, 
             name = species or (electrode.determinands[0] if len(electrode.determinands) == 1 else None)
 
         def quantity(p: _Point, m: Any) -> Any:
-            return molality_from_potential(_with_selectivity(electrode, p.selectivity), p.reading - p.shift("electrode"),
-                                           p.sol, m, species=species, counter_ion=counter_ion, pressures=pressures).molality
+            target = np.broadcast_to(p.reading - p.shift("electrode"), p.shape)  # rows even when only K varies
+            return molality_from_potential(_with_selectivity(electrode, p.selectivity), target, p.sol, m,
+                                           species=species, counter_ion=counter_ion, pressures=pressures).molality
     else:
         raise InputError("expected a HalfReaction, IonSelectiveElectrode or Cell", field="electrode", value=type(electrode).__name__)
     u_read = _nonnegative(u_reading or 0.0, "u_reading")

@@ -233,6 +233,17 @@ def test_cli_monte_carlo_and_csv(capsys):
     assert len(lines) == 2
 
 
+def test_cli_relative_selectivity_uncertainty(capsys):
+    # '20%' of K = 0.01 is u(K) = 0.002; the ion may be spelt 'Mg2+' in one option and 'Mg^2+' in the other
+    args = ["invert", "--ise", "Ca2+", "--e0", "52.1 mV", "--selectivity", "Mg^2+=0.01", "--reading", "-50 mV",
+            "K+=0.1 mol/L", "Cl-=0.102 mol/L", "Mg2+=1 mmol/L", "--counter-ion", "Cl-", "--u-selectivity", "Mg2+=20%", "--csv"]
+    assert main(args) == 0
+    lines = capsys.readouterr().out.strip().splitlines()
+    name, dist, value, u = lines[1].split(",")[:4]
+    assert (name, dist) == ("K(Mg^2+)", "normal")
+    assert float(value) == 0.01 and float(u) == pytest.approx(0.002, rel=1e-12)
+
+
 @pytest.mark.parametrize("extra, field", [
     (["--u-amount", "1"], "--u-amount"),            # no % sign
     (["--u-amount=-1%"], "--u-amount"),              # negative
