@@ -44,10 +44,10 @@ _EXPORTS: dict[str, str] = {
     "activity_coefficients": "evaluate",
     "activities": "evaluate",
     "mean_activity_coefficient": "evaluate",
-    # --- pitzer exports (added by the Pitzer work) ---
+    # Pitzer
     "PitzerModel": "coefficients.pitzer",
     "load_pitzer_parameters": "coefficients.pitzer:load_parameters",
-    # --- nernst exports (added by the Nernst work) ---
+    # potentials: electrochemical potential, half-reactions, electrodes, cells, junctions, membranes, inverse
     "nernst_slope": "electrochem",
     "electrochemical_potential": "electrochem",
     "reaction_gibbs": "electrochem",
@@ -71,7 +71,11 @@ _EXPORTS: dict[str, str] = {
     "activity_from_potential": "inverse",
     "molality_from_potential": "inverse",
     "molality_from_emf": "inverse",
-    # --- uncertainty exports (added by the uncertainty work) ---
+    # uncertainty (GUM, Monte Carlo) and its use along the whole chain
+    "potential_with_uncertainty": "chain",
+    "emf_with_uncertainty": "chain",
+    "molality_with_uncertainty": "chain",
+    "ChainResult": "chain",
     "propagate": "uncertainty",
     "validate_gum": "uncertainty",
     "model_spread": "uncertainty",
