@@ -16,7 +16,7 @@ import numpy as np
 
 from . import _checks, data
 from .coefficients import ActivityModel, resolve_model
-from .constants import LN10, T_REF, ZERO_CELSIUS
+from .constants import F, LN10, R, T_REF, ZERO_CELSIUS
 from .electrochem import nernst_slope
 from .errors import InputError
 from .membrane import nikolsky_eisenman_core
@@ -243,16 +243,45 @@ class IonSelectiveElectrode:
         aj = [activity(sol.index(j)) for j in present]
         return ai, present, [parse_species(j).charge for j in present], aj, absent
 
+    def _shared_gamma(self, sol: Solution, lg: np.ndarray):
+        """Fast exact path when every interferent present has the primary ion's charge and
+        the same γ (the Debye–Hückel family, Davies): then
+        ln(aᵢ + Σ Kᵢⱼ aⱼ) = ln γ + ln(mᵢ + Σ Kᵢⱼ mⱼ), and no exponential is needed.
+        Returns (E − E0, lazy log10 activities) or None."""
+        if self.ion not in sol.species:
+            return None
+        i = sol.index(self.ion)
+        present = [(j, sol.index(j)) for j in self.selectivity if j in sol.species]
+        if any(sol.charges[k] != self.z or not np.array_equal(lg[k], lg[i]) for _, k in present):
+            return None
+        shape = np.broadcast_shapes(sol.shape, *(np.shape(self.selectivity[j]) for j, _ in present))
+        total = np.array(np.broadcast_to(sol.m[i], shape), dtype=float)
+        for j, k in present:
+            total += self.selectivity[j] * sol.m[k]
+        if not np.all(total > 0):
+            return None  # the general path raises the error naming the field
+        ln_total = np.log(total, out=total)
+        ln_total += LN10 * lg[i]
+        ln_total *= self.slope_factor * R * np.asarray(sol.T_compact, float) / (self.z * F)
+        acts = {name: (lambda k=k: _log10_or_nan(sol.m[k] * 10.0 ** lg[k])) for name, k in [(self.ion, i)] + present}
+        return ln_total, LazyMapping(acts)
+
     def evaluate(self, sol: Solution, model: Any = "davies") -> ElectrodeResult:
         """Electrode potential in ``sol`` (same scale as E0), with activities used."""
         model = resolve_model(model)
         g = model.activity_coefficients(sol)
-        ai, present, zj, aj, absent = self._terms(sol, g.log10_gamma)
         T = sol.T_compact
         E0 = self.E0 + self.dE0dT * (np.asarray(T) - T_REF)
-        K = [self.selectivity[j] for j in present]
-        E = nikolsky_eisenman_core(E0, ai, self.z, aj, [self.z / z for z in zj], K, T, self.slope_factor)
-        lg = LazyMapping({j: (lambda a=a: _log10_or_nan(a)) for j, a in zip([self.ion] + present, [ai, *aj])})
+        shared = self._shared_gamma(sol, g.log10_gamma)
+        if shared is not None:
+            E, lg = shared
+            E += E0
+        else:
+            ai, present, zj, aj, absent = self._terms(sol, g.log10_gamma)
+            K = [self.selectivity[j] for j in present]
+            E = nikolsky_eisenman_core(E0, ai, self.z, aj, [self.z / z for z in zj], K, T, self.slope_factor)
+            lg = LazyMapping({j: (lambda a=a: _log10_or_nan(a)) for j, a in zip([self.ion] + present, [ai, *aj])})
+        absent = tuple(f"interferent {j} absent from the solution (activity 0)" for j in self.selectivity if j not in sol.species)
         return ElectrodeResult(_checks.scalar_or_array(E), _checks.scalar_or_array(E0), lg, _checks.scalar_or_array(T), g.model, tuple(g.notes) + absent, g.in_range)
 
     def potential(self, sol: Solution, model: Any = "davies") -> Any:
