@@ -81,6 +81,32 @@ def _render(args: argparse.Namespace, title: str, rows: list[list[Any]], notes: 
     return text + "".join(f"\nnote: {n}" for n in dict.fromkeys(notes))
 
 
+def _render_table(args: argparse.Namespace, labels: tuple, reading: Any, res: Any) -> str:
+    """One row per reading of a --table batch."""
+    import numpy as np
+
+    from .report import table, to_csv, to_json
+
+    cols = {
+        "reading_V": reading,
+        "molality_mol_per_kg": res.molality,
+        "activity": res.activity,
+        "gamma": res.gamma,
+        "ionic_strength_mol_per_kg": res.ionic_strength,
+    }
+    cols = {k: np.broadcast_to(np.asarray(v, dtype=float), (len(labels),)) for k, v in cols.items()}
+    if args.json:
+        rows = [{"label": lab, **{k: float(v[i]) for k, v in cols.items()}} for i, lab in enumerate(labels)]
+        return to_json({"species": res.species, "model": res.model, "rows": rows, "notes": list(res.notes)})
+    if args.csv:
+        return to_csv(["label"] + list(cols), [[lab] + [float(v[i]) for v in cols.values()] for i, lab in enumerate(labels)]).rstrip("\n")
+    rows = [[lab, float(cols["reading_V"][i]) * 1000, float(cols["molality_mol_per_kg"][i]), float(cols["activity"][i]),
+             float(cols["gamma"][i]), float(cols["ionic_strength_mol_per_kg"][i])] for i, lab in enumerate(labels)]
+    text = table(["label", "reading / mV", "m / (mol/kg)", "activity", "γ", "I / (mol/kg)"], rows, digits=6,
+                 title=f"{res.species} from {len(labels)} readings by {res.model}")
+    return text + "".join(f"\nnote: {n}" for n in dict.fromkeys(res.notes))
+
+
 def _uncertainty_rows(chain: Any) -> list[list[Any]]:
     q, unit, res = chain.quantity, chain.unit, chain.propagation
     low, high = chain.coverage_interval()
@@ -374,8 +400,26 @@ def cmd_invert(args: argparse.Namespace) -> int:
         electrode = IonSelectiveElectrode(args.ise, parse_potential(args.e0, field="e0"), selectivity=sel)
     else:
         electrode = electrode_from_spec(args.couple)
-    reading = parse_potential(args.reading, field="reading")
-    matrix = solution_from_args(args)
+    labels = None
+    if args.table:
+        from .tablefile import read_table, solution_from_table
+
+        if args.pairs or args.recipe or args.reading is not None:
+            raise InputError("with --table the readings and the matrix come from the file", field="table", value=args.table)
+        if any(getattr(args, k, None) for k in _U_OPTIONS):
+            raise InputError("uncertainty options take one reading; give the reading with --reading", field="table", value=args.table)
+        tbl = read_table(args.table)
+        if "reading" not in tbl.extra:
+            raise InputError("needs a 'reading [mV]' (or [V]) column", field="table", value=args.table)
+        unit, values = tbl.extra["reading"]
+        reading = values * parse_potential(f"1 {unit}", field="column 'reading'")
+        matrix = solution_from_table(tbl)
+        labels = tbl.labels
+    else:
+        if args.reading is None:
+            raise InputError("give the measured potential with --reading, or a --table of readings", field="reading", value=None)
+        reading = parse_potential(args.reading, field="reading")
+        matrix = solution_from_args(args)
     kw = dict(counter_ion=args.counter_ion, pressures=_gases(args.gas))
     if args.against:
         cell = Cell(left=electrode_from_spec(args.against), right=electrode, junction=None if args.junction == "none" else args.junction)
@@ -386,6 +430,9 @@ def cmd_invert(args: argparse.Namespace) -> int:
     else:
         species = args.species
         res = molality_from_potential(electrode, reading, matrix, args.model, species=species, **kw)
+    if labels is not None:
+        emit(args, _render_table(args, labels, reading, res))
+        return 0
     chain = None
     opts = _chain_options(args, matrix, {parse_species(k).name: v for k, v in sel.items()})
     if opts is not None:
@@ -460,7 +507,9 @@ def register(subparsers: Any) -> None:
     p = subparsers.add_parser("invert", help="molality of the determinand from a measured potential",
                               description="Solve for the determinand's molality in the stated sample matrix (iterating on ionic strength).")
     p.add_argument("--couple", metavar="COUPLE", help="couple name, e.g. 'Ag+/Ag' (or use --ise)")
-    p.add_argument("--reading", required=True, metavar="E", help="measured potential or EMF, e.g. '-35.2 mV'")
+    p.add_argument("--reading", metavar="E", help="measured potential or EMF, e.g. '-35.2 mV'")
+    p.add_argument("--table", metavar="CSV", help="a batch of readings: columns 'reading [mV]', the matrix species "
+                   "('K+ [mol/L]', …), optional 'temperature [°C]' and 'label'")
     p.add_argument("--against", metavar="ELECTRODE", help="reference electrode on the left; the reading is then the EMF")
     p.add_argument("--junction", choices=("none", "henderson"), default="none")
     p.add_argument("--ise", metavar="ION", help="an ion-selective electrode for ION")

@@ -163,3 +163,23 @@ def test_bad_tables_fail_whole(tmp_path, body, text):
     assert code == 2
     assert text in err and len(err.strip().splitlines()) == 1
     assert not out.exists()
+
+
+def test_invert_table_equals_single_readings(tmp_path, capsys):
+    path = tmp_path / "readings.csv"
+    path.write_text("label,reading [mV],K+ [mol/L],Cl- [mol/L]\nA,-255.3,0.1,0.1\nB,-270.1,0.1,0.1\n", encoding="utf-8")
+    common = ["invert", "--ise", "Ca2+", "--e0", "52.1 mV", "--against", "silver-chloride:3 mol/L", "--counter-ion", "Cl-"]
+    assert main(common + ["--table", str(path), "--json"]) == 0
+    rows = json.loads(capsys.readouterr().out)["rows"]
+    assert [r["label"] for r in rows] == ["A", "B"]
+    for row, reading in zip(rows, ["-255.3 mV", "-270.1 mV"]):
+        assert main(common + ["--reading", reading, "K+=0.1 mol/L", "Cl-=0.1 mol/L", "--json"]) == 0
+        single = json.loads(capsys.readouterr().out)["results"]["molality"]["value"]
+        assert row["molality_mol_per_kg"] == pytest.approx(single, rel=1e-9)
+    # readings 14.8 mV apart are a factor 10^(14.8/29.58) ≈ 3.2 apart in activity (Nernst, z = 2)
+    assert rows[0]["activity"] / rows[1]["activity"] == pytest.approx(10 ** (14.8 / 29.58), rel=2e-3)
+
+
+def test_invert_needs_a_reading(capsys):
+    code, _, err = run("invert", "--ise", "Ca2+", "--e0", "52.1 mV", "K+=0.1 mol/L", "Cl-=0.1 mol/L")
+    assert code == 2 and "--reading" in err
