@@ -413,7 +413,9 @@ def cmd_invert(args: argparse.Namespace) -> int:
             raise InputError("needs a 'reading [mV]' (or [V]) column", field="table", value=args.table)
         unit, values = tbl.extra["reading"]
         reading = values * parse_potential(f"1 {unit}", field="column 'reading'")
-        matrix = solution_from_table(tbl)
+        from .cli import show_cautions
+
+        matrix = show_cautions(solution_from_table(tbl))
         labels = tbl.labels
     else:
         if args.reading is None:

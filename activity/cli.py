@@ -16,7 +16,7 @@ from .errors import ActivityError, ActivityWarning
 
 __all__ = ["main", "build_parser", "CAUTION"]
 
-CAUTION = (
+CAUTION = (  # the same text as activity.cautions.GENERAL, kept here so --help imports nothing heavy
     "Caution: results are estimates from published models and data. For clinical or "
     "pharmaceutical pH, for hydrofluoric acid, strong acids and other hazardous reagents, "
     "follow your local codes, validated procedures and licensed practice; this tool does "
@@ -69,7 +69,16 @@ def solution_from_args(args: argparse.Namespace):
         value = getattr(args, attr, None)
         if value is not None:
             recipe[key] = value
-    return solution_from_recipe(recipe)
+    return show_cautions(solution_from_recipe(recipe))
+
+
+def show_cautions(sol):
+    """Print the cautions that apply to ``sol`` on standard error; return ``sol``."""
+    from .cautions import cautions_for
+
+    for line in cautions_for(sol):
+        print(line, file=sys.stderr)
+    return sol
 
 
 def emit(args: argparse.Namespace, text: str) -> None:
@@ -97,7 +106,7 @@ def cmd_solution(args: argparse.Namespace) -> int:
         if args.pairs or args.recipe:
             raise InputError("give either --table FILE or a composition, not both", field="table", value=args.table)
         tbl = read_table(args.table)
-        sol = solution_from_table(tbl, balance_with=args.balance_with) if args.balance_with else solution_from_table(tbl)
+        sol = show_cautions(solution_from_table(tbl, balance_with=args.balance_with) if args.balance_with else solution_from_table(tbl))
         emit(args, table_report(sol, tbl.labels, args.model, fmt=form))
         return 0
     sol = solution_from_args(args)

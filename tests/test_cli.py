@@ -183,3 +183,15 @@ def test_invert_table_equals_single_readings(tmp_path, capsys):
 def test_invert_needs_a_reading(capsys):
     code, _, err = run("invert", "--ise", "Ca2+", "--e0", "52.1 mV", "K+=0.1 mol/L", "Cl-=0.1 mol/L")
     assert code == 2 and "--reading" in err
+
+
+def test_cautions_for_hazardous_compositions():
+    from activity.cautions import GENERAL
+    from activity.cli import CAUTION
+
+    assert CAUTION == GENERAL  # the fast-start copy in cli.py has not drifted
+    code, out, err = run("solution", "H+=0.5 mol/kg", "F-=0.5 mol/kg")
+    assert code == 0
+    assert "caution: hydrofluoric acid" in err and "caution: strong acid" in err
+    code, out, err = run("solution", "Na+=0.1 mol/kg", "Cl-=0.1 mol/kg")
+    assert code == 0 and "caution" not in err
