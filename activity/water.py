@@ -2,6 +2,8 @@
 
 * Density: Kell (1975), J. Chem. Eng. Data 20, 97, eq. for 0–150 °C at 1 atm
   (IPTS-68 temperatures; the difference to ITS-90 is below 0.01 K here and is ignored).
+  Above 100 °C it stands for the liquid along saturation: within 0.02 % of IAPWS-95 there
+  (checked in the tests).
 * Static relative permittivity: Bradley & Pitzer (1979), J. Phys. Chem. 83, 1599,
   eq. for 0–350 °C and pressures to 5 kbar (coefficients from memory; the tests check
   the result against the IAPWS R8-97 formulation as implemented by the ``iapws`` package).

@@ -73,3 +73,13 @@ def test_bad_temperatures(bad):
     with pytest.raises(InputError) as err:
         density(bad)
     assert err.value.field == "T"
+
+
+@pytest.mark.parametrize("t_c", [100.5, 110, 125, 140, 150])
+def test_density_along_saturation_to_150C(t_c):
+    # Above 100 °C the Kell (1975) 1-atm equation is used along saturation; against IAPWS-95
+    # (iapws package) just above the saturation pressure it stays within 0.05 %.
+    T = t_c + 273.15
+    p_sat = iapws.IAPWS97(T=T, x=0).P
+    ref = iapws.IAPWS95(T=T, P=1.01 * p_sat).rho
+    assert density(T) == pytest.approx(ref, rel=5e-4)
