@@ -118,3 +118,12 @@ def test_temperature_dependence_follows_A():
     model = act.get_model("debye-huckel-limiting")
     ratio = model.log10_gamma(hi)[0] / model.log10_gamma(lo)[0]
     assert ratio == pytest.approx(act.debye_huckel_A(353.15) / act.debye_huckel_A(273.15), rel=1e-12)
+
+
+@pytest.mark.parametrize("m, gamma", [(0.05, 0.8216), (0.1, 0.7780), (0.2, 0.7347)])
+def test_davies_declared_validity_for_nacl(m, gamma):
+    # Hamer & Wu (1972), Table 8, NaCl at 25 °C (from memory): Davies stays within the 2 %
+    # its declared validity (I ≤ 0.2 mol/kg) promises.
+    sol = Solution({"Na+": m, "Cl-": m})
+    assert mean_activity_coefficient(sol, "Na+", "Cl-", "davies") == pytest.approx(gamma, rel=2e-2)
+    assert act.get_model("davies").validity.max_ionic_strength >= m
