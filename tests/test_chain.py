@@ -159,7 +159,9 @@ def test_model_spread_positive_across_models_at_ionic_strength_0_1():
     counted = set(res.spread.values)
     assert {"davies", "truesdell-jones"} <= counted
     assert "ideal" not in counted and "debye-huckel-limiting" not in counted
-    assert res.spread.spread > 1e-5  # V
+    # "tenths of a mV": at least 0.1 mV; at most 2 mV, i.e. about 8 % in γ(Cl-), more than the
+    # models differ from Hamer & Wu (1972) for KCl at 0.1 mol/kg (test_models_reference.py).
+    assert 1e-4 < res.spread.spread < 2e-3  # V
     assert any(n.startswith("model choice: ideal not counted, outside its validity") for n in res.notes)
     assert "model choice" in res.format_budget()
 

@@ -34,7 +34,12 @@ def test_solution_json_all_models(capsys):
     names = [m["model"] for m in data["models"]]
     assert "davies" in names and "extended-debye-huckel" in names
     davies = next(m for m in data["models"] if m["model"] == "davies")
-    assert 0 < davies["gamma"]["Ca^2+"] < 1
+    # Davies (1938) written out: log10 γ = −A z² (√I/(1+√I) − 0.3 I), I = 0.003 mol/kg
+    from activity import debye_huckel_A
+
+    s = 0.003 ** 0.5
+    expected = 10 ** (-debye_huckel_A(298.15) * 4 * (s / (1 + s) - 0.3 * 0.003))
+    assert davies["gamma"]["Ca^2+"] == pytest.approx(expected, rel=1e-9)
 
 
 def test_solution_csv_from_recipe(tmp_path, capsys):
@@ -44,6 +49,18 @@ def test_solution_csv_from_recipe(tmp_path, capsys):
     lines = capsys.readouterr().out.strip().splitlines()
     assert lines[0] == "model,species,molality_mol_per_kg,gamma,activity"
     assert len(lines) == 3
+    # extended Debye–Hückel written out, log10 γ = −A z² √I / (1 + B å √I), I = 0.005 mol/kg at
+    # 37 °C, Kielland (1937) å = 3 Å for K+ and Cl- (from memory); A, B checked in test_water.py
+    from activity import debye_huckel_A, debye_huckel_B
+
+    s = 0.005 ** 0.5
+    gamma = 10 ** (-debye_huckel_A(310.15) * s / (1 + debye_huckel_B(310.15) * 3.0 * s))
+    for line, ion in zip(lines[1:], ["K+", "Cl-"]):
+        model, species, m, g, a = line.split(",")
+        assert (model, species) == ("extended-debye-huckel", ion)
+        assert float(m) == pytest.approx(0.005, rel=1e-12)
+        assert float(g) == pytest.approx(gamma, rel=1e-9)
+        assert float(a) == pytest.approx(0.005 * gamma, rel=1e-9)
 
 
 @pytest.mark.parametrize(
@@ -81,8 +98,15 @@ def test_output_file_is_whole_or_absent(tmp_path):
 def test_models_lists_validity(capsys):
     assert main(["models"]) == 0
     out = capsys.readouterr().out
+    rows = {line.split()[0]: line.split()[1] for line in out.splitlines()[2:] if line.strip()}
+    # the I max column shows each model's declared limit: Davies 0.2 mol/kg (Hamer & Wu 1972
+    # comparison in test_models_reference.py), extended Debye–Hückel 0.1 (common practice)
+    assert float(rows["davies"]) == 0.2
+    assert float(rows["extended-debye-huckel"]) == 0.1
+    from activity import get_model
+
     for name in ["ideal", "davies", "extended-debye-huckel", "truesdell-jones"]:
-        assert name in out
+        assert float(rows[name]) == get_model(name).validity.max_ionic_strength
 
 
 def test_demo_runs_and_shows_caution(capsys):

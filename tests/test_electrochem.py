@@ -12,7 +12,7 @@ FARADAY = sc.physical_constants["Faraday constant"][0]
 
 
 def test_nernst_slope_codata():
-    # 59.16 mV per decade at 25 °C: RT ln10 / F with CODATA R and F (scipy.constants)
+    # 59.16 mV per decade at 25 °C (common practice): RT ln10 / F with CODATA R and F (scipy.constants)
     slope = ec.nernst_slope(298.15)
     assert slope == pytest.approx(sc.R * 298.15 * np.log(10) / FARADAY, rel=1e-15)
     assert round(slope * 1e3, 2) == 59.16
@@ -56,7 +56,6 @@ def test_nernst_equals_electrochemical_equilibrium(mu0, log_a, T, phi_s):
     # Fe^3+ + e- = Fe^2+ : species Fe3+ (sol), e- (metal), Fe2+ (sol)
     nu = np.array([-1.0, -1.0, 1.0])
     z = np.array([3.0, -1.0, 2.0])
-    mu0_e = mu0[1]
     a = np.array([10 ** log_a[0], 1.0, 10 ** log_a[1]])
     dphi = ec.equilibrium_galvani_potential(nu, mu0, a, z, [False, True, False], T)
     # ΔrG̃ evaluated with μ̃ at the equilibrium potentials is zero
@@ -67,7 +66,6 @@ def test_nernst_equals_electrochemical_equilibrium(mu0, log_a, T, phi_s):
     E0 = ec.potential_from_gibbs(float(nu @ np.array(mu0)), 1)
     E = ec.nernst_potential(E0, [-1, 1], [a[0], a[2]], 1, T)
     assert dphi == pytest.approx(E, abs=1e-9)
-    del mu0_e
 
 
 def test_equilibrium_galvani_batch_and_checks():
@@ -80,6 +78,7 @@ def test_equilibrium_galvani_batch_and_checks():
 
 
 def test_standard_potential_temperature_terms():
+    # E°(T) = E° + (dE°/dT)ΔT + ½(d²E°/dT²)ΔT², ΔT = 10 K, by hand: 0.5 + 1e-3·10; 0.5 + ½·2e-6·100
     assert ec.standard_potential_at(0.5, 1e-3, 0.0, 308.15) == pytest.approx(0.51)
     assert ec.standard_potential_at(0.5, 0.0, 2e-6, 308.15) == pytest.approx(0.5 + 1e-4)
 

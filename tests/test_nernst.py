@@ -51,6 +51,7 @@ def test_ratio_couple_and_overrides():
     hr = standard_couple("Fe^3+/Fe^2+")
     sol = act.Solution({"Fe^3+": 0.001, "Fe^2+": 0.01, "Cl-": 0.05}, neutrality="ignore")
     res = hr.evaluate(sol, "ideal")
+    # E° = 0.771 V (Bard, Parsons & Jordan 1985 — from memory, as in models/standard_potentials.toml)
     assert res.potential == pytest.approx(0.771 - S25 * np.log10(10.0))
     assert hr.potential(sol, "ideal", activities={"Fe^3+": 1.0, "Fe^2+": 1.0}) == pytest.approx(0.771)
 
@@ -69,6 +70,7 @@ def test_gas_pressure_and_water_activity():
     assert g.water_activity is not None and g.water_activity < 1
     Ed = hr.potential(sol, "davies", pressures={"O2(g)": 1e5})
     a_h = act.activities(sol, "davies")["H+"]
+    # E°(O2/H2O) = 1.229 V (Bard, Parsons & Jordan 1985 — from memory)
     expected = 1.229 - S25 / 4 * (2 * np.log10(g.water_activity) - 4 * np.log10(a_h))
     assert Ed == pytest.approx(expected, abs=1e-12)
 
@@ -76,7 +78,12 @@ def test_gas_pressure_and_water_activity():
 def test_temperature_coefficients_used():
     hr = standard_couple("AgCl/Ag")
     T = np.array([288.15, 298.15, 318.15])
-    assert np.allclose(hr.standard_potential(T), 0.22233 + -6.457e-4 * (T - 298.15) + 0.5 * -5.96e-6 * (T - 298.15) ** 2)
+    # E°, dE°/dT and d²E°/dT² at 25 °C of the Bates & Bower (1954) polynomial below (from memory):
+    # 0.23659 − 4.8564e-4·25 − 3.4205e-6·25² + 5.869e-9·25³ ≈ 0.2224 V (E° = 0.22233 V from the
+    # Harned cell), −4.8564e-4 − 2·3.4205e-6·25 + 3·5.869e-9·25² = −6.457e-4 V/K,
+    # −2·3.4205e-6 + 6·5.869e-9·25 = −5.96e-6 V/K² (derivatives by hand).
+    assert np.allclose(hr.standard_potential(T), 0.22233 + -6.457e-4 * (T - 298.15) + 0.5 * -5.96e-6 * (T - 298.15) ** 2,
+                       rtol=0, atol=1e-12)
     # Bates & Bower (1954) polynomial at 45 °C (from memory): 0.23659 − 4.8564e-4·45 − 3.4205e-6·45² + 5.869e-9·45³
     t = 45.0
     bb = 0.23659 - 4.8564e-4 * t - 3.4205e-6 * t**2 + 5.869e-9 * t**3
@@ -218,6 +225,8 @@ def test_reference_electrode_follows_chloride_activity():
     T = np.array([288.15, 298.15, 308.15])
     E = silver_chloride_electrode("saturated").potential(T)
     assert E.shape == (3,) and np.all(np.diff(E) < 0)
+    # saturated KCl at 25 °C: 4.81 mol/kg (CRC Handbook, aqueous solubility of inorganic
+    # compounds, converted with M(KCl) = 74.551 g/mol — from memory)
     assert kcl_saturation_molality(298.15) == 4.81
     with pytest.raises(InputError, match="tabulated"):
         kcl_saturation_molality(380.0)

@@ -181,7 +181,12 @@ def test_cross_differentiation_over_salt_components(x, pair):
 )
 def test_limiting_law(salts, log_I, T):
     """As I → 0, ln γ_i → −3Aφ z_i² √I (Debye & Hückel 1923); the relative deviation of a
-    Pitzer model vanishes like √I (f^γ contributes ≈ 1.5 b √I, the β terms ≈ 2|β| m/(3Aφ z²√I))."""
+    Pitzer model vanishes like √I (f^γ contributes ≈ 1.5 b √I, the β terms ≈ 2|β| m/(3Aφ z²√I)).
+
+    Bound on the coefficient of √I: for MgSO4 (β0 + β1 + β2 ≈ −33.7 at I → 0, m = I/4, z² = 4)
+    the two terms give 1.5·1.2 + 2·33.7/(4·3·0.39·4) ≈ 5.4 at 25 °C, more at 0 °C where Aφ is
+    smaller; the largest value seen over these salts, 0–50 °C and I = 1e-10…1e-6 mol/kg is 8.0.
+    12 is asserted (50 % margin); a 1 % error in Aφ would exceed it below I ≈ 1e-7 mol/kg."""
     comp = {}
     for s in salts:
         c, a, nc, na = SALTS[s]
@@ -192,7 +197,7 @@ def test_limiting_law(salts, log_I, T):
     sqI = np.sqrt(sol.ionic_strength)
     ll = -3.0 * act.debye_huckel_Aphi(T) * sol.charges**2 * sqI
     rel = np.abs(MODEL.ln_gamma(sol) / ll - 1.0)
-    assert np.all(rel <= 40.0 * sqI)
+    assert np.all(rel <= 12.0 * sqI)
 
 
 def test_temperature_array_equals_scalar_temperatures():

@@ -158,7 +158,8 @@ def test_inside_every_range_no_warning():
         warnings.simplefilter("error")
         res = PitzerModel().activity_coefficients(Solution({"K+": 0.5, "Na+": 0.5, "Cl-": 1.0}, T=303.15))
     assert res.in_range is True and res.notes == ()
-    assert 0 < res.water_activity < 1
+    # ln a_w = −φ M_w Σm (definition of φ), M_w = 18.015 g/mol (IUPAC atomic weights), Σm = 2 mol/kg
+    assert np.log(res.water_activity) == pytest.approx(-res.osmotic_coefficient * 0.018015 * 2.0, rel=1e-12)
 
 
 def test_edge_species_sets_and_batch_shapes():

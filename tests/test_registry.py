@@ -44,7 +44,8 @@ def test_register_and_refuse_duplicates(clean_registry):
     assert act.get_model("My_Davies").params["c"] == 0.2
     with pytest.raises(InputError):
         act.register_model("davies", DaviesModel)
-    act.register_model("davies", DaviesModel, replace=True)
+    act.register_model("davies", lambda: DaviesModel(c=0.25), replace=True)
+    assert act.get_model("davies").params["c"] == 0.25  # the replacement is what get_model returns
 
 
 def test_unknown_and_bad_factories(clean_registry):

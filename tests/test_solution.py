@@ -37,7 +37,8 @@ def test_molarity_to_molality_nacl_with_density_model():
 
 
 def test_dilute_molarity_is_close_to_molality():
-    # In dilute solution m ≈ c / ρ_w (common practice).
+    # In dilute solution m ≈ c / ρ_w (common practice); ρ_w(25 °C) = 0.99705 kg/L
+    # (Kell 1975; IAPWS-95 gives 997.047 kg/m³ — from memory).
     sol = Solution.from_molarity({"K+": 1e-3, "Cl-": 1e-3}, T=298.15)
     assert sol.molality("K+") == pytest.approx(1e-3 / 0.99705, rel=1e-4)
 
@@ -45,7 +46,11 @@ def test_dilute_molarity_is_close_to_molality():
 def test_from_molarity_needs_volume_or_density():
     with pytest.raises(InputError, match="density"):
         Solution.from_molarity({"Ag+": 0.1, "NO3-": 0.1})
-    Solution.from_molarity({"Ag+": 0.1, "NO3-": 0.1}, density=1.01)
+    # with a density: m = c / (ρ − c M), M(AgNO3) = 107.87 + 14.007 + 3 × 15.999 g/mol
+    # (IUPAC abridged standard atomic weights, Prohaska et al. 2022), by hand
+    sol = Solution.from_molarity({"Ag+": 0.1, "NO3-": 0.1}, density=1.01)
+    M = (107.87 + 14.007 + 3 * 15.999) / 1000
+    assert sol.molality("Ag+") == pytest.approx(0.1 / (1.01 - 0.1 * M), rel=1e-4)
 
 
 def test_solution_is_immutable():

@@ -35,11 +35,14 @@ def test_sample_moments_match_stated_mean_and_u(dist):
     Normal(2.0, 0.3), Rectangular(-1.0, 0.5), Triangular(4.0, 1.2), StudentT(1.0, 0.2, 4),
 ])
 def test_ppf_is_inverse_of_sampling_distribution(dist):
-    # Empirical quantiles of draws match ppf at the same probabilities.
+    # Empirical quantiles of draws match ppf at the same probabilities. The standard error
+    # of a sample quantile is √(p(1−p)/n)/f(x_p) (common practice): at p = 0.05, n = 2e5 it
+    # is 0.005 u for the normal and 0.009 u for t with ν = 4 (u = scale), so 0.04 u is more
+    # than 4 standard errors for every case here.
     q = np.array([0.05, 0.25, 0.5, 0.75, 0.95])
     draws = dist.sample(np.random.default_rng(3), 200_000)
-    assert np.allclose(np.quantile(draws, q), dist.ppf(q),
-                       atol=0.02 * dist.standard_uncertainty * 3)
+    assert np.allclose(np.quantile(draws, q), dist.ppf(q), rtol=0,
+                       atol=0.04 * dist.standard_uncertainty)
 
 
 def test_triangular_ppf_exact_points():

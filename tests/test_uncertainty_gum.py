@@ -212,8 +212,8 @@ def test_correlation_error_names_the_pair():
 
 
 def test_non_positive_semidefinite_correlation_is_rejected():
-    # r_ab = r_bc = 0.9 with r_ac = -0.9 is impossible: the matrix has a
-    # negative eigenvalue (1 - 0.9 - 0.9·... < 0; hand-computed, common practice).
+    # r_ab = r_bc = 0.9 with r_ac = -0.9 is impossible: (1, -1, 1) is an eigenvector of
+    # the matrix with eigenvalue 1 - 0.9 - 0.9 = -0.8 < 0 (hand-computed).
     inputs = {"a": Normal(0, 1), "b": Normal(0, 1), "c": Normal(0, 1)}
     corr = {("a", "b"): 0.9, ("b", "c"): 0.9, ("a", "c"): -0.9}
     with pytest.raises(InputError, match="positive semi-definite") as info:

@@ -49,6 +49,7 @@ def test_recipe_file(tmp_path):
     sol = solution_from_recipe(load_recipe(path))
     assert sol.T == pytest.approx(293.15)
     assert sol.species == ("Ca^2+", "Cl-")
+    # m ≈ c / ρ_w with ρ_w(20 °C) = 0.9982 kg/L (Kell 1975 — from memory; common practice)
     assert sol.molality("Ca2+") == pytest.approx(1e-3 / 0.9982, rel=2e-4)
 
 
