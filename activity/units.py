@@ -107,25 +107,24 @@ def parse_temperature(text: Any, field: str = "temperature") -> float:
     return round(value * scale + offset, 10)
 
 
+def _scaled(text: Any, field: str, table: dict, kind: str, positive: bool = False) -> float:
+    value, unit = _split(text, field)
+    out = value * _lookup(table, unit, field, text, kind)
+    if positive and out <= 0:
+        raise InputError("must be positive", field=field, value=text)
+    return out
+
+
 def parse_pressure(text: Any, field: str = "pressure") -> float:
     """Parse ``'1 atm'``, ``'1 bar'``, ``'101.325 kPa'`` into pascal."""
-    value, unit = _split(text, field)
-    p = value * _lookup(_PRESSURE, unit, field, text, "pressure")
-    if p <= 0:
-        raise InputError("must be positive", field=field, value=text)
-    return p
+    return _scaled(text, field, _PRESSURE, "pressure", positive=True)
 
 
 def parse_potential(text: Any, field: str = "potential") -> float:
     """Parse ``'-12.3 mV'`` or ``'0.2 V'`` into volts."""
-    value, unit = _split(text, field)
-    return value * _lookup(_POTENTIAL, unit, field, text, "potential")
+    return _scaled(text, field, _POTENTIAL, "potential")
 
 
 def parse_density(text: Any, field: str = "density") -> float:
     """Parse ``'1.037 g/cm3'`` or ``'1037 kg/m3'`` into kg/L."""
-    value, unit = _split(text, field)
-    rho = value * _lookup(_DENSITY, unit, field, text, "density")
-    if rho <= 0:
-        raise InputError("must be positive", field=field, value=text)
-    return rho
+    return _scaled(text, field, _DENSITY, "density", positive=True)
