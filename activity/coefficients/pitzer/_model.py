@@ -95,7 +95,7 @@ class PitzerModel(ActivityModel):
     def _bind(self, species, charges):
         b = bind(self.table, species, charges)
         if b.missing:
-            warnings.warn(b.notes[0] + " (Debye–Hückel term only)", CoverageWarning, stacklevel=4)
+            warnings.warn(b.notes[0], CoverageWarning, stacklevel=4)
         return b
 
     def _bound_notes(self, bound):
