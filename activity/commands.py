@@ -89,8 +89,6 @@ def solution_report(sol, model: str = "davies", fmt: str = "table") -> str:
     for r in results:
         for note in r.get("notes", []):
             lines.append(f"note: {note}")
-        if r.get("missing"):
-            lines.append(f"note: {r['model']}: no parameters for {', '.join(r['missing'])}")
     return "\n".join(lines)
 
 
