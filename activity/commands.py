@@ -4,38 +4,54 @@ Kept apart from :mod:`activity.cli` so that argument parsing stays import-light.
 """
 from __future__ import annotations
 
-import warnings
 from typing import Any
 
 import numpy as np
 
-from .coefficients import available_models, get_model
-from .errors import ActivityError, ActivityWarning
+from .coefficients import available_models, get_model, resolve_model
+from .errors import ActivityError, call_with_notes
 from .report import fmt, table, to_csv, to_json
 
 __all__ = ["evaluate_models", "solution_report", "models_report", "demo_report"]
 
 
-def evaluate_models(sol, names) -> list[dict[str, Any]]:
+def _run_models(sol, models) -> list[dict[str, Any]]:
+    """Each model (name or instance) on ``sol``: its result and notes, or its error."""
+    out = []
+    for m in models:
+        try:
+            model = resolve_model(m)
+            res, caught = call_with_notes(model.activity_coefficients, sol)
+            out.append({"model": model.name, "result": res, "validity": model.validity.describe(),
+                        "notes": list(dict.fromkeys(res.notes + caught))})
+        except ActivityError as exc:
+            out.append({"model": m if isinstance(m, str) else m.name, "error": str(exc)})
+    return out
+
+
+def _models_for(model: str) -> list:
+    """Every registered name for 'all', else the one model (unknown names fail here)."""
+    return list(available_models()) if model == "all" else [get_model(model)]
+
+
+def evaluate_models(sol, models) -> list[dict[str, Any]]:
     """Evaluate several models on one solution; failures and warnings are recorded."""
     out = []
-    for name in names:
-        entry: dict[str, Any] = {"model": name}
-        try:
-            model = get_model(name)
-            with warnings.catch_warnings(record=True) as caught:
-                warnings.simplefilter("always", ActivityWarning)
-                res = model.activity_coefficients(sol)
-            entry["gamma"] = {n: float(res[n]) for n in res}
-            entry["activity"] = {n: float(res[n]) * float(sol.m[i]) for i, n in enumerate(sol.species)}
-            entry["osmotic_coefficient"] = res.osmotic_coefficient
-            entry["water_activity"] = res.water_activity
-            entry["in_range"] = bool(np.all(res.in_range))
-            entry["notes"] = list(dict.fromkeys(res.notes + tuple(str(w.message) for w in caught)))
-            entry["missing"] = list(res.missing)
-            entry["validity"] = model.validity.describe()
-        except ActivityError as exc:
-            entry["error"] = str(exc)
+    for run in _run_models(sol, models):
+        entry: dict[str, Any] = {"model": run["model"]}
+        if "error" in run:
+            entry["error"] = run["error"]
+            out.append(entry)
+            continue
+        res = run["result"]
+        entry["gamma"] = {n: float(res[n]) for n in res}
+        entry["activity"] = {n: float(res[n]) * float(sol.m[i]) for i, n in enumerate(sol.species)}
+        entry["osmotic_coefficient"] = res.osmotic_coefficient
+        entry["water_activity"] = res.water_activity
+        entry["in_range"] = bool(np.all(res.in_range))
+        entry["notes"] = run["notes"]
+        entry["missing"] = list(res.missing)
+        entry["validity"] = run["validity"]
         out.append(entry)
     return out
 
@@ -46,14 +62,11 @@ def _verdict(entry: dict[str, Any]) -> str:
     return "within validity" if entry["in_range"] else "OUTSIDE validity"
 
 
-def solution_report(sol, model: str = "davies", fmt: str = "table") -> str:
+def solution_report(sol, model: str = "davies", form: str = "table") -> str:
     """Report one solution by one model, or by every model when ``model == 'all'``."""
     if sol.shape != ():
         raise ActivityError("the solution report takes one composition, not a batch")
-    names = list(available_models()) if model == "all" else [model]
-    if model != "all":
-        get_model(model)  # unknown names fail here with a clear InputError
-    results = evaluate_models(sol, names)
+    results = evaluate_models(sol, _models_for(model))
     if len(results) == 1 and "error" in results[0]:
         raise ActivityError(results[0]["error"])
     head = {
@@ -62,14 +75,14 @@ def solution_report(sol, model: str = "davies", fmt: str = "table") -> str:
         "ionic_strength_mol_per_kg": float(sol.ionic_strength),
         "species": [{"name": n, "charge": int(z), "molality_mol_per_kg": float(sol.m[i])} for i, (n, z) in enumerate(zip(sol.species, sol.charges))],
     }
-    if fmt == "json":
+    if form == "json":
         return to_json({**head, "models": results})
     ok = [r for r in results if "error" not in r]
-    if fmt == "csv":
+    if form == "csv":
         rows = [[r["model"], n, float(sol.m[i]), r["gamma"][n], r["activity"][n]] for r in ok for i, n in enumerate(sol.species)]
         return to_csv(["model", "species", "molality_mol_per_kg", "gamma", "activity"], rows)
     lines = [
-        f"Solution at {sol.T - 273.15:.2f} °C, {sol.P / 1000:.3f} kPa; ionic strength {fmt_num(sol.ionic_strength)} mol/kg"
+        f"Solution at {sol.T - 273.15:.2f} °C, {sol.P / 1000:.3f} kPa; ionic strength {fmt(sol.ionic_strength)} mol/kg"
     ]
     if len(results) == 1:
         r = results[0]
@@ -77,7 +90,7 @@ def solution_report(sol, model: str = "davies", fmt: str = "table") -> str:
         rows = [[n, int(z), float(sol.m[i]), r["gamma"][n], r["activity"][n]] for i, (n, z) in enumerate(zip(sol.species, sol.charges))]
         lines.append(table(["species", "z", "m / (mol/kg)", "γ", "activity"], rows))
         if r["osmotic_coefficient"] is not None:
-            lines.append(f"osmotic coefficient φ = {fmt_num(r['osmotic_coefficient'])}; water activity = {fmt_num(r['water_activity'], 7)}")
+            lines.append(f"osmotic coefficient φ = {fmt(r['osmotic_coefficient'])}; water activity = {fmt(r['water_activity'], 7)}")
     else:
         headers = ["species", "m / (mol/kg)"] + [f"γ {r['model']}" for r in ok]
         rows = [[n, float(sol.m[i])] + [r["gamma"][n] for r in ok] for i, n in enumerate(sol.species)]
@@ -92,27 +105,18 @@ def solution_report(sol, model: str = "davies", fmt: str = "table") -> str:
     return "\n".join(lines)
 
 
-def table_report(sol, labels, model: str = "davies", fmt: str = "table") -> str:
+def table_report(sol, labels, model: str = "davies", form: str = "table") -> str:
     """Report a batch read from a CSV file: one row per composition."""
-    names = list(available_models()) if model == "all" else [model]
-    if model != "all":
-        get_model(model)
     I = np.atleast_1d(np.asarray(sol.ionic_strength))
-    results = []
-    for name in names:
-        try:
-            with warnings.catch_warnings(record=True) as caught:
-                warnings.simplefilter("always", ActivityWarning)
-                res = get_model(name).activity_coefficients(sol)
-            gamma = res.gamma
-            notes = list(dict.fromkeys(res.notes + tuple(str(w.message) for w in caught)))
-            results.append({"model": name, "gamma": gamma, "in_range": np.broadcast_to(res.in_range, sol.shape), "notes": notes})
-        except ActivityError as exc:
-            results.append({"model": name, "error": str(exc)})
+    results = _run_models(sol, _models_for(model))
+    for r in results:
+        if "result" in r:
+            r["gamma"] = r["result"].gamma
+            r["in_range"] = np.broadcast_to(r["result"].in_range, sol.shape)
     ok = [r for r in results if "error" not in r]
     if not ok:
         raise ActivityError(results[0]["error"])
-    if fmt == "json":
+    if form == "json":
         return to_json({
             "rows": [
                 {"label": lab, "temperature_K": float(np.broadcast_to(sol.T, sol.shape)[k]), "ionic_strength_mol_per_kg": float(I[k]),
@@ -124,7 +128,7 @@ def table_report(sol, labels, model: str = "davies", fmt: str = "table") -> str:
             ],
             "notes": {r["model"]: r.get("notes", [r.get("error")]) for r in results},
         })
-    if fmt == "csv":
+    if form == "csv":
         headers = ["label", "model", "ionic_strength_mol_per_kg"] + [f"gamma {n}" for n in sol.species] + [f"activity {n}" for n in sol.species] + ["in_range"]
         rows = [[lab, r["model"], float(I[k])] + [float(r["gamma"][i, k]) for i in range(len(sol.species))]
                 + [float(r["gamma"][i, k] * sol.m[i, k]) for i in range(len(sol.species))] + [bool(r["in_range"][k])]
@@ -133,7 +137,7 @@ def table_report(sol, labels, model: str = "davies", fmt: str = "table") -> str:
     out = []
     for r in ok:
         headers = ["label", "I mol/kg"] + [f"a({n})" for n in sol.species]
-        rows = [[lab, float(I[k])] + [fmt_num(r["gamma"][i, k] * sol.m[i, k], 5) + ("" if r["in_range"][k] else "*") for i in range(len(sol.species))] for k, lab in enumerate(labels)]
+        rows = [[lab, float(I[k])] + [fmt(r["gamma"][i, k] * sol.m[i, k], 5) + ("" if r["in_range"][k] else "*") for i in range(len(sol.species))] for k, lab in enumerate(labels)]
         out.append(table(headers, rows, title=f"Activities by {r['model']} (* = outside the model's validity)"))
         out.extend(f"note: {n}" for n in r["notes"])
         out.append("")
@@ -141,11 +145,7 @@ def table_report(sol, labels, model: str = "davies", fmt: str = "table") -> str:
     return "\n".join(out).rstrip()
 
 
-def fmt_num(x: Any, digits: int = 5) -> str:
-    return fmt(float(x), digits)
-
-
-def models_report(fmt: str = "table") -> str:
+def models_report(form: str = "table") -> str:
     """The registered models with their validity ranges."""
     rows = []
     for name in available_models():
@@ -154,10 +154,10 @@ def models_report(fmt: str = "table") -> str:
             rows.append({"model": name, "max_ionic_strength_mol_per_kg": v.max_ionic_strength, "T_min_K": v.T_min, "T_max_K": v.T_max, "species": v.species, "basis": v.basis})
         except ActivityError as exc:
             rows.append({"model": name, "error": str(exc)})
-    if fmt == "json":
+    if form == "json":
         return to_json(rows)
     cols = ["model", "max_ionic_strength_mol_per_kg", "T_min_K", "T_max_K", "species", "basis"]
-    if fmt == "csv":
+    if form == "csv":
         return to_csv(cols, [[r.get(c) for c in cols] for r in rows])
     trows = []
     for r in rows:
@@ -169,13 +169,13 @@ def models_report(fmt: str = "table") -> str:
     return table(["model", "I max / (mol/kg)", "T / °C", "species covered (basis)"], trows)
 
 
-def demo_report(fmt: str = "table") -> str:
+def demo_report(form: str = "table") -> str:
     """The built-in demo: calcium ISE standards, every model side by side."""
     from .demo import run_demo
 
     res = run_demo()
     ok = [c for c in res.columns if c.error is None]
-    if fmt == "json":
+    if form == "json":
         return to_json({
             "title": res.title,
             "temperature_K": res.T,
@@ -184,7 +184,7 @@ def demo_report(fmt: str = "table") -> str:
             "reference_electrode": {"name": "Ag/AgCl in 3 mol/L KCl", "potential_V_vs_SHE": res.reference_potential, "notes": list(res.reference_notes)},
             "models": [{"model": c.model, "gamma_Ca": c.gamma, "activity_Ca": c.activity, "emf_V": c.emf, "in_range": c.in_range, "notes": list(c.notes), "error": c.error} for c in res.columns],
         })
-    if fmt == "csv":
+    if form == "csv":
         rows = [[c.model, float(res.calcium_molarity[k]), float(res.calcium_molality[k]), float(res.ionic_strength[k]), float(c.gamma[k]), float(c.activity[k]), float(c.emf[k]), bool(c.in_range[k])] for c in ok for k in range(len(res.calcium_molarity))]
         return to_csv(["model", "calcium_mol_per_L", "calcium_mol_per_kg", "ionic_strength_mol_per_kg", "gamma_Ca", "activity_Ca", "emf_V", "in_range"], rows)
     out = [res.title, f"Temperature {res.T - 273.15:.2f} °C. Each standard: CaCl2 in 0.1 mol/L KCl.", ""]
@@ -192,7 +192,7 @@ def demo_report(fmt: str = "table") -> str:
     rows = []
     for k in range(len(res.calcium_molarity)):
         row = [float(res.calcium_molarity[k]), float(res.calcium_molality[k]), float(res.ionic_strength[k])]
-        row += [fmt_num(c.activity[k], 4) + ("" if c.in_range[k] else "*") for c in ok]
+        row += [fmt(c.activity[k], 4) + ("" if c.in_range[k] else "*") for c in ok]
         rows.append(row)
     out.append(table(headers, rows, title="Calcium activity of each standard by model (* = outside the model's validity)"))
     rows = [[c.model] + [float(g) for g in c.gamma] for c in ok]

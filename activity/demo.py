@@ -15,14 +15,13 @@ of magnitude; the reference potential is computed from its KCl filling.
 """
 from __future__ import annotations
 
-import warnings
 from dataclasses import dataclass, field
 from typing import Any, Sequence
 
 import numpy as np
 
 from .coefficients import available_models, get_model
-from .errors import ActivityError, ActivityWarning
+from .errors import ActivityError, call_with_notes
 from .solution import Solution
 
 __all__ = ["SCENARIO", "calcium_standards", "demo_cell", "ModelColumn", "DemoResult", "run_demo"]
@@ -90,21 +89,20 @@ def run_demo(models: Sequence[str] | None = None) -> DemoResult:
     i = sol.index("Ca^2+")
     cell = demo_cell()
     columns = []
+    ref = None
     for name in models or available_models():
         try:
-            with warnings.catch_warnings(record=True) as caught:
-                warnings.simplefilter("always", ActivityWarning)
-                model = get_model(name)
-                res = model.activity_coefficients(sol)
-                emf = cell.evaluate(sol, model)
-            gamma = res.gamma[i]
-            notes = tuple(dict.fromkeys(res.notes + tuple(str(w.message) for w in caught)))
-            columns.append(ModelColumn(name, gamma, gamma * sol.m[i], np.broadcast_to(res.in_range, sol.shape), np.asarray(emf.emf), notes))
+            res, caught = call_with_notes(cell.evaluate, sol, get_model(name))
         except ActivityError as exc:
             columns.append(ModelColumn(name, error=str(exc)))
-    with warnings.catch_warnings(record=True):
-        warnings.simplefilter("always", ActivityWarning)
-        ref = cell.left.evaluate(SCENARIO["temperature"])
+            continue
+        # one evaluation gives the EMF and, through the ISE's record, the calcium activity
+        activity = 10.0 ** np.asarray(res.right.log10_activity["Ca^2+"])
+        notes = tuple(dict.fromkeys(res.right.notes + caught))
+        columns.append(ModelColumn(name, activity / sol.m[i], activity, np.broadcast_to(res.right.in_range, sol.shape), np.asarray(res.emf), notes))
+        ref = res.left  # the reference electrode uses its own model, the same for every column
+    if ref is None:
+        ref, _ = call_with_notes(cell.left.evaluate, SCENARIO["temperature"])
     return DemoResult(
         SCENARIO["title"],
         SCENARIO["temperature"],

@@ -7,7 +7,8 @@ them as a group.
 """
 from __future__ import annotations
 
-from typing import Any
+import warnings
+from typing import Any, Callable
 
 __all__ = [
     "ActivityError",
@@ -18,6 +19,7 @@ __all__ = [
     "ValidityWarning",
     "CoverageWarning",
     "ElectroneutralityWarning",
+    "call_with_notes",
 ]
 
 _MISSING = object()
@@ -84,3 +86,26 @@ class CoverageWarning(ActivityWarning):
 
 class ElectroneutralityWarning(ActivityWarning):
     """The composition is not electrically neutral within the tolerance."""
+
+
+def call_with_notes(func: Callable[..., Any], *args: Any, **kw: Any) -> tuple[Any, tuple[str, ...]]:
+    """Call ``func`` with the package's warnings recorded instead of shown.
+
+    Returns ``(result, notes)``: the messages of the :class:`ActivityWarning` s raised,
+    each once, in order. Other warnings are passed on unchanged.
+
+    Examples
+    --------
+    >>> call_with_notes(lambda: warnings.warn("look", ActivityWarning) or 1)
+    (1, ('look',))
+    """
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", ActivityWarning)
+        out = func(*args, **kw)
+    notes = []
+    for w in caught:
+        if issubclass(w.category, ActivityWarning):
+            notes.append(str(w.message))
+        else:
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+    return out, tuple(dict.fromkeys(notes))
