@@ -8,11 +8,10 @@ from __future__ import annotations
 import argparse
 import importlib
 import sys
-import warnings
 from typing import Any, Callable, Sequence
 
 from . import __version__
-from .errors import ActivityError, ActivityWarning
+from .errors import ActivityError, call_with_notes
 
 __all__ = ["main", "build_parser", "CAUTION"]
 
@@ -65,8 +64,8 @@ def solution_from_args(args: argparse.Namespace):
         recipe["composition"] = comp
     if not recipe.get("composition"):
         raise InputError("give a composition as SPECIES=AMOUNT pairs or --recipe FILE", field="composition", value=None)
-    for key, attr in (("temperature", "temperature"), ("pressure", "pressure"), ("density", "density"), ("balance_with", "balance_with")):
-        value = getattr(args, attr, None)
+    for key in ("temperature", "pressure", "density", "balance_with"):
+        value = getattr(args, key, None)
         if value is not None:
             recipe[key] = value
     return show_cautions(solution_from_recipe(recipe))
@@ -91,14 +90,15 @@ def emit(args: argparse.Namespace, text: str) -> None:
         print(text)
 
 
-def _fmt_T(T: float) -> str:
-    return f"{T - 273.15:.2f} °C ({T:.2f} K)"
+def output_format(args: argparse.Namespace) -> str:
+    """'json', 'csv' or 'table', from the --json / --csv flags."""
+    return "json" if args.json else "csv" if args.csv else "table"
 
 
 def cmd_solution(args: argparse.Namespace) -> int:
     from .commands import solution_report, table_report
 
-    form = "json" if args.json else "csv" if args.csv else "table"
+    form = output_format(args)
     if args.table:
         from .errors import InputError
         from .tablefile import read_table, solution_from_table
@@ -106,26 +106,27 @@ def cmd_solution(args: argparse.Namespace) -> int:
         if args.pairs or args.recipe:
             raise InputError("give either --table FILE or a composition, not both", field="table", value=args.table)
         tbl = read_table(args.table)
-        sol = show_cautions(solution_from_table(tbl, balance_with=args.balance_with) if args.balance_with else solution_from_table(tbl))
-        emit(args, table_report(sol, tbl.labels, args.model, fmt=form))
+        sol = show_cautions(solution_from_table(tbl, balance_with=args.balance_with))
+        emit(args, table_report(sol, tbl.labels, args.model, form=form))
         return 0
     sol = solution_from_args(args)
-    emit(args, solution_report(sol, args.model, fmt="json" if args.json else "csv" if args.csv else "table"))
+    emit(args, solution_report(sol, args.model, form=form))
     return 0
 
 
 def cmd_models(args: argparse.Namespace) -> int:
     from .commands import models_report
 
-    emit(args, models_report(fmt="json" if args.json else "csv" if args.csv else "table"))
+    emit(args, models_report(form=output_format(args)))
     return 0
 
 
 def cmd_demo(args: argparse.Namespace) -> int:
     from .commands import demo_report
 
-    text = demo_report(fmt="json" if args.json else "csv" if args.csv else "table")
-    emit(args, text if (args.json or args.csv) else text + "\n\n" + CAUTION)
+    form = output_format(args)
+    text = demo_report(form=form)
+    emit(args, text if form != "table" else text + "\n\n" + CAUTION)
     return 0
 
 
@@ -164,15 +165,9 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def _run(func: Callable[[argparse.Namespace], int], args: argparse.Namespace) -> int:
-    with warnings.catch_warnings(record=True) as caught:
-        warnings.simplefilter("always", ActivityWarning)
-        rc = func(args)
-    seen = set()
-    for w in caught:
-        msg = str(w.message)
-        if issubclass(w.category, ActivityWarning) and msg not in seen:
-            seen.add(msg)
-            print(f"warning: {msg}", file=sys.stderr)
+    rc, notes = call_with_notes(func, args)
+    for msg in notes:
+        print(f"warning: {msg}", file=sys.stderr)
     return rc
 
 

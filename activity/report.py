@@ -35,7 +35,7 @@ def fmt(value: Any, digits: int = 5) -> str:
             return "nan"
         if v != 0 and (abs(v) < 1e-4 or abs(v) >= 1e7):
             return f"{v:.{digits - 1}e}"
-        return f"{v:.{digits}g}" if abs(v) >= 1 else f"{v:.{digits}g}"
+        return f"{v:.{digits}g}"
     return str(value)
 
 

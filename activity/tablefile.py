@@ -43,10 +43,6 @@ class TableInput:
     conditions: dict = field(default_factory=dict)  # 'temperature'/'pressure' → (unit, values)
     extra: dict = field(default_factory=dict)  # other name → (unit, values)
 
-    @property
-    def rows(self) -> int:
-        return len(self.labels)
-
 
 def _number(text: str, where: str) -> float:
     try:

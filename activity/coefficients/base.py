@@ -24,6 +24,11 @@ from ..solution import Solution
 __all__ = ["Validity", "CoefficientResult", "ActivityModel"]
 
 
+def _water_activity(phi: Any, total_molality: Any) -> Any:
+    """ln a_w = −φ M_w Σm (definition of the molal osmotic coefficient)."""
+    return scalar_or_array(np.exp(-np.asarray(phi) * M_WATER * np.asarray(total_molality)))
+
+
 @dataclass(frozen=True)
 class Validity:
     """Where a model holds.
@@ -106,9 +111,7 @@ class CoefficientResult(Mapping):
     def water_activity(self) -> Any:
         """Activity of water exp(−φ M_w Σm), or None where φ is undefined."""
         phi = self.osmotic_coefficient
-        if phi is None:
-            return None
-        return scalar_or_array(np.exp(-np.asarray(phi) * M_WATER * np.asarray(self._total_molality)))
+        return None if phi is None else _water_activity(phi, self._total_molality)
 
     def __getitem__(self, name: str) -> Any:
         from ..species import parse_species
@@ -256,5 +259,4 @@ class ActivityModel:
 
     def water_activity(self, sol: Solution) -> Any:
         """Activity of water, ``exp(−φ M_w Σm)``; ModelError where φ is undefined."""
-        phi = self.osmotic_coefficient(sol)
-        return scalar_or_array(np.exp(-np.asarray(phi) * M_WATER * np.asarray(sol.total_molality)))
+        return _water_activity(self.osmotic_coefficient(sol), sol.total_molality)
