@@ -9,6 +9,7 @@ import numpy as np
 from scipy import stats
 
 from activity.errors import InputError
+from activity.report import fmt, table
 
 __all__ = ["BudgetRow", "PropagationResult", "SortedSample", "interval_indices",
            "coverage_probability", "coverage_kind"]
@@ -143,31 +144,6 @@ class BudgetRow:
     sensitivity: float
     contribution: float
     share: float
-
-
-def _fmt(x):
-    """Compact number for tables."""
-    if x is None:
-        return "-"
-    if isinstance(x, float) and math.isinf(x):
-        return "inf"
-    if isinstance(x, float) and math.isnan(x):
-        return "nan"
-    return f"{x:.6g}"
-
-
-def _table(header, rows):
-    """Plain-text table with left-aligned first columns and right-aligned numbers."""
-    cells = [header] + [[_fmt(c) if not isinstance(c, str) else c for c in row]
-                        for row in rows]
-    widths = [max(len(r[i]) for r in cells) for i in range(len(header))]
-    lines = []
-    for row in cells:
-        parts = [row[i].ljust(widths[i]) if i < 2 else row[i].rjust(widths[i])
-                 for i in range(len(row))]
-        lines.append("  ".join(parts).rstrip())
-    lines.insert(1, "  ".join("-" * w for w in widths))
-    return "\n".join(lines)
 
 
 @dataclass(frozen=True, repr=False)
@@ -305,7 +281,7 @@ class PropagationResult:
         rows = [[r["name"], r["distribution"], r["value"], r["standard_uncertainty"],
                  r["dof"], r["sensitivity"], r["contribution"],
                  f"{100 * r['share']:.1f} %"] for r in self.budget_table()]
-        text = [_table(header, rows), self._result_line()]
+        text = [table(header, rows, digits=6), self._result_line()]
         if self.method == "monte-carlo" and self.budget:
             text.append("(budget: GUM sensitivities at the input estimates; shares of "
                         "the linearised variance)")
@@ -316,13 +292,13 @@ class PropagationResult:
     def _result_line(self):
         low, high = self.coverage_interval()
         percent = f"{100 * self.coverage:g} %"
-        line = (f"output ({self.method}): {_fmt(self.value)}, u = "
-                f"{_fmt(self.standard_uncertainty)}")
+        line = (f"output ({self.method}): {fmt(self.value, 6)}, u = "
+                f"{fmt(self.standard_uncertainty, 6)}")
         if self.method == "gum":
-            line += f", dof = {_fmt(self.dof)}, k = {_fmt(self.coverage_factor())}"
+            line += f", dof = {fmt(self.dof, 6)}, k = {fmt(self.coverage_factor(), 6)}"
         else:
             line += f", trials = {self.trials}"
-        return line + f", {percent} interval [{_fmt(low)}, {_fmt(high)}]"
+        return line + f", {percent} interval [{fmt(low, 6)}, {fmt(high, 6)}]"
 
     def summary(self):
         """Multi-line text: method, output, interval and the budget."""
