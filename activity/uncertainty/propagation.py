@@ -11,7 +11,7 @@ from activity.errors import InputError
 
 from ._model import Model
 from .distributions import real_number
-from .gum import budget_rows, combine, gum, linearise
+from .gum import gum
 from .montecarlo import block_size, numerical_tolerance, run_adaptive, run_fixed
 from .result import PropagationResult, coverage_kind, coverage_probability
 
@@ -150,13 +150,11 @@ def propagate(f, inputs, method="gum", *, trials=None, seed=None, correlation=No
         max_trials = _count(max_trials, "max_trials", 2 * block_size(coverage))
         mean, sd, sample, trials, delta, converged = run_adaptive(
             model, rng, coverage, interval, tolerance, digits, chunk_size, max_trials)
-    _, sensitivities = linearise(model, step)
-    variance, cross = combine(sensitivities, model.uncertainties, model.correlation)
-    rows, _ = budget_rows(model, sensitivities, variance)
+    linear = gum(model, coverage, step)     # the budget: GUM sensitivities at the estimates
     return PropagationResult(
         value=mean, standard_uncertainty=sd, dof=None, method="monte-carlo",
-        coverage=coverage, budget=rows,
-        correlation_share=cross / variance if variance > 0 else 0.0,
+        coverage=coverage, budget=linear.budget,
+        correlation_share=linear.correlation_share,
         trials=trials, tolerance=delta, converged=converged, samples=sample)
 
 
