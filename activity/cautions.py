@@ -41,6 +41,8 @@ def cautions_for(sol) -> list[str]:
             "deep burns and systemic poisoning; handle only under your site's HF procedure, "
             "with the first aid it prescribes at hand"
         )
+    # 0.1 mol/kg (pH ≈ 1, pH ≈ 13 for OH-): our threshold for "strong"; solutions this
+    # concentrated are handled as corrosive in common laboratory practice.
     if most("H+") >= 0.1:
         out.append("caution: strong acid (H+ ≥ 0.1 mol/kg): corrosive; follow your local codes and validated procedures")
     if most("OH-") >= 0.1:

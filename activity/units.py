@@ -77,7 +77,7 @@ def parse_amount(text: Any, field: str = "amount") -> Amount:
     value, unit = _split(text, field)
     if value < 0:
         raise InputError("must not be negative", field=field, value=text)
-    aliases = {"M": "mol/L", "mM": "mmol/L", "µM": "µmol/L", "uM": "umol/L", "m": "mol/kg", "mm": "mmol/kg"}
+    aliases = {"M": "mol/L", "mM": "mmol/L", "µM": "µmol/L", "uM": "umol/L", "m": "mol/kg"}  # "m": molal (common practice)
     unit = aliases.get(unit, unit)
     m = _AMOUNT_RE.match(unit)
     if not m:
