@@ -200,8 +200,7 @@ def run_adaptive(model, rng, p, kind, tolerance, digits, chunk, max_trials):
     del stored
     values.sort()
     h = len(history["mean"])
-    moments = _Moments()
-    for mean, m2 in zip(history["mean"], history["m2"]):
-        moments.add(m, mean, m2)
-    return (moments.mean, moments.sd, SortedSample(reference, values), h * m,
-            delta, converged)
+    # Equal blocks: the overall mean is the mean of the block means.
+    mean = float(np.mean(history["mean"]))
+    sd = _pooled_sd(history["mean"], history["m2"], m)
+    return mean, sd, SortedSample(reference, values), h * m, delta, converged
