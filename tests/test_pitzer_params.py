@@ -140,10 +140,12 @@ def test_missing_pair_leaves_only_the_debye_huckel_term():
 
 def test_beyond_fitted_molality_warns_and_flags_rows():
     m = np.array([1.0, 7.0])
-    with pytest.warns(act.ValidityWarning, match="Na\\+ Cl-"):
+    with pytest.warns(act.ValidityWarning, match="Na\\+ Cl-") as seen:
         res = PitzerModel().activity_coefficients(Solution({"Na+": m, "Cl-": m}))
     assert list(res.in_range) == [True, False]
     assert any("Na+ Cl-" in n and "1 of 2" in n for n in res.notes)
+    # each warning repeats a recorded note word for word (reports merge the two without duplicates)
+    assert {str(w.message) for w in seen if issubclass(w.category, act.ValidityWarning)} <= set(res.notes)
 
 
 def test_outside_pair_temperature_warns():

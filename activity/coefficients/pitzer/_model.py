@@ -1,16 +1,15 @@
 """The Pitzer ion-interaction model as an :class:`~activity.coefficients.base.ActivityModel`."""
 from __future__ import annotations
 
-import dataclasses
 import warnings
 from typing import Any
 
 import numpy as np
 
 from ...constants import LN10, ZERO_CELSIUS
-from ...errors import CoverageWarning, InputError, ValidityWarning
+from ...errors import CoverageWarning
 from ...water import debye_huckel_Aphi
-from ..base import ActivityModel, CoefficientResult, Validity
+from ..base import ActivityModel, Validity
 from ._binding import bind
 from ._kernel import evaluate
 from ._params import ParameterSet, combine
@@ -153,27 +152,13 @@ class PitzerModel(ActivityModel):
         g = self._run(sol, bound, {"gex"})["gex"]
         return float(g) if g.ndim == 0 else g
 
-    def activity_coefficients(self, sol) -> CoefficientResult:
-        """Activity coefficients, osmotic coefficient and water activity of ``sol``.
-
-        As :meth:`ActivityModel.activity_coefficients`, plus per-interaction checks of
-        the fitted molality and temperature ranges (noted, warned, and reflected in
-        ``in_range``).
-        """
-        res = super().activity_coefficients(sol)
-        bound = self.bind(sol.species, sol.charges)
-        ok, notes = self._pair_checks(sol, bound)
-        if not notes:
-            return res
-        for note in notes:
-            warnings.warn(note + "; results are outside the parameters' validity", ValidityWarning, stacklevel=2)
-        in_range = np.asarray(res.in_range) & ok
-        return dataclasses.replace(
-            res,
-            in_range=bool(in_range) if in_range.ndim == 0 else in_range,
-            notes=res.notes + notes,
-            _index={},
-        )
+    def _check(self, sol, I):
+        # The model-wide checks of the base class, plus each interaction's fitted molality
+        # and temperature range: noted, warned (by the base, word for word as noted) and
+        # reflected in ``in_range``.
+        ok, notes = super()._check(sol, I)
+        pok, pnotes = self._pair_checks(sol, self.bind(sol.species, sol.charges))
+        return ok & pok, notes + pnotes
 
     def _pair_checks(self, sol, bound) -> tuple[np.ndarray, tuple]:
         """Rows beyond an interaction's fitted ionic strength or temperature range."""
