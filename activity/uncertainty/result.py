@@ -53,9 +53,10 @@ def interval_indices(m, p):
     start : int
         Zero-based index of the lower end of the symmetric interval.
     """
-    pm = p * m
-    q = int(round(pm)) if abs(pm - round(pm)) < 1e-9 else int(math.floor(pm + 0.5))
-    r = (m - q) // 2 if (m - q) % 2 == 0 else (m - q + 1) // 2
+    # floor(pM + 1/2) is pM itself when pM is an integer, and (M − q + 1) // 2
+    # is (M − q)/2 when that is an integer: one expression covers each case.
+    q = math.floor(p * m + 0.5)
+    r = (m - q + 1) // 2
     if q >= m or r < 1:
         raise InputError(f"{m} Monte Carlo trials are too few for a coverage interval "
                          f"with p = {p}; use at least {math.ceil(100 / (1 - p))}",
