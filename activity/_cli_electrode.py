@@ -386,6 +386,7 @@ def cmd_invert(args: argparse.Namespace) -> int:
     from .electrodes import IonSelectiveElectrode
     from .errors import InputError
     from .inverse import molality_from_emf, molality_from_potential
+    from .nernst import HalfReaction
     from .recipe import parse_pairs
     from .species import parse_species
     from .units import parse_potential
@@ -400,6 +401,9 @@ def cmd_invert(args: argparse.Namespace) -> int:
         electrode = IonSelectiveElectrode(args.ise, parse_potential(args.e0, field="e0"), selectivity=sel)
     else:
         electrode = electrode_from_spec(args.couple)
+        if not isinstance(electrode, HalfReaction):
+            raise InputError("a reference electrode has no determinand; give a couple such as 'Ag+/Ag' (or --ise)",
+                             field="couple", value=args.couple)
     labels = None
     if args.table:
         from .tablefile import read_table, solution_from_table

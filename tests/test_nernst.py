@@ -309,6 +309,9 @@ def test_cli_reference_and_invert(capsys):
         (("reference", "calomel", "--filling", "3 g/L"), "filling"),
         (("invert", "--reading", "0.5 V", "K+=0.1 mol/kg", "Cl-=0.1 mol/kg"), "electrode"),
         (("invert", "--ise", "Ca2+", "--reading", "0.5", "K+=0.1 mol/kg", "Cl-=0.1 mol/kg"), "e0"),
+        # a reference electrode named as the measuring couple: one line, not a traceback
+        (("invert", "--couple", "calomel", "--against", "silver-chloride", "--reading", "0.1 V", "K+=0.1 mol/kg",
+          "Cl-=0.1 mol/kg"), "couple"),
     ],
 )
 def test_cli_errors_are_one_line_exit_2(capsys, argv, field):
