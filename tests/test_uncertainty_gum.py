@@ -39,6 +39,10 @@ def test_nernst_matches_uncertainties_package():
     a = unc.ufloat(0.0100, 0.0002)
     reference = E0 + (R * T * math.log(10.0) / F) / 1 * umath.log10(a)
     result = propagate(nernst, NERNST_INPUTS)
+    # Central differences at h = 1e-3·u(x): truncation (h/a)²/3 = 1.3e-10 relative for
+    # log10(a), E0 and T enter linearly; the rounding error is kept below 1e-6 by
+    # construction (gum._ROUNDING_LIMIT), hence rel=1e-6 for the sensitivities. u_c
+    # agrees to about 1e-10 here; rel=1e-7 leaves a factor 1000.
     assert result.value == pytest.approx(reference.nominal_value, rel=1e-12)
     assert result.standard_uncertainty == pytest.approx(reference.std_dev, rel=1e-7)
     derivatives = reference.derivatives
@@ -70,6 +74,8 @@ def test_slope_sensitivity_is_analytic():
     result = propagate(nernst, NERNST_INPUTS)
     slope = R * 298.15 * math.log(10) / F
     assert slope == pytest.approx(0.059159, abs=1e-6)
+    # Truncation of the central difference for log10(a): (h/a)²/3 = 1.3e-10 relative
+    # with h = 1e-3·u(a) = 2e-7; rel=1e-8 leaves a factor 75.
     a_row = result.budget[2]
     assert a_row.sensitivity == pytest.approx(slope / (0.01 * math.log(10)), rel=1e-8)
 

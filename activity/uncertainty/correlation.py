@@ -16,7 +16,9 @@ from activity.errors import InputError
 
 __all__ = ["correlation_matrix", "correlation_factor"]
 
-#: Eigenvalues above ``-_PSD_TOLERANCE`` count as non-negative.
+#: Eigenvalues above ``-_PSD_TOLERANCE`` count as non-negative. Our choice: far above
+#: the rounding of ``eigh`` on a matrix with entries <= 1 (about k·ε ≈ 1e-15 for a few
+#: inputs), far below the eigenvalue of any real inconsistency (-0.8 for r = 0.9, 0.9, -0.9).
 _PSD_TOLERANCE = 1e-10
 
 
@@ -117,6 +119,7 @@ def _check_psd(matrix, names):
     # part in the inconsistency; name the two that weigh most.
     weights = np.abs(eigenvectors[:, 0])
     first, second = np.argsort(weights)[::-1][:2]
+    # Components below 1e-8 (our choice, far above eigh's rounding) count as zero.
     involved = [names[i] for i in np.flatnonzero(weights > 1e-8)]
     pair = (names[min(first, second)], names[max(first, second)])
     raise InputError(

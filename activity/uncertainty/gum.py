@@ -6,14 +6,16 @@ each input i there are two pairs of rows with input i moved by ±h_i and by
 ±u(x_i).
 
 Step size: ``h_i = step · u(x_i)`` with ``step = 1e-3`` by default, but not
-below ``1e-8·|x_i|``. A step tied to u(x_i) makes the derivative describe the
-model over the range the input really varies; 1e-3 keeps the truncation error
+below ``1e-8·|x_i|`` (about √ε, so that x_i ± h_i still differ from x_i by
+some 10⁸ units in the last place; common practice). A step tied to u(x_i)
+makes the derivative describe the model over the range the input really varies; 1e-3 keeps the truncation error
 (∝ h²) negligible. Its rounding error is about ε·|y|/|Δy| relative, with Δy
 the change of the output over ±h_i; when that exceeds 1e-6 (the output is
 too large to resolve so small a change) the difference over ±u(x_i) is used
 instead, whose rounding error is a thousand times smaller and which is exact
 for a linear model. An input with u(x_i) = 0 still gets a sensitivity (step
-``1e-6·max(|x_i|, 1)``) for the budget; it contributes nothing.
+``1e-6·max(|x_i|, 1)``, our choice: no u to scale by, so a small relative step)
+for the budget; it contributes nothing.
 """
 
 from __future__ import annotations

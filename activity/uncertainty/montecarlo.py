@@ -43,6 +43,7 @@ def block_size(p):
     >>> block_size(0.95), block_size(0.999)
     (10000, 100000)
     """
+    # 1e-9 absorbs rounding: 100/(1 − 0.9) evaluates to 1000.0000000000002.
     return max(math.ceil(100.0 / (1.0 - p) - 1e-9), 10_000)
 
 

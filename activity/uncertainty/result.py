@@ -68,7 +68,8 @@ def shortest_start(ordered, q, block=1 << 20):
     """Zero-based start of the shortest interval spanning ``q`` steps of ``ordered``.
 
     ``ordered`` is sorted along its last axis; a 2-D array gives one start per
-    row. 1-D input is scanned in blocks to keep memory bounded.
+    row. 1-D input is scanned in blocks of 2²⁰ widths (8 MB of float64 at a
+    time; our choice) to keep memory bounded.
     """
     ordered = np.asarray(ordered)
     if ordered.ndim == 2:
