@@ -17,7 +17,7 @@ import numpy as np
 
 from . import _checks
 from .coefficients import resolve_model
-from .electrodes import IonSelectiveElectrode, ReferenceElectrode
+from .electrodes import IonSelectiveElectrode, ReferenceElectrode, _evaluate_in
 from .errors import InputError
 from .junction import henderson_potential
 from .nernst import ElectrodeResult, HalfReaction
@@ -90,14 +90,6 @@ class Cell:
             raise InputError("must be None, 'henderson' or a number in V", field="junction", value=junction)
         self.left, self.right, self.junction = left, right, junction
 
-    @staticmethod
-    def _electrode(e: Any, sol: Solution, model: Any, T: Any, pressures: Any) -> ElectrodeResult:
-        if isinstance(e, ReferenceElectrode):
-            return e.evaluate(T)
-        if isinstance(e, HalfReaction):
-            return e.evaluate(sol, model, pressures=pressures)
-        return e.evaluate(sol, model)
-
     def evaluate(
         self,
         sol: Solution | None = None,
@@ -135,8 +127,16 @@ class Cell:
         if not samples:
             raise InputError("a cell of two reference electrodes has nothing to measure", field="solution", value=None)
         T = samples[0].T_compact
-        left = self._electrode(self.left, comp["left"], model, T, pressures)
-        right = self._electrode(self.right, comp["right"], model, T, pressures)
+        gamma: dict[int, Any] = {}  # one evaluation of the model per solution, shared by the electrodes in it
+
+        def electrode(e: Any, s: Solution | None) -> ElectrodeResult:
+            if s is None:
+                return e.evaluate(T)  # a reference electrode: its own filling and model
+            if id(s) not in gamma:
+                gamma[id(s)] = model.activity_coefficients(s)
+            return _evaluate_in(e, s, gamma[id(s)], pressures)
+
+        left, right = electrode(self.left, comp["left"]), electrode(self.right, comp["right"])
         notes: list[str] = []
         ej: Any = 0.0
         lsol = comp["left"] if comp["left"] is not None else self.left.filling_solution(T)

@@ -268,8 +268,10 @@ class IonSelectiveElectrode:
 
     def evaluate(self, sol: Solution, model: Any = "davies") -> ElectrodeResult:
         """Electrode potential in ``sol`` (same scale as E0), with activities used."""
-        model = resolve_model(model)
-        g = model.activity_coefficients(sol)
+        return self._evaluate(sol, resolve_model(model).activity_coefficients(sol))
+
+    def _evaluate(self, sol: Solution, g: Any) -> ElectrodeResult:
+        """:meth:`evaluate` with the model's result ``g`` for ``sol`` already computed."""
         T = sol.T_compact
         E0 = self.E0 + self.dE0dT * (np.asarray(T) - T_REF)
         shared = self._shared_gamma(sol, g.log10_gamma)
@@ -290,3 +292,12 @@ class IonSelectiveElectrode:
 
     def __repr__(self) -> str:
         return f"IonSelectiveElectrode({self.ion!r}, E0={self.E0!r}, selectivity={self.selectivity!r})"
+
+
+def _evaluate_in(electrode: HalfReaction | IonSelectiveElectrode, sol: Solution, g: Any, pressures: Mapping[str, Any] | None = None) -> ElectrodeResult:
+    """A half-reaction or an ion-selective electrode in ``sol``, given the model's result ``g``
+    for ``sol`` (so that electrodes sharing a solution share one evaluation of the model);
+    gas pressures apply to half-reactions only."""
+    if isinstance(electrode, HalfReaction):
+        return electrode._evaluate(sol, g, pressures=pressures)
+    return electrode._evaluate(sol, g)

@@ -325,8 +325,18 @@ class HalfReaction:
         """
         if not isinstance(sol, Solution):
             raise InputError("expected an activity.Solution", field="solution", value=type(sol).__name__)
-        model = resolve_model(model)
-        g = model.activity_coefficients(sol)
+        g = resolve_model(model).activity_coefficients(sol)
+        return self._evaluate(sol, g, pressures=pressures, activities=activities)
+
+    def _evaluate(
+        self,
+        sol: Solution,
+        g: Any,
+        *,
+        pressures: Mapping[str, Any] | None = None,
+        activities: Mapping[str, Any] | None = None,
+    ) -> ElectrodeResult:
+        """:meth:`evaluate` with the model's result ``g`` for ``sol`` already computed."""
         log10_a, notes = self.log10_activities(sol, g, pressures=pressures, activities=activities)
         T = sol.T_compact
         E = self._from_log10_a(log10_a, T)

@@ -177,6 +177,17 @@ def test_cell_batch_and_two_compartments():
         Cell(left=standard_couple("Zn^2+/Zn"), right="copper")
 
 
+def test_cell_in_one_solution_evaluates_the_model_once():
+    # both electrodes of the Harned cell dip into the same solution: one model evaluation serves both
+    model = act.get_model("davies")
+    seen = []
+    evaluate = model.activity_coefficients
+    model.activity_coefficients = lambda s: seen.append(s) or evaluate(s)
+    res = harned_cell().evaluate(HCL, model, pressures=H2)
+    assert seen == [HCL]
+    assert res.emf == pytest.approx(harned_cell().emf(HCL, "davies", pressures=H2), abs=1e-15)
+
+
 def test_cell_junction_reported_separately():
     ref = silver_chloride_electrode("saturated")
     sample = act.Solution({"H+": 0.001, "Cl-": 0.001})
