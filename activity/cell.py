@@ -139,12 +139,12 @@ class Cell:
         left, right = electrode(self.left, comp["left"]), electrode(self.right, comp["right"])
         notes: list[str] = []
         ej: Any = 0.0
-        lsol = comp["left"] if comp["left"] is not None else self.left.filling_solution(T)
-        rsol = comp["right"] if comp["right"] is not None else self.right.filling_solution(T)
-        if lsol is not rsol:
+        if comp["left"] is not comp["right"]:  # two compartments (a reference electrode's filling is one)
             if self.junction is None:
                 notes.append("liquid junction between the two compartments left out (junction=None)")
             elif self.junction == "henderson":
+                lsol = comp["left"] if comp["left"] is not None else self.left.filling_solution(T)
+                rsol = comp["right"] if comp["right"] is not None else self.right.filling_solution(T)
                 jr = henderson_potential(lsol, rsol)
                 ej = jr.potential
                 notes.extend(jr.notes)
