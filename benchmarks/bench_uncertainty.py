@@ -22,7 +22,6 @@ Figures:
 
 from __future__ import annotations
 
-import math
 import os
 import resource
 import subprocess
@@ -34,8 +33,8 @@ if ROOT not in sys.path:
     sys.path.insert(0, ROOT)
 
 import numpy as np  # noqa: E402
-from scipy import constants  # noqa: E402
 
+import activity as act  # noqa: E402
 from activity.uncertainty import Normal, Rectangular, propagate  # noqa: E402
 
 INPUTS = {
@@ -45,43 +44,16 @@ INPUTS = {
 }
 
 
-def _slope_from_constants(T):
-    return constants.R * T * math.log(10.0) / constants.physical_constants[
-        "Faraday constant"][0]
-
-
 def build_model():
-    """Return (f, label): the real package API if available, else plain numpy."""
-    try:
-        import activity as act
-        davies = act.get_model("davies")
-        slope = getattr(act, "nernst_slope", None)
-        slope_label = "act.nernst_slope"
-        if slope is None:
-            try:
-                from activity.electrochem import nernst_slope as slope
-                slope_label = "activity.electrochem.nernst_slope (not yet exported)"
-            except ImportError:
-                slope = _slope_from_constants
-                slope_label = "R T ln10 / F (scipy.constants)"
-
-        def f(E0, m, T):
-            sol = act.Solution({"Na+": m, "Cl-": m}, T=T)
-            gamma = davies.activity_coefficients(sol)["Na+"]
-            return E0 + slope(T) * np.log10(gamma * m)
-
-        return f, f"package API: act.Solution + get_model('davies') + {slope_label}"
-    except Exception as exc:  # noqa: BLE001 - fallback is labelled in the output
-        reason = f"{type(exc).__name__}: {exc}"
+    """Return (f, label): the potential through the package's Davies model and Nernst slope."""
+    davies = act.get_model("davies")
 
     def f(E0, m, T):
-        # FALLBACK plain numpy Davies: log10 γ = -A z² (√I/(1+√I) - 0.3 I),
-        # A = 0.5085 at 25 °C (common practice), not the package's model.
-        sqrt_i = np.sqrt(m)
-        log_gamma = -0.5085 * (sqrt_i / (1 + sqrt_i) - 0.3 * m)
-        return E0 + _slope_from_constants(T) * (log_gamma + np.log10(m))
+        sol = act.Solution({"Na+": m, "Cl-": m}, T=T)
+        gamma = davies.activity_coefficients(sol)["Na+"]
+        return E0 + act.nernst_slope(T) * np.log10(gamma * m)
 
-    return f, f"FALLBACK plain numpy Davies (package API unavailable: {reason})"
+    return f, "package API: act.Solution + get_model('davies') + act.nernst_slope"
 
 
 def best_of(repeats, call):
