@@ -36,7 +36,7 @@ import numpy as np
 from . import _checks
 from .cell import Cell
 from .coefficients import available_models, resolve_model
-from .electrodes import IonSelectiveElectrode, ReferenceElectrode
+from .electrodes import IonSelectiveElectrode, ReferenceElectrode, _evaluate_in
 from .errors import ActivityError, ActivityWarning, InputError, ValidityWarning
 from .inverse import molality_from_emf, molality_from_potential
 from .nernst import HalfReaction
@@ -237,12 +237,6 @@ def _cell_at(cell: Cell, K: Mapping[str, Any]) -> Cell:
     return Cell(left=_with_selectivity(cell.left, K), right=_with_selectivity(cell.right, K), junction=cell.junction)
 
 
-def _electrode_potential(electrode: Any, sol: Solution, model: Any, pressures: Any) -> Any:
-    if isinstance(electrode, HalfReaction):
-        return electrode.evaluate(sol, model, pressures=pressures).potential
-    return electrode.evaluate(sol, model).potential
-
-
 # ------------------------------------------------------------------ running
 def _caught(func: Callable[[], Any]) -> tuple[Any, list]:
     """Call ``func``; return its value and the package's warnings (others are passed on)."""
@@ -363,7 +357,8 @@ def potential_with_uncertainty(electrode: Any, sample: Solution, model: Any = "d
               + _e0_inputs(u_e0, {"electrode": electrode}) + _selectivity_inputs([electrode], u_selectivity))
 
     def quantity(p: _Point, m: Any) -> Any:
-        return _electrode_potential(_with_selectivity(electrode, p.selectivity), p.sol, m, pressures) + p.shift("electrode")
+        at = _with_selectivity(electrode, p.selectivity)
+        return _evaluate_in(at, p.sol, m.activity_coefficients(p.sol), pressures).potential + p.shift("electrode")
 
     return _run(quantity, sample, model, inputs, None, "E", "V", **options)
 

@@ -24,7 +24,7 @@ from . import _checks
 from .cell import Cell
 from .coefficients import resolve_model
 from .constants import F, R
-from .electrodes import IonSelectiveElectrode
+from .electrodes import IonSelectiveElectrode, _evaluate_in
 from .errors import ActivityWarning, ConvergenceError, InputError
 from .nernst import HalfReaction
 from .solution import Solution
@@ -271,12 +271,11 @@ def molality_from_potential(
     (0.001128, 0.000416)
     """
     name = _determinand(electrode, species)
-    if isinstance(electrode, HalfReaction):
-        def forward(s: Solution) -> Any:
-            return electrode.evaluate(s, model, pressures=pressures).potential
-    else:
-        def forward(s: Solution) -> Any:
-            return electrode.evaluate(s, model).potential
+    model = resolve_model(model)
+
+    def forward(s: Solution) -> Any:
+        return _evaluate_in(electrode, s, model.activity_coefficients(s), pressures).potential
+
     return _solve(forward, E, matrix, name, counter_ion, model, rtol, max_iter)
 
 
