@@ -37,9 +37,9 @@ from . import _checks
 from .cell import Cell
 from .coefficients import available_models, resolve_model
 from .electrodes import IonSelectiveElectrode, ReferenceElectrode, _evaluate_in
-from .errors import ActivityError, ActivityWarning, InputError, ValidityWarning
+from .errors import ActivityError, InputError, ValidityWarning
 from .inverse import molality_from_emf, molality_from_potential
-from .nernst import HalfReaction
+from .nernst import HalfReaction, _caught
 from .solution import Solution
 from .species import parse_species
 from .uncertainty import ModelSpread, Normal, PropagationResult, model_spread, propagate
@@ -238,17 +238,6 @@ def _cell_at(cell: Cell, K: Mapping[str, Any]) -> Cell:
 
 
 # ------------------------------------------------------------------ running
-def _caught(func: Callable[[], Any]) -> tuple[Any, list]:
-    """Call ``func``; return its value and the package's warnings (others are passed on)."""
-    with warnings.catch_warnings(record=True) as seen:
-        warnings.simplefilter("always", ActivityWarning)
-        out = func()
-    for w in seen:
-        if not issubclass(w.category, ActivityWarning):
-            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
-    return out, [w for w in seen if issubclass(w.category, ActivityWarning)]
-
-
 def _spread(quantity: Callable[[_Point, Any], Any], point: _Point, names: Any) -> tuple[ModelSpread | None, list[str]]:
     """The quantity at the estimates by each model; notes for the models not counted."""
     values, notes = {}, []

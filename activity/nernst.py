@@ -420,9 +420,18 @@ def standard_couple(name: str) -> HalfReaction:
     )
 
 
-def _quiet_validity(func, *args, **kw):
-    """Call ``func`` turning the package's warnings into notes (returned second)."""
-    with warnings.catch_warnings(record=True) as caught:
+def _caught(func, *args, **kw):
+    """Call ``func``; return its value and the package's warnings (others are passed on)."""
+    with warnings.catch_warnings(record=True) as seen:
         warnings.simplefilter("always", ActivityWarning)
         out = func(*args, **kw)
-    return out, tuple(str(w.message) for w in caught if issubclass(w.category, ActivityWarning))
+    for w in seen:
+        if not issubclass(w.category, ActivityWarning):
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+    return out, [w for w in seen if issubclass(w.category, ActivityWarning)]
+
+
+def _quiet_validity(func, *args, **kw):
+    """Call ``func`` turning the package's warnings into notes (returned second)."""
+    out, seen = _caught(func, *args, **kw)
+    return out, tuple(str(w.message) for w in seen)

@@ -254,6 +254,21 @@ def test_reference_electrode_model_choice_recorded():
         assert any("pitzer unavailable" in n for n in res.notes)
 
 
+def test_reference_electrode_notes_package_warnings_and_passes_others_on():
+    ref = silver_chloride_electrode(3.0, model="davies")  # Davies beyond its validity: a note
+    evaluate = ref.couple.evaluate
+
+    def noisy(*args, **kw):
+        warnings.warn("not the package's", RuntimeWarning)
+        return evaluate(*args, **kw)
+
+    ref.couple.evaluate = noisy
+    with pytest.warns(RuntimeWarning, match="not the package's"):
+        res = ref.evaluate()
+    assert any("davies" in n and "validity" in n for n in res.notes)
+    assert not any("not the package's" in n for n in res.notes)
+
+
 # ------------------------------------------------------------------ ion-selective electrodes
 def test_ise_nernstian_and_selectivity():
     ise = IonSelectiveElectrode("Ca^2+", E0=0.1, selectivity={"Mg^2+": 0.02, "Na+": 1e-3})
