@@ -83,24 +83,29 @@ def evaluate(bound, P: dict, rowwise: bool, m: np.ndarray, I: np.ndarray, Aphi, 
     sI = np.sqrt(I)
     bs = B_CONST * sI
     mm = _outer(mc, ma)
-    # B terms: one pass per distinct α
+    # B terms: one pass per distinct α. Sums that only φ (Sphi) or only Gex (SB0, Sg) use
+    # are formed only when asked for.
     b0A, b0C = _dot(P["b0"], ma, rowwise), _dot(P["b0T"], mc, rowwise)
     BA, BC = b0A.copy(), b0C.copy()
-    SB0 = np.sum(mc * b0A, axis=0)
-    Sg, Sphi, Sp = np.zeros(N), SB0.copy(), np.zeros(N)
+    SB0 = np.sum(mc * b0A, axis=0) if want & {"phi", "gex"} else 0.0
+    Sg, Sphi, Sp = np.zeros(N), SB0 + np.zeros(N), np.zeros(N)
     if len(bound.alphas):
         BkA = _dot(P["Bk"], ma, rowwise)  # (K, n_c, N)
         BkC = _dot(P["BkT"], mc, rowwise)
         Pk = np.sum(mc[None] * BkA, axis=1)  # Σ_ca m_c m_a Bk_ca, (K, N)
+        I_pos = I > 0
+        I_safe = np.where(I_pos, I, 1.0)
         with np.errstate(divide="ignore", invalid="ignore"):
             for k, al in enumerate(bound.alphas):
                 x = al * sI
                 g, gp = g_funcs(x)
                 BA += g * BkA[k]
                 BC += g * BkC[k]
-                Sg += g * Pk[k]
-                Sphi += np.exp(-x) * Pk[k]
-                Sp += np.where(I > 0, gp / np.where(I > 0, I, 1.0), 0.0) * Pk[k]
+                Sp += np.where(I_pos, gp / I_safe, 0.0) * Pk[k]
+                if "gex" in want:
+                    Sg += g * Pk[k]
+                if "phi" in want:
+                    Sphi += np.exp(-x) * Pk[k]
     CA, CC = _dot(P["C"], ma, rowwise), _dot(P["CT"], mc, rowwise)
     SC = np.sum(mc * CA, axis=0)
     # like-charge mixing
@@ -133,6 +138,8 @@ def evaluate(bound, P: dict, rowwise: bool, m: np.ndarray, I: np.ndarray, Aphi, 
             lng[bound.cat] += _dot(P["zC"], _outer(mn, ma), rowwise)
             lng[bound.an] += _dot(P["zA"], _outer(mn, mc), rowwise)
         out["lng"] = lng
+    if not want & {"phi", "gex"}:
+        return out
     lam_q = np.sum(m * _dot(P["lam"], m, rowwise), axis=0) if f["lam"] else 0.0
     zeta_q = np.sum(mn * _dot(P["zN"], mm, rowwise), axis=0) if f["zN"] else 0.0
     sPhi = np.sum(mc * PhiC, axis=0) + np.sum(ma * PhiA, axis=0)  # 2 Σ_{i<j} m_i m_j Φ_ij
