@@ -222,11 +222,14 @@ class IonSelectiveElectrode:
         """Response slope k·RT ln10/(zF), V per decade of the primary ion's activity."""
         return self.slope_factor * nernst_slope(T, self.z)
 
-    def _terms(self, sol: Solution, lg: np.ndarray) -> tuple[np.ndarray, list, list, np.ndarray, tuple]:
+    def _e0_at(self, T: Any) -> Any:
+        """E0 at temperature T from its value at 298.15 K and dE0dT, V."""
+        return self.E0 + self.dE0dT * (np.asarray(T) - T_REF)
+
+    def _terms(self, sol: Solution, lg: np.ndarray) -> tuple[np.ndarray, list, list, list]:
         if self.ion not in sol.species:
             raise InputError(f"the primary ion of {self.name} is not in the solution", field="species", value=self.ion)
         present = [j for j in self.selectivity if j in sol.species]
-        absent = tuple(f"interferent {j} absent from the solution (activity 0)" for j in self.selectivity if j not in sol.species)
         done: list[tuple[int, np.ndarray]] = []
 
         def activity(k: int) -> np.ndarray:
@@ -241,7 +244,7 @@ class IonSelectiveElectrode:
 
         ai = activity(sol.index(self.ion))
         aj = [activity(sol.index(j)) for j in present]
-        return ai, present, [parse_species(j).charge for j in present], aj, absent
+        return ai, present, [parse_species(j).charge for j in present], aj
 
     def _shared_gamma(self, sol: Solution, lg: np.ndarray):
         """Fast exact path when every interferent present has the primary ion's charge and
@@ -273,13 +276,13 @@ class IonSelectiveElectrode:
     def _evaluate(self, sol: Solution, g: Any) -> ElectrodeResult:
         """:meth:`evaluate` with the model's result ``g`` for ``sol`` already computed."""
         T = sol.T_compact
-        E0 = self.E0 + self.dE0dT * (np.asarray(T) - T_REF)
+        E0 = self._e0_at(T)
         shared = self._shared_gamma(sol, g.log10_gamma)
         if shared is not None:
             E, lg = shared
             E += E0
         else:
-            ai, present, zj, aj, absent = self._terms(sol, g.log10_gamma)
+            ai, present, zj, aj = self._terms(sol, g.log10_gamma)
             K = [self.selectivity[j] for j in present]
             E = nikolsky_eisenman_core(E0, ai, self.z, aj, [self.z / z for z in zj], K, T, self.slope_factor)
             lg = LazyMapping({j: (lambda a=a: _log10_or_nan(a)) for j, a in zip([self.ion] + present, [ai, *aj])})

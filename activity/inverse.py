@@ -125,9 +125,8 @@ def activity_from_potential(electrode: Any, E: Any, sol: Solution, model: Any = 
         return _checks.scalar_or_array(np.exp(ln_a))
     probe = sol if name in sol.species else sol.replace({name: 0.0})
     g = resolve_model(model).activity_coefficients(probe)
-    _, present, zj, aj, _ = electrode._terms(probe, g.log10_gamma)
-    E0 = electrode.E0 + electrode.dE0dT * (T - 298.15)
-    total = 10.0 ** ((E - E0) / electrode.slope(T))  # slope carries 1/z
+    _, present, zj, aj = electrode._terms(probe, g.log10_gamma)
+    total = 10.0 ** ((E - electrode._e0_at(T)) / electrode.slope(T))  # slope carries 1/z
     zi = electrode.z
     interf = sum(electrode.selectivity[j] * a_j ** (zi / z_j) for j, z_j, a_j in zip(present, zj, aj))
     a = total - interf
