@@ -283,7 +283,7 @@ class HalfReaction:
                 out[name] = la
         return out, tuple(notes)
 
-    def _from_log10_a(self, log10_a: Mapping[str, Any], T: np.ndarray) -> Any:
+    def _from_log10_a(self, log10_a: Mapping[str, Any], T: np.ndarray, E0: Any) -> Any:
         coef = -(R * LN10 / (self.n * F)) * T
         E: Any = None
         for nu, name in zip(self._nu, self.species):
@@ -292,7 +292,7 @@ class HalfReaction:
                 continue
             term = la * (nu * coef)
             E = term if E is None else E + term
-        E0 = np.asarray(self.standard_potential(T))
+        E0 = np.asarray(E0)
         if E is None:
             return E0
         if isinstance(E, np.ndarray) and E.shape == np.broadcast_shapes(E.shape, E0.shape):
@@ -339,13 +339,14 @@ class HalfReaction:
         """:meth:`evaluate` with the model's result ``g`` for ``sol`` already computed."""
         log10_a, notes = self.log10_activities(sol, g, pressures=pressures, activities=activities)
         T = sol.T_compact
-        E = self._from_log10_a(log10_a, T)
+        E0 = self.standard_potential(T)
+        E = self._from_log10_a(log10_a, T, E0)
         if (self.dE0dT == 0 and self.d2E0dT2 == 0) and np.any(T != T_REF) and self.E0 != 0.0:
             notes = notes + (f"{self.name}: no temperature coefficient of E°; the 25 °C value is used",)
         lg = {n: _checks.scalar_or_array(np.broadcast_to(v, sol.shape)) for n, v in log10_a.items()}
         return ElectrodeResult(
             _checks.scalar_or_array(np.broadcast_to(E, sol.shape)),
-            self.standard_potential(T),
+            E0,
             lg,
             _checks.scalar_or_array(T),
             g.model,
