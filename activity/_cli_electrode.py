@@ -184,16 +184,14 @@ def _u_potential(text: str, field: str) -> float:
     return _not_negative(parse_potential(text, field=field), field, text)
 
 
+_TEMPERATURE_DIFFERENCE = {"K": 1.0, "mK": 1e-3, "°C": 1.0, "degC": 1.0, "C": 1.0, "℃": 1.0}
+
+
 def _u_temperature(text: str, field: str = "--u-temperature") -> float:
     """A temperature difference: '0.2 K', '0.2 °C', '50 mK' → kelvin."""
-    from .errors import InputError
-    from .units import _split
+    from .units import _scaled
 
-    value, unit = _split(text, field)
-    scale = {"K": 1.0, "mK": 1e-3, "°C": 1.0, "degC": 1.0, "C": 1.0, "℃": 1.0}.get(unit)
-    if scale is None:
-        raise InputError("expected a temperature difference in K, mK or °C, e.g. '0.2 K'", field=field, value=text)
-    return _not_negative(value * scale, field, text)
+    return _not_negative(_scaled(text, field, _TEMPERATURE_DIFFERENCE, "temperature-difference"), field, text)
 
 
 def _stated_amounts(args: argparse.Namespace) -> dict[str, Any]:
