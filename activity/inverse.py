@@ -32,6 +32,8 @@ from .species import parse_species
 
 __all__ = ["InverseResult", "activity_from_potential", "molality_from_potential", "molality_from_emf"]
 
+#: Bounds of the search on ln m (design choice, not data): 1e-16 mol/kg lies far below any
+#: measurable activity, 30 mol/kg above the validity of every shipped model.
 _LN_M_MIN, _LN_M_MAX = np.log(1e-16), np.log(30.0)
 
 
@@ -176,6 +178,7 @@ def _solve(
     def f(x: np.ndarray) -> np.ndarray:
         return np.broadcast_to(np.asarray(forward(build(x)), float), shape) - target
 
+    # two starting points in the usual analytical range; steps capped at e^5 ≈ 150-fold (design choices)
     x0 = np.full(shape, np.log(1e-3))
     x1 = np.full(shape, np.log(1e-2))
     with warnings.catch_warnings():
