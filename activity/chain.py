@@ -38,7 +38,7 @@ from .cell import Cell
 from .coefficients import available_models, resolve_model
 from .electrodes import IonSelectiveElectrode, ReferenceElectrode, _evaluate_in
 from .errors import ActivityError, InputError, ValidityWarning
-from .inverse import molality_from_emf, molality_from_potential
+from .inverse import _determinand, molality_from_emf, molality_from_potential
 from .nernst import HalfReaction, _caught
 from .solution import Solution
 from .species import parse_species
@@ -459,10 +459,7 @@ def molality_with_uncertainty(electrode: Any, reading: float, matrix: Solution, 
                                      counter_ion=counter_ion, pressures=pressures).molality
     elif isinstance(electrode, (HalfReaction, IonSelectiveElectrode)):
         sides, parts = {"electrode": electrode}, [electrode]
-        if isinstance(electrode, IonSelectiveElectrode):
-            name = electrode.ion
-        else:
-            name = species or (electrode.determinands[0] if len(electrode.determinands) == 1 else None)
+        name = _determinand(electrode, species)
 
         def quantity(p: _Point, m: Any) -> Any:
             target = np.broadcast_to(p.reading - p.shift("electrode"), p.shape)  # rows even when only K varies
@@ -474,8 +471,7 @@ def molality_with_uncertainty(electrode: Any, reading: float, matrix: Solution, 
     inputs = (_amount_inputs(_one_sample(matrix, "matrix"), u_amount, u_molality) + _temperature_input(matrix, u_temperature)
               + _e0_inputs(u_e0, sides) + _selectivity_inputs(parts, u_selectivity)
               + ([_Input("reading", "reading [V]", "reading", "reading", Normal(reading, u_read))] if u_read > 0 else []))
-    label = f"m({parse_species(name).name})" if name else "m"
-    return _run(quantity, matrix, model, inputs, reading, label, "mol/kg", **options)
+    return _run(quantity, matrix, model, inputs, reading, f"m({name})", "mol/kg", **options)
 
 
 for _f in (potential_with_uncertainty, emf_with_uncertainty, molality_with_uncertainty):
