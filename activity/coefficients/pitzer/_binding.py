@@ -57,10 +57,20 @@ class Bound:
             if hit is None:
                 if len(self._cache) > 64:
                     self._cache.clear()
-                hit = self._cache[key] = {k: w @ basis(T) for k, w in self.blocks.items()}
+                hit = self._cache[key] = self._evaluate(basis(T))
             return hit
-        b = basis(T)
-        return {k: np.tensordot(w, b, axes=(-1, 0)) for k, w in self.blocks.items()}
+        return self._evaluate(basis(T))
+
+    def _evaluate(self, b: np.ndarray) -> dict:
+        # All-zero blocks are skipped: the kernel reads them only when flagged, except the
+        # B and C blocks, which it always reads. The cation-major transposes are views.
+        P = {
+            k: np.tensordot(w, b, axes=(-1, 0))
+            for k, w in self.blocks.items()
+            if self.flags[k] or k in ("b0", "Bk", "C")
+        }
+        P.update(b0T=P["b0"].swapaxes(0, 1), BkT=P["Bk"].swapaxes(1, 2), CT=P["C"].swapaxes(0, 1))
+        return P
 
 
 def _weights(entries, kind, key, name) -> np.ndarray:
@@ -105,7 +115,7 @@ def bind(params: ParameterSet, species: tuple, charges: np.ndarray) -> Bound:
     for k, al in enumerate(alphas):
         Bk[k] = W[1] * (a1 == al)[..., None] + W[2] * (a2 == al)[..., None]
     C = W[3] / (2.0 * np.sqrt(np.abs(np.outer(zc, za))))[..., None]  # C = Cφ / (2 √|z_c z_a|)
-    blocks = {"b0": W[0], "b0T": W[0].swapaxes(0, 1), "Bk": Bk, "BkT": Bk.swapaxes(1, 2), "C": C, "CT": C.swapaxes(0, 1)}
+    blocks = {"b0": W[0], "Bk": Bk, "C": C}  # transposes b0T, BkT, CT: views made in Bound.at
 
     def same_sign(names, zs, idx, opp_names, opp_idx):
         n, no = len(names), len(opp_names)
