@@ -84,6 +84,9 @@ def test_J_used_by_the_model_matches_adaptive_quadrature(x):
 
 
 def test_J_small_x_is_tiny_in_absolute_terms():
+    # Below x = 0.1 the approximation's relative error grows (measured: 35 % at x = 1e-3,
+    # 7 % at 1e-2) while J itself vanishes; the absolute deviations measured are 3.8e-7 and
+    # 5.1e-6. 1e-5 is asserted (about twice the larger; J(0.3) is already 0.02).
     for x in (1e-3, 1e-2):
         J, _ = j_pitzer1975(np.array([x]))
         assert abs(J[0] - J_integral(x)) < 1e-5
