@@ -172,6 +172,8 @@ class PitzerModel(ActivityModel):
         I = np.asarray(sol.ionic_strength, dtype=float).reshape(N)
         T = np.asarray(sol.T_compact, dtype=float)
         T = T.reshape(()) if T.size == 1 else np.broadcast_to(T, sol.shape).reshape(N)
+        # 1e-9 (relative for I, in K for T): round-off slack, so that a row given exactly
+        # at a limit (e.g. 6 mol/kg, or 50 °C converted to K) counts as inside it.
         high = present & (I > i_max[:, None] * (1 + 1e-9))
         cold = present & ((T < t_lo[:, None] - 1e-9) | (T > t_hi[:, None] + 1e-9))
         notes = []
