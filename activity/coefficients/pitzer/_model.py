@@ -6,6 +6,7 @@ from typing import Any
 
 import numpy as np
 
+from ..._checks import scalar_or_array
 from ...constants import LN10, ZERO_CELSIUS
 from ...errors import CoverageWarning
 from ...water import debye_huckel_Aphi
@@ -149,8 +150,7 @@ class PitzerModel(ActivityModel):
         -0.03819
         """
         bound = self.bind(sol.species, sol.charges)
-        g = self._run(sol, bound, {"gex"})["gex"]
-        return float(g) if g.ndim == 0 else g
+        return scalar_or_array(self._run(sol, bound, {"gex"})["gex"])
 
     def _check(self, sol, I):
         # The model-wide checks of the base class, plus each interaction's fitted molality
