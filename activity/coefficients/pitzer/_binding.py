@@ -144,7 +144,7 @@ def bind(params: ParameterSet, species: tuple, charges: np.ndarray) -> Bound:
     blocks.update(
         thc=thc,
         tha=tha,
-        psiC=psc.transpose(0, 1, 2, 3).reshape(nc, nc * na, 5),  # [c, (c', a)]
+        psiC=psc.reshape(nc, nc * na, 5),  # [c, (c', a)]
         psiCX=psc.transpose(2, 0, 1, 3).reshape(na, nc * nc, 5),  # [X, (c, c')]
         psiA=psa.transpose(0, 2, 1, 3).reshape(na, nc * na, 5),  # [X, (c, a')]: psa[X, a', c] → [X, c, a']
         psiAM=psa.transpose(2, 0, 1, 3).reshape(nc, na * na, 5),  # [M, (a, a')]
