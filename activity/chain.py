@@ -37,9 +37,9 @@ from . import _checks
 from .cell import Cell
 from .coefficients import available_models, resolve_model
 from .electrodes import IonSelectiveElectrode, ReferenceElectrode, _evaluate_in
-from .errors import ActivityError, InputError, ValidityWarning
+from .errors import ActivityError, InputError, ValidityWarning, catch_package_warnings
 from .inverse import _determinand, molality_from_emf, molality_from_potential
-from .nernst import HalfReaction, _caught
+from .nernst import HalfReaction
 from .solution import Solution
 from .species import parse_species
 from .uncertainty import ModelSpread, Normal, PropagationResult, model_spread, propagate
@@ -244,7 +244,7 @@ def _spread(quantity: Callable[[_Point, Any], Any], point: _Point, names: Any) -
     for item in (available_models() if names is None else names):
         name = getattr(item, "name", item)
         try:
-            y, seen = _caught(lambda: float(quantity(point, resolve_model(item))))
+            y, seen = catch_package_warnings(lambda: float(quantity(point, resolve_model(item))))
         except (ActivityError, ImportError) as exc:
             notes.append(f"model choice: {name} not counted, cannot evaluate this sample ({exc})")
             continue
@@ -271,7 +271,7 @@ def _run(quantity: Callable[[_Point, Any], Any], sample: Solution, model: Any, i
         return quantity(build(cols), model)
 
     dists = {i.key: i.dist for i in inputs}
-    result, seen = _caught(lambda: propagate(f, dists, method, trials=trials, seed=seed, coverage=coverage))
+    result, seen = catch_package_warnings(lambda: propagate(f, dists, method, trials=trials, seed=seed, coverage=coverage))
     labels = {i.key: i.label for i in inputs}
     result = dataclasses.replace(result, budget=tuple(dataclasses.replace(r, name=labels[r.name]) for r in result.budget))
     kinds: dict[tuple, list] = {}

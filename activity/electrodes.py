@@ -18,9 +18,9 @@ from . import _checks, data
 from .coefficients import ActivityModel, resolve_model
 from .constants import F, LN10, R, T_REF, ZERO_CELSIUS
 from .electrochem import nernst_slope
-from .errors import InputError
+from .errors import InputError, call_with_notes
 from .membrane import nikolsky_eisenman_core
-from .nernst import ElectrodeResult, HalfReaction, LazyMapping, _quiet_validity, best_available_model, standard_couple
+from .nernst import ElectrodeResult, HalfReaction, LazyMapping, best_available_model, standard_couple
 from .solution import Solution
 from .species import parse_species
 
@@ -115,7 +115,7 @@ class ReferenceElectrode:
     def evaluate(self, T: Any = T_REF) -> ElectrodeResult:
         """Potential vs SHE at T with the model used and every assumption in the notes."""
         sol = self.filling_solution(T)
-        res, caught = _quiet_validity(self.couple.evaluate, sol, self._model)
+        res, caught = call_with_notes(self.couple.evaluate, sol, self._model)
         notes = (
             (f"filling {self.name}: chloride activity from {res.model}",)
             + self._model_notes

@@ -19,6 +19,7 @@ __all__ = [
     "ValidityWarning",
     "CoverageWarning",
     "ElectroneutralityWarning",
+    "catch_package_warnings",
     "call_with_notes",
 ]
 
@@ -88,6 +89,20 @@ class ElectroneutralityWarning(ActivityWarning):
     """The composition is not electrically neutral within the tolerance."""
 
 
+def catch_package_warnings(func: Callable[..., Any], *args: Any, **kw: Any) -> tuple[Any, list]:
+    """Call ``func``; return its value and the records of the package's warnings it raised.
+
+    Warnings of other origins (e.g. numpy's) are passed on unchanged.
+    """
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", ActivityWarning)
+        out = func(*args, **kw)
+    for w in caught:
+        if not issubclass(w.category, ActivityWarning):
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+    return out, [w for w in caught if issubclass(w.category, ActivityWarning)]
+
+
 def call_with_notes(func: Callable[..., Any], *args: Any, **kw: Any) -> tuple[Any, tuple[str, ...]]:
     """Call ``func`` with the package's warnings recorded instead of shown.
 
@@ -99,13 +114,5 @@ def call_with_notes(func: Callable[..., Any], *args: Any, **kw: Any) -> tuple[An
     >>> call_with_notes(lambda: warnings.warn("look", ActivityWarning) or 1)
     (1, ('look',))
     """
-    with warnings.catch_warnings(record=True) as caught:
-        warnings.simplefilter("always", ActivityWarning)
-        out = func(*args, **kw)
-    notes = []
-    for w in caught:
-        if issubclass(w.category, ActivityWarning):
-            notes.append(str(w.message))
-        else:
-            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
-    return out, tuple(dict.fromkeys(notes))
+    out, caught = catch_package_warnings(func, *args, **kw)
+    return out, tuple(dict.fromkeys(str(w.message) for w in caught))

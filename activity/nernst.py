@@ -15,7 +15,6 @@ obtained with :func:`standard_couple` (or :meth:`HalfReaction.from_table`).
 """
 from __future__ import annotations
 
-import warnings
 from dataclasses import dataclass, field
 from collections.abc import Mapping
 from typing import Any, Sequence
@@ -26,7 +25,7 @@ from . import _checks, data
 from .coefficients import ActivityModel, get_model, resolve_model
 from .constants import F, LN10, P_STANDARD, R, T_REF
 from .electrochem import standard_potential_at
-from .errors import ActivityWarning, InputError
+from .errors import InputError
 from .reactions import Reaction, parse_reaction
 from .solution import Solution
 from .species import parse_species
@@ -420,19 +419,3 @@ def standard_couple(name: str) -> HalfReaction:
         source=source,
     )
 
-
-def _caught(func, *args, **kw):
-    """Call ``func``; return its value and the package's warnings (others are passed on)."""
-    with warnings.catch_warnings(record=True) as seen:
-        warnings.simplefilter("always", ActivityWarning)
-        out = func(*args, **kw)
-    for w in seen:
-        if not issubclass(w.category, ActivityWarning):
-            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
-    return out, [w for w in seen if issubclass(w.category, ActivityWarning)]
-
-
-def _quiet_validity(func, *args, **kw):
-    """Call ``func`` turning the package's warnings into notes (returned second)."""
-    out, seen = _caught(func, *args, **kw)
-    return out, tuple(str(w.message) for w in seen)
