@@ -4,7 +4,6 @@ from __future__ import annotations
 from math import gcd
 from typing import Any
 
-
 from ._checks import scalar_or_array
 from .coefficients import resolve_model
 from .errors import InputError
