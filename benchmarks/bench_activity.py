@@ -10,20 +10,14 @@ peak memory for 10⁶ rows under 500 MB.
 from __future__ import annotations
 
 import argparse
-import time
 import tracemalloc
 import warnings
 
+from _common import best_of
+
 import numpy as np
 
-try:
-    import activity as act
-except ImportError:  # running from a source checkout without installing
-    import pathlib
-    import sys
-
-    sys.path.insert(0, str(pathlib.Path(__file__).resolve().parents[1]))
-    import activity as act
+import activity as act
 
 
 SPECIES = ("Na+", "K+", "Ca^2+", "Cl-")
@@ -35,15 +29,6 @@ def composition(n: int, rng: np.random.Generator) -> dict[str, np.ndarray]:
     k = rng.uniform(1e-4, 0.05, n)
     ca = rng.uniform(1e-5, 0.02, n)
     return {"Na+": na, "K+": k, "Ca^2+": ca, "Cl-": na + k + 2 * ca}
-
-
-def best(fn, repeat: int) -> float:
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return min(times)
 
 
 def bare_davies(m: np.ndarray, A: float) -> np.ndarray:
@@ -81,7 +66,7 @@ def main() -> None:
         # per-row loop over the public API (Solution + model call per row)
         comp_loop = composition(300, rng)
         rows = [{k: float(v[i]) for k, v in comp_loop.items()} for i in range(300)]
-        t_loop = best(lambda: [model.activity_coefficients(act.Solution(r, T=T)) for r in rows], 3) / 300
+        t_loop = best_of(lambda: [model.activity_coefficients(act.Solution(r, T=T)) for r in rows], 3)[0] / 300
         for n in sizes:
             comp = composition(n, rng)
             m = np.stack([comp[s] for s in SPECIES])
@@ -90,12 +75,12 @@ def main() -> None:
             def api():
                 return model.activity_coefficients(act.Solution(comp, T=T)).gamma
 
-            t = best(api, repeat)
+            t = best_of(api, repeat)[0]
             bare = ""
             if name == "davies":
-                bare = f"{t / best(lambda: bare_davies(m, A), repeat):13.2f}"
+                bare = f"{t / best_of(lambda: bare_davies(m, A), repeat)[0]:13.2f}"
             elif name == "extended-debye-huckel":
-                bare = f"{t / best(lambda: bare_extended(m, A, B, kielland), repeat):13.2f}"
+                bare = f"{t / best_of(lambda: bare_extended(m, A, B, kielland), repeat)[0]:13.2f}"
             peak = ""
             if n >= 100_000:
                 tracemalloc.start()

@@ -6,22 +6,14 @@ Davies. Run: ``python benchmarks/bench_nernst.py``.
 """
 from __future__ import annotations
 
-import time
 import warnings
+
+from _common import best_of
 
 import numpy as np
 
 import activity as act
 from activity.errors import ActivityWarning
-
-
-def best_of(func, repeat=15):
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        func()
-        times.append(time.perf_counter() - t0)
-    return min(times)
 
 
 def main() -> None:
@@ -35,10 +27,10 @@ def main() -> None:
     ise = act.IonSelectiveElectrode("K+", E0=0.05, selectivity={"Na+": 0.01})
     sol_ise = act.Solution({"K+": m, "Na+": 0.01, "Cl-": m + 0.01})
 
-    t_model = best_of(lambda: model.activity_coefficients(sol))
-    t_hr = best_of(lambda: hr.potential(sol, model))
-    t_model_ise = best_of(lambda: model.activity_coefficients(sol_ise))
-    t_ise = best_of(lambda: ise.potential(sol_ise, model))
+    t_model = best_of(lambda: model.activity_coefficients(sol), 15)[0]
+    t_hr = best_of(lambda: hr.potential(sol, model), 15)[0]
+    t_model_ise = best_of(lambda: model.activity_coefficients(sol_ise), 15)[0]
+    t_ise = best_of(lambda: ise.potential(sol_ise, model), 15)[0]
     print(f"rows: {n:,}  model: davies")
     print(f"  activity model alone (K+, Cl-)        {t_model * 1e3:8.1f} ms")
     print(f"  HalfReaction AgCl/Ag potential        {t_hr * 1e3:8.1f} ms   ratio {t_hr / t_model:5.2f}  (target ≤ 1.5)")
@@ -53,7 +45,7 @@ def main() -> None:
     E = ca.potential(full, model)
     matrix = act.Solution({"Na+": bg, "Cl-": bg})
     res = act.molality_from_potential(ca, E, matrix, model, counter_ion="Cl-")
-    t_inv = best_of(lambda: act.molality_from_potential(ca, E, matrix, model, counter_ion="Cl-"), repeat=3)
+    t_inv = best_of(lambda: act.molality_from_potential(ca, E, matrix, model, counter_ion="Cl-"), 3)[0]
     err = float(np.max(np.abs(res.molality / mi - 1)))
     print(f"inverse (Ca ISE, Davies, counter-ion Cl-): {n_inv:,} rows in {t_inv * 1e3:.1f} ms "
           f"= {n_inv / t_inv:,.0f} rows/s (target ≥ 100,000), {res.iterations} iterations, max rel. error {err:.1e}")

@@ -11,17 +11,14 @@ Run: ``python benchmarks/bench_pitzer.py``. Compares
 from __future__ import annotations
 
 import os
-import sys
-import time
 import warnings
-from pathlib import Path
 
 for _v in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
     os.environ.setdefault(_v, "1")  # one core, before numpy loads its BLAS
 
 import numpy as np  # noqa: E402
 
-sys.path.insert(0, str(Path(__file__).resolve().parent.parent))  # run from a source checkout
+from _common import best_of  # noqa: E402  (also puts this checkout on sys.path)
 
 import activity as act  # noqa: E402
 from activity import Solution  # noqa: E402
@@ -32,15 +29,6 @@ ROWS_LOOP = 300
 # seawater-like background (mol/kg), scaled per row by a random factor 0.2–2
 BASE = {"Na+": 0.486, "K+": 0.0106, "Mg^2+": 0.0547, "Ca^2+": 0.0107,
         "Cl-": 0.566, "SO4^2-": 0.0293, "HCO3-": 0.00178, "Br-": 0.00087}
-
-
-def best(f, repeat=5):
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        f()
-        times.append(time.perf_counter() - t0)
-    return min(times)
 
 
 def nacl_bare(m, Aphi):
@@ -63,14 +51,14 @@ def main():
     warnings.simplefilter("ignore", act.ActivityWarning)
     model.activity_coefficients(sol)  # bind once
 
-    t_full = best(lambda: model.activity_coefficients(sol))
-    t_lg = best(lambda: model.log10_gamma(sol))
-    t_T = best(lambda: model.activity_coefficients(solT), repeat=3)
+    t_full = best_of(lambda: model.activity_coefficients(sol))[0]
+    t_lg = best_of(lambda: model.log10_gamma(sol))[0]
+    t_T = best_of(lambda: model.activity_coefficients(solT), 3)[0]
     rows = [Solution({s: float(v[i]) for s, v in comp.items()}, neutrality="ignore") for i in range(ROWS_LOOP)]
-    t_loop = best(lambda: [model.activity_coefficients(r) for r in rows], repeat=2) * N / ROWS_LOOP
+    t_loop = best_of(lambda: [model.activity_coefficients(r) for r in rows], 2)[0] * N / ROWS_LOOP
     m = k * 0.5
     Aphi = debye_huckel_Aphi(298.15)
-    t_bare = best(lambda: nacl_bare(m, Aphi))
+    t_bare = best_of(lambda: nacl_bare(m, Aphi))[0]
 
     print(f"Pitzer model, {len(BASE)}-ion seawater-type batch, {N:,} rows, one core")
     print(f"  activity_coefficients (γ, φ, a_w, checks), scalar T : {t_full*1e3:8.1f} ms  {N/t_full:12,.0f} rows/s")

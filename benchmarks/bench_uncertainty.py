@@ -28,9 +28,7 @@ import subprocess
 import sys
 import time
 
-ROOT = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
-if ROOT not in sys.path:
-    sys.path.insert(0, ROOT)
+from _common import best_of  # also puts this checkout on sys.path
 
 import numpy as np  # noqa: E402
 
@@ -54,15 +52,6 @@ def build_model():
         return E0 + act.nernst_slope(T) * np.log10(gamma * m)
 
     return f, "package API: act.Solution + get_model('davies') + act.nernst_slope"
-
-
-def best_of(repeats, call):
-    times = []
-    for _ in range(repeats):
-        start = time.perf_counter()
-        result = call()
-        times.append(time.perf_counter() - start)
-    return min(times), result
 
 
 def memory_child(trials):
@@ -92,25 +81,22 @@ def main():
     print(f"model: {label}")
     f(0.31, np.array([0.05]), np.array([298.15]))      # warm imports and caches
 
-    gum_time, gum = best_of(20, lambda: propagate(f, INPUTS))
+    gum_time, gum = best_of(lambda: propagate(f, INPUTS), 20)
     print(f"GUM, one evaluation (13-row batch): {gum_time * 1e3:.2f} ms; "
           f"u = {gum.standard_uncertainty:.4g} V")
 
-    mc_time, mc = best_of(3, lambda: propagate(f, INPUTS, "monte-carlo",
-                                               trials=1_000_000, seed=1))
+    mc_time, mc = best_of(lambda: propagate(f, INPUTS, "monte-carlo", trials=1_000_000, seed=1), 3)
     print(f"Monte Carlo, 1e6 trials: {mc_time:.3f} s (best of 3; target < 1.5 s); "
           f"u = {mc.standard_uncertainty:.4g} V")
     print(f"  ratio Monte Carlo 1e6 / one GUM evaluation: {mc_time / gum_time:.0f}")
 
     def plain(E0, m, T):
         return E0 + m + T
-    engine_time, _ = best_of(3, lambda: propagate(plain, INPUTS, "monte-carlo",
-                                                  trials=1_000_000, seed=1))
+    engine_time, _ = best_of(lambda: propagate(plain, INPUTS, "monte-carlo", trials=1_000_000, seed=1), 3)
     print(f"engine alone (f = sum), 1e6 trials: {engine_time:.3f} s "
           f"({100 * engine_time / mc_time:.0f} % of the Davies + Nernst run)")
 
-    adaptive_time, adaptive = best_of(1, lambda: propagate(f, INPUTS, "monte-carlo",
-                                                           seed=1))
+    adaptive_time, adaptive = best_of(lambda: propagate(f, INPUTS, "monte-carlo", seed=1), 1)
     print(f"adaptive Monte Carlo (2 significant digits): {adaptive.trials} trials, "
           f"{adaptive_time:.3f} s, delta = {adaptive.tolerance:.2g} V")
 
