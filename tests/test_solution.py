@@ -1,5 +1,4 @@
 """Solution: composition, units, batches, ionic strength, electroneutrality."""
-import warnings
 
 import numpy as np
 import pytest
