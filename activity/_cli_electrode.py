@@ -61,7 +61,7 @@ def _gases(pairs: list[str] | None) -> dict[str, float] | None:
 def _render(args: argparse.Namespace, title: str, rows: list[list[Any]], notes: tuple | list, extra: dict | None = None,
             chain: Any = None) -> str:
     """Table, JSON or CSV of the result rows; with ``chain`` (a ChainResult) its uncertainty too."""
-    from .report import table, to_csv, to_json
+    from .formatting import table, to_csv, to_json
 
     if chain is not None:
         rows = rows + _uncertainty_rows(chain)
@@ -85,7 +85,7 @@ def _render_table(args: argparse.Namespace, labels: tuple, reading: Any, res: An
     """One row per reading of a --table batch."""
     import numpy as np
 
-    from .report import table, to_csv, to_json
+    from .formatting import table, to_csv, to_json
 
     cols = {
         "reading_V": reading,

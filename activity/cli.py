@@ -83,7 +83,7 @@ def show_cautions(sol):
 def emit(args: argparse.Namespace, text: str) -> None:
     """Print, or write to ``--output`` atomically."""
     if getattr(args, "output", None):
-        from .report import write_text
+        from .io.files import write_text
 
         write_text(args.output, text if text.endswith("\n") else text + "\n")
     else:

@@ -10,7 +10,7 @@ import numpy as np
 
 from .coefficients import available_models, get_model, resolve_model
 from .errors import ActivityError, call_with_notes
-from .report import fmt, table, to_csv, to_json
+from .formatting import fmt, table, to_csv, to_json
 
 __all__ = ["evaluate_models", "solution_report", "models_report", "demo_report"]
 

@@ -9,7 +9,7 @@ import numpy as np
 from scipy import stats
 
 from activity.errors import InputError
-from activity.report import fmt, table
+from activity.formatting import fmt, table
 
 __all__ = ["BudgetRow", "PropagationResult", "SortedSample", "interval_indices",
            "coverage_probability", "coverage_kind"]

@@ -1,7 +1,7 @@
 """Formatting of results for people and programs: aligned tables, JSON, CSV.
 
-Only formatting lives here — no chemistry. :func:`write_text` writes a file whole or not at
-all (a temporary file in the same directory, then an atomic rename).
+Only formatting lives here — no chemistry and no I/O; files are written by
+:mod:`activity.io.files`.
 """
 from __future__ import annotations
 
@@ -9,12 +9,9 @@ import csv
 import io
 import json
 import math
-import os
-import tempfile
-from pathlib import Path
 from typing import Any, Iterable, Sequence
 
-__all__ = ["fmt", "table", "to_json", "to_csv", "write_text"]
+__all__ = ["fmt", "table", "to_json", "to_csv"]
 
 
 def fmt(value: Any, digits: int = 5) -> str:
@@ -94,20 +91,3 @@ def to_csv(headers: Sequence[str], rows: Iterable[Sequence[Any]]) -> str:
     for row in rows:
         w.writerow([repr(float(c)) if isinstance(c, float) or hasattr(c, "dtype") else ("" if c is None else c) for c in row])
     return buf.getvalue()
-
-
-def write_text(path: str | Path, text: str) -> None:
-    """Write ``text`` to ``path`` atomically: the file appears whole or not at all."""
-    target = Path(path)
-    directory = target.parent if str(target.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", dir=directory)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-            fh.write(text)
-        os.replace(tmp, target)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except FileNotFoundError:
-            pass
-        raise

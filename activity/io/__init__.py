@@ -1,0 +1,1 @@
+"""Input and output at the edge: units, recipes, tables, output files (text → SI)."""
