@@ -1,4 +1,4 @@
-"""Uncertainty through the chain Solution → model → Nernst → inverse (activity.chain) and its CLI options."""
+"""Uncertainty through the chain Solution → model → Nernst → inverse (activity.workflows.measurement) and its CLI options."""
 import json
 import math
 
@@ -6,14 +6,14 @@ import numpy as np
 import pytest
 
 from activity import Solution, debye_huckel_A
-from activity.cell import Cell
-from activity.chain import emf_with_uncertainty, molality_with_uncertainty, potential_with_uncertainty
-from activity.cli import main
+from activity.nernst.cell import Cell
+from activity.workflows.measurement import emf_with_uncertainty, molality_with_uncertainty, potential_with_uncertainty
+from activity.cli.main import main
 from activity.constants import LN10, F, R
-from activity.electrochem import nernst_slope
-from activity.electrodes import IonSelectiveElectrode, silver_chloride_electrode
+from activity.nernst.equations import nernst_slope
+from activity.nernst.electrodes import IonSelectiveElectrode, silver_chloride_electrode
 from activity.errors import InputError
-from activity.nernst import standard_couple
+from activity.nernst.half_reaction import standard_couple
 
 
 def kcl(m, T=298.15):

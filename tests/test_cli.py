@@ -5,7 +5,7 @@ import sys
 
 import pytest
 
-from activity.cli import main
+from activity.cli.main import main
 
 
 def run(*args):
@@ -136,7 +136,7 @@ def test_demo_emf_follows_the_nernst_slope():
     # equals the Nernst slope RT ln10/(2F) times the change in log10 a(Ca²⁺).
     import numpy as np
 
-    from activity.demo import run_demo
+    from activity.workflows.demo import run_demo
 
     res = run_demo(["davies"])
     col = res.columns[0]
@@ -211,7 +211,7 @@ def test_invert_needs_a_reading(capsys):
 
 def test_cautions_for_hazardous_compositions():
     from activity.cautions import GENERAL
-    from activity.cli import CAUTION
+    from activity.cli.main import CAUTION
 
     assert CAUTION == GENERAL  # the fast-start copy in cli.py has not drifted
     code, out, err = run("solution", "H+=0.5 mol/kg", "F-=0.5 mol/kg")

@@ -5,7 +5,7 @@ import scipy.constants as sc
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from activity import electrochem as ec
+from activity.nernst import equations as ec
 from activity.errors import InputError
 
 FARADAY = sc.physical_constants["Faraday constant"][0]

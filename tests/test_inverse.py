@@ -5,11 +5,11 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import activity as act
-from activity.cell import Cell
-from activity.electrodes import IonSelectiveElectrode, silver_chloride_electrode
+from activity.nernst.cell import Cell
+from activity.nernst.electrodes import IonSelectiveElectrode, silver_chloride_electrode
 from activity.errors import ConvergenceError, InputError
-from activity.inverse import activity_from_potential, molality_from_emf, molality_from_potential
-from activity.nernst import standard_couple
+from activity.nernst.inverse import activity_from_potential, molality_from_emf, molality_from_potential
+from activity.nernst.half_reaction import standard_couple
 
 pytestmark = pytest.mark.filterwarnings("ignore::activity.errors.ValidityWarning")
 

@@ -5,7 +5,7 @@ import pytest
 import activity as act
 from activity.constants import F, R
 from activity.errors import InputError
-from activity.junction import henderson_potential, lewis_sargent_potential, limiting_conductivity
+from activity.nernst.junction import henderson_potential, lewis_sargent_potential, limiting_conductivity
 
 # Limiting conductivities at 25 °C (Robinson & Stokes 1959, App. 6.1; CRC; from memory)
 LAM = {"H+": 349.65, "K+": 73.48, "Na+": 50.08, "Cl-": 76.31, "NO3-": 71.42}

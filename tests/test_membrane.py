@@ -6,7 +6,7 @@ from hypothesis import strategies as st
 
 from activity.constants import F, R
 from activity.errors import InputError
-from activity.membrane import donnan_potential, ghk_potential, nikolsky_eisenman
+from activity.nernst.membrane import donnan_potential, ghk_potential, nikolsky_eisenman
 
 conc = st.floats(1e-6, 5.0)
 temps = st.floats(273.15, 363.15)

@@ -5,9 +5,9 @@ import numpy as np
 import pytest
 
 import activity as act
-from activity.electrochem import nernst_slope
+from activity.nernst.equations import nernst_slope
 from activity.errors import InputError
-from activity.nernst import HalfReaction, available_couples, best_available_model, standard_couple
+from activity.nernst.half_reaction import HalfReaction, available_couples, best_available_model, standard_couple
 
 S25 = nernst_slope(298.15)
 
@@ -123,8 +123,8 @@ def test_best_available_model_records_fallback():
 
 
 # ------------------------------------------------------------------ cells
-from activity.cell import Cell  # noqa: E402
-from activity.electrodes import (  # noqa: E402
+from activity.nernst.cell import Cell  # noqa: E402
+from activity.nernst.electrodes import (  # noqa: E402
     IonSelectiveElectrode,
     calomel_electrode,
     kcl_saturation_molality,
@@ -242,7 +242,7 @@ def test_reference_electrode_follows_chloride_activity():
     with pytest.raises(InputError, match="tabulated"):
         kcl_saturation_molality(380.0)
     with pytest.raises(InputError, match="chloride"):
-        from activity.electrodes import ReferenceElectrode
+        from activity.nernst.electrodes import ReferenceElectrode
 
         ReferenceElectrode("Cu^2+/Cu", 1.0)
 
@@ -295,7 +295,7 @@ def test_ise_calibration_against_reference():
 
 # ------------------------------------------------------------------ command line
 def _run_cli(capsys, *argv):
-    from activity.cli import main
+    from activity.cli.main import main
 
     rc = main(list(argv))
     out = capsys.readouterr()

@@ -9,8 +9,8 @@ from hypothesis import strategies as st
 from scipy import constants, stats
 
 from activity.errors import InputError
-from activity.uncertainty import (Normal, Rectangular, StudentT, Triangular, measured,
-                                  model_spread, propagate)
+from activity.uncertainty import Normal, Rectangular, StudentT, Triangular, measured, propagate
+from activity.workflows.model_choice import model_spread
 
 R = constants.R  # molar gas constant, CODATA via scipy.constants
 F = constants.physical_constants["Faraday constant"][0]

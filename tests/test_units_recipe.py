@@ -2,8 +2,8 @@
 import pytest
 
 from activity import InputError
-from activity.recipe import load_recipe, parse_pairs, solution_from_recipe
-from activity.units import parse_amount, parse_density, parse_potential, parse_pressure, parse_temperature
+from activity.io.recipe import load_recipe, parse_pairs, solution_from_recipe
+from activity.io.units import parse_amount, parse_density, parse_potential, parse_pressure, parse_temperature
 
 
 @pytest.mark.parametrize(

@@ -6,8 +6,6 @@ Wraps any vectorised function ``f(**inputs) -> array`` of named inputs.
   returning a :class:`PropagationResult` with the uncertainty budget.
 * :func:`validate_gum` — JCGM 101:2008 clause 8 check of the GUM against
   Monte Carlo.
-* :func:`model_spread` — spread of an output over activity models, to show
-  beside the budget.
 * Input distributions: :class:`Normal`, :class:`Rectangular`,
   :class:`Triangular`, :class:`StudentT` and :func:`measured`.
 
@@ -29,12 +27,10 @@ from .distributions import (Distribution, Normal, Rectangular, StudentT, Triangu
                             measured)
 from .propagation import ValidationResult, propagate, validate_gum
 from .result import BudgetRow, PropagationResult
-from .spread import ModelSpread, model_spread
 
 __all__ = [
     "propagate",
     "validate_gum",
-    "model_spread",
     "Distribution",
     "Normal",
     "Rectangular",
@@ -44,5 +40,4 @@ __all__ = [
     "PropagationResult",
     "ValidationResult",
     "BudgetRow",
-    "ModelSpread",
 ]

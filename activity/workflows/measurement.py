@@ -33,16 +33,17 @@ from typing import Any, Callable, Mapping
 
 import numpy as np
 
-from . import _checks
-from .cell import Cell
-from .coefficients import available_models, resolve_model
-from .electrodes import IonSelectiveElectrode, ReferenceElectrode, _evaluate_in
-from .errors import ActivityError, InputError, ValidityWarning, catch_package_warnings
-from .inverse import _determinand, molality_from_emf, molality_from_potential
-from .nernst import HalfReaction
-from .solution import Solution
-from .species import parse_species
-from .uncertainty import ModelSpread, Normal, PropagationResult, model_spread, propagate
+from .. import _checks
+from ..nernst.cell import Cell
+from ..coefficients import available_models, resolve_model
+from ..nernst.electrodes import IonSelectiveElectrode, ReferenceElectrode, _evaluate_in
+from ..errors import ActivityError, InputError, ValidityWarning, catch_package_warnings
+from ..nernst.inverse import _determinand, molality_from_emf, molality_from_potential
+from ..nernst.half_reaction import HalfReaction
+from ..solution import Solution
+from ..species import parse_species
+from ..uncertainty import Normal, PropagationResult, propagate
+from .model_choice import ModelSpread, model_spread
 
 __all__ = ["ChainResult", "potential_with_uncertainty", "emf_with_uncertainty", "molality_with_uncertainty"]
 
@@ -378,7 +379,7 @@ def emf_with_uncertainty(cell: Cell, sample: Solution, model: Any = "davies", *,
     Examples
     --------
     >>> from activity import Solution
-    >>> from activity.electrodes import IonSelectiveElectrode, silver_chloride_electrode
+    >>> from activity.nernst.electrodes import IonSelectiveElectrode, silver_chloride_electrode
     >>> cell = Cell(left=silver_chloride_electrode(3.0), right=IonSelectiveElectrode("Ca^2+", E0=0.05))
     >>> std = Solution({{"Ca^2+": 1e-3, "K+": 0.1, "Cl-": 0.102}})
     >>> r = emf_with_uncertainty(cell, std, u_e0={{"right": 3e-4}}, u_temperature=0.2, spread_models=["davies"])
@@ -386,7 +387,7 @@ def emf_with_uncertainty(cell: Cell, sample: Solution, model: Any = "davies", *,
     (-257.8, 0.3)
     """
     if not isinstance(cell, Cell):
-        raise InputError("expected an activity.cell.Cell", field="cell", value=type(cell).__name__)
+        raise InputError("expected an activity.Cell", field="cell", value=type(cell).__name__)
     inputs = (_amount_inputs(_one_sample(sample), u_amount, u_molality) + _temperature_input(sample, u_temperature)
               + _e0_inputs(u_e0, {"left": cell.left, "right": cell.right})
               + _selectivity_inputs([cell.left, cell.right], u_selectivity))
@@ -405,7 +406,7 @@ def molality_with_uncertainty(electrode: Any, reading: float, matrix: Solution, 
                               u_selectivity: Mapping[str, Any] | None = None, **options: Any) -> ChainResult:
     """Molality of the determinand from a reading, with its uncertainty budget and the model spread.
 
-    Each row of the propagation solves the inverse (see :mod:`activity.inverse`); all rows
+    Each row of the propagation solves the inverse (see :mod:`activity.nernst.inverse`); all rows
     are solved together in one vectorised call.
 
     Parameters
@@ -419,7 +420,7 @@ def molality_with_uncertainty(electrode: Any, reading: float, matrix: Solution, 
         The sample without the determinand.
     model : str or ActivityModel, default 'davies'
     species, counter_ion : str, optional
-        As for :func:`activity.inverse.molality_from_potential`.
+        As for :func:`activity.nernst.inverse.molality_from_potential`.
     u_reading : float, default 0
         Standard uncertainty of the reading, V.
     u_e0 : float or Mapping[str, float], default 0
@@ -435,7 +436,7 @@ def molality_with_uncertainty(electrode: Any, reading: float, matrix: Solution, 
     Examples
     --------
     >>> from activity import Solution
-    >>> from activity.electrodes import IonSelectiveElectrode
+    >>> from activity.nernst.electrodes import IonSelectiveElectrode
     >>> ise = IonSelectiveElectrode("Ca^2+", E0=0.1)
     >>> r = molality_with_uncertainty(ise, 0.0, Solution({{"K+": 0.1, "Cl-": 0.1}}), counter_ion="Cl-",
     ...                               u_reading=2e-4, spread_models=["davies"])

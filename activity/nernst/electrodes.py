@@ -3,7 +3,7 @@
 A reference electrode's potential is not looked up: the engine builds the KCl filling
 solution (a stated molarity or molality, or saturated at the temperature), evaluates the
 chloride activity with the best available model for concentrated KCl (Pitzer when
-installed, else the next in :data:`activity.nernst.MODEL_PREFERENCE`; the choice is
+installed, else the next in :data:`activity.nernst.half_reaction.MODEL_PREFERENCE`; the choice is
 recorded), and applies the Nernst equation of the AgCl/Ag or Hg2Cl2/Hg couple.
 
 An :class:`IonSelectiveElectrode` follows the Nikolsky–Eisenman equation.
@@ -14,15 +14,15 @@ from typing import Any, Mapping
 
 import numpy as np
 
-from . import _checks, data
-from .coefficients import ActivityModel, resolve_model
-from .constants import F, LN10, R, T_REF, ZERO_CELSIUS
-from .electrochem import nernst_slope
-from .errors import InputError, call_with_notes
+from .. import _checks, data
+from ..coefficients import ActivityModel, resolve_model
+from ..constants import F, LN10, R, T_REF, ZERO_CELSIUS
+from .equations import nernst_slope
+from ..errors import InputError, call_with_notes
 from .membrane import nikolsky_eisenman_core
-from .nernst import ElectrodeResult, HalfReaction, LazyMapping, best_available_model, standard_couple
-from .solution import Solution
-from .species import parse_species
+from .half_reaction import ElectrodeResult, HalfReaction, LazyMapping, best_available_model, standard_couple
+from ..solution import Solution
+from ..species import parse_species
 
 __all__ = [
     "kcl_saturation_molality",
@@ -193,7 +193,7 @@ class IonSelectiveElectrode:
     Examples
     --------
     >>> from activity import Solution
-    >>> from activity.cell import Cell
+    >>> from activity.nernst.cell import Cell
     >>> ise = IonSelectiveElectrode("Ca^2+", E0=0.05, selectivity={"Mg^2+": 0.01})
     >>> std = Solution({"Ca^2+": [1e-4, 1e-3], "K+": 0.1, "Cl-": [0.1002, 0.102]})
     >>> res = Cell(left=silver_chloride_electrode(3.0), right=ise).evaluate(std, "davies")

@@ -17,9 +17,9 @@ from typing import Any
 
 import numpy as np
 
-from . import _checks
-from .constants import F, LN10, P_ATM, P_STANDARD, R, T_REF
-from .errors import InputError
+from .. import _checks
+from ..constants import F, LN10, P_ATM, P_STANDARD, R, T_REF
+from ..errors import InputError
 
 __all__ = [
     "nernst_slope",

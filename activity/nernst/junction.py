@@ -21,11 +21,11 @@ from typing import Any, Mapping
 
 import numpy as np
 
-from . import _checks, data
-from .constants import F, R, T_REF
-from .errors import InputError
-from .solution import Solution
-from .species import parse_species
+from .. import _checks, data
+from ..constants import F, R, T_REF
+from ..errors import InputError
+from ..solution import Solution
+from ..species import parse_species
 
 __all__ = ["JunctionResult", "limiting_conductivity", "henderson_potential", "lewis_sargent_potential"]
 

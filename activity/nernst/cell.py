@@ -1,8 +1,8 @@
 """Galvanic cells: EMF = E(right) − E(left) + E_j.
 
-Each electrode is a :class:`~activity.nernst.HalfReaction` (dipping into its
-compartment's solution), an :class:`~activity.electrodes.IonSelectiveElectrode`, or a
-:class:`~activity.electrodes.ReferenceElectrode` (whose compartment is its own filling).
+Each electrode is a :class:`~activity.nernst.half_reaction.HalfReaction` (dipping into its
+compartment's solution), an :class:`~activity.nernst.electrodes.IonSelectiveElectrode`, or a
+:class:`~activity.nernst.electrodes.ReferenceElectrode` (whose compartment is its own filling).
 With one solution for both electrodes the cell has no liquid junction (a cell without
 transference); with two different compartment solutions the junction term
 E_j = φ(right solution) − φ(left solution) is computed by the Henderson equation, given
@@ -15,13 +15,13 @@ from typing import Any, Mapping
 
 import numpy as np
 
-from . import _checks
-from .coefficients import resolve_model
+from .. import _checks
+from ..coefficients import resolve_model
 from .electrodes import IonSelectiveElectrode, ReferenceElectrode, _evaluate_in
-from .errors import InputError
+from ..errors import InputError
 from .junction import henderson_potential
-from .nernst import ElectrodeResult, HalfReaction
-from .solution import Solution
+from .half_reaction import ElectrodeResult, HalfReaction
+from ..solution import Solution
 
 __all__ = ["CellResult", "Cell"]
 

@@ -20,9 +20,9 @@ from typing import Any, Sequence
 
 import numpy as np
 
-from .coefficients import available_models, get_model
-from .errors import ActivityError, call_with_notes
-from .solution import Solution
+from ..coefficients import available_models, get_model
+from ..errors import ActivityError, call_with_notes
+from ..solution import Solution
 
 __all__ = ["SCENARIO", "calcium_standards", "demo_cell", "ModelColumn", "DemoResult", "run_demo"]
 
@@ -74,8 +74,8 @@ class DemoResult:
 
 def demo_cell():
     """The demo cell: Ag/AgCl (3 mol/L KCl) on the left, the calcium ISE on the right."""
-    from .cell import Cell
-    from .electrodes import IonSelectiveElectrode, silver_chloride_electrode
+    from ..nernst.cell import Cell
+    from ..nernst.electrodes import IonSelectiveElectrode, silver_chloride_electrode
 
     ise = IonSelectiveElectrode("Ca^2+", E0=SCENARIO["ise_E0"], selectivity=SCENARIO["ise_selectivity"], name="demo calcium ISE")
     return Cell(left=silver_chloride_electrode(SCENARIO["reference_filling"]), right=ise)
@@ -83,7 +83,7 @@ def demo_cell():
 
 def run_demo(models: Sequence[str] | None = None) -> DemoResult:
     """Compute the demo table; a model that cannot evaluate is reported, not hidden."""
-    from .electrochem import nernst_slope
+    from ..nernst.equations import nernst_slope
 
     sol = calcium_standards()
     i = sol.index("Ca^2+")

@@ -10,8 +10,8 @@ import re
 from dataclasses import dataclass
 from typing import Any
 
-from .constants import P_ATM, ZERO_CELSIUS
-from .errors import InputError
+from ..constants import P_ATM, ZERO_CELSIUS
+from ..errors import InputError
 
 __all__ = ["Amount", "parse_amount", "parse_temperature", "parse_pressure", "parse_potential", "parse_density"]
 

@@ -21,14 +21,14 @@ from typing import Any, Sequence
 
 import numpy as np
 
-from . import _checks, data
-from .coefficients import ActivityModel, get_model, resolve_model
-from .constants import F, LN10, P_STANDARD, R, T_REF
-from .electrochem import standard_potential_at
-from .errors import InputError
-from .reactions import Reaction, parse_reaction
-from .solution import Solution
-from .species import parse_species
+from .. import _checks, data
+from ..coefficients import ActivityModel, get_model, resolve_model
+from ..constants import F, LN10, P_STANDARD, R, T_REF
+from .equations import standard_potential_at
+from ..errors import InputError
+from ..reactions import Reaction, parse_reaction
+from ..solution import Solution
+from ..species import parse_species
 
 __all__ = [
     "ElectrodeResult",

@@ -9,6 +9,8 @@ from __future__ import annotations
 import argparse
 from typing import Any
 
+from .common import add_output, add_solution_arguments, emit, show_cautions, solution_from_args
+
 __all__ = ["register", "electrode_from_spec"]
 
 _REFERENCE_KINDS = ("silver-chloride", "calomel")
@@ -28,10 +30,10 @@ def electrode_from_spec(text: str) -> Any:
     >>> electrode_from_spec("Cu2+/Cu").E0
     0.3419
     """
-    from .electrodes import calomel_electrode, silver_chloride_electrode
-    from .errors import InputError
-    from .nernst import standard_couple
-    from .units import parse_amount
+    from ..nernst.electrodes import calomel_electrode, silver_chloride_electrode
+    from ..errors import InputError
+    from ..nernst.half_reaction import standard_couple
+    from ..io.units import parse_amount
 
     kind, _, filling = str(text).partition(":")
     kind = kind.strip().lower()
@@ -52,8 +54,8 @@ def electrode_from_spec(text: str) -> Any:
 def _gases(pairs: list[str] | None) -> dict[str, float] | None:
     if not pairs:
         return None
-    from .recipe import parse_pairs
-    from .units import parse_pressure
+    from ..io.recipe import parse_pairs
+    from ..io.units import parse_pressure
 
     return {k: parse_pressure(v, field=f"gas[{k}]") for k, v in parse_pairs(pairs, field="gas").items()}
 
@@ -61,7 +63,7 @@ def _gases(pairs: list[str] | None) -> dict[str, float] | None:
 def _render(args: argparse.Namespace, title: str, rows: list[list[Any]], notes: tuple | list, extra: dict | None = None,
             chain: Any = None) -> str:
     """Table, JSON or CSV of the result rows; with ``chain`` (a ChainResult) its uncertainty too."""
-    from .formatting import table, to_csv, to_json
+    from ..formatting import table, to_csv, to_json
 
     if chain is not None:
         rows = rows + _uncertainty_rows(chain)
@@ -85,7 +87,7 @@ def _render_table(args: argparse.Namespace, labels: tuple, reading: Any, res: An
     """One row per reading of a --table batch."""
     import numpy as np
 
-    from .formatting import table, to_csv, to_json
+    from ..formatting import table, to_csv, to_json
 
     cols = {
         "reading_V": reading,
@@ -162,7 +164,7 @@ def _percent(text: str, field: str) -> float:
     """'1%' or '0.5 %' → 0.01, 0.005; anything else is an InputError naming ``field``."""
     import re
 
-    from .errors import InputError
+    from ..errors import InputError
 
     m = re.fullmatch(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*%\s*", str(text))
     if not m:
@@ -171,7 +173,7 @@ def _percent(text: str, field: str) -> float:
 
 
 def _not_negative(value: float, field: str, text: str) -> float:
-    from .errors import InputError
+    from ..errors import InputError
 
     if value < 0:
         raise InputError("an uncertainty must not be negative", field=field, value=text)
@@ -179,7 +181,7 @@ def _not_negative(value: float, field: str, text: str) -> float:
 
 
 def _u_potential(text: str, field: str) -> float:
-    from .units import parse_potential
+    from ..io.units import parse_potential
 
     return _not_negative(parse_potential(text, field=field), field, text)
 
@@ -189,16 +191,16 @@ _TEMPERATURE_DIFFERENCE = {"K": 1.0, "mK": 1e-3, "°C": 1.0, "degC": 1.0, "C": 1
 
 def _u_temperature(text: str, field: str = "--u-temperature") -> float:
     """A temperature difference: '0.2 K', '0.2 °C', '50 mK' → kelvin."""
-    from .units import _scaled
+    from ..io.units import _scaled
 
     return _not_negative(_scaled(text, field, _TEMPERATURE_DIFFERENCE, "temperature-difference"), field, text)
 
 
 def _stated_amounts(args: argparse.Namespace) -> dict[str, Any]:
     """Species → the Amount stated for it (recipe file, then SPECIES=AMOUNT pairs)."""
-    from .recipe import load_recipe, parse_pairs
-    from .species import parse_species
-    from .units import parse_amount
+    from ..io.recipe import load_recipe, parse_pairs
+    from ..species import parse_species
+    from ..io.units import parse_amount
 
     comp = dict(load_recipe(args.recipe).get("composition", {})) if args.recipe else {}
     comp.update(parse_pairs(args.pairs or []))
@@ -207,8 +209,8 @@ def _stated_amounts(args: argparse.Namespace) -> dict[str, Any]:
 
 def _e0_uncertainty(texts: list[str]) -> Any:
     """--u-e0 '0.3 mV' (every electrode) or repeated --u-e0 SIDE=VALUE (SIDE left, right)."""
-    from .errors import InputError
-    from .recipe import parse_pairs
+    from ..errors import InputError
+    from ..io.recipe import parse_pairs
 
     keyed = [t for t in texts if "=" in t]
     if not keyed:
@@ -221,7 +223,7 @@ def _e0_uncertainty(texts: list[str]) -> Any:
 
 
 def _coverage(text: str) -> float:
-    from .errors import InputError
+    from ..errors import InputError
 
     if str(text).strip().endswith("%"):
         return _percent(text, "--coverage")
@@ -232,10 +234,10 @@ def _coverage(text: str) -> float:
 
 
 def _chain_options(args: argparse.Namespace, sample: Any, selectivity: dict[str, float] | None = None) -> dict[str, Any] | None:
-    """Keyword arguments for :mod:`activity.chain` from the uncertainty options, or None if none was given."""
-    from .errors import InputError
-    from .recipe import parse_pairs
-    from .species import parse_species
+    """Keyword arguments for :mod:`activity.workflows.measurement` from the uncertainty options, or None if none was given."""
+    from ..errors import InputError
+    from ..io.recipe import parse_pairs
+    from ..species import parse_species
 
     if not any(getattr(args, k, None) for k in _U_OPTIONS):
         for flag, value, default in (("--method", args.method, "gum"), ("--trials", args.trials, None), ("--seed", args.seed, None)):
@@ -276,10 +278,10 @@ def _amount_uncertainties(args: argparse.Namespace, sample: Any) -> tuple[dict[s
     ``--u-amount`` applies to every species of ``sample``; ``--u SPECIES=...`` overrides it.
     A per-litre absolute uncertainty becomes relative to the amount stated for the species.
     """
-    from .errors import InputError
-    from .recipe import parse_pairs
-    from .species import parse_species
-    from .units import parse_amount
+    from ..errors import InputError
+    from ..io.recipe import parse_pairs
+    from ..species import parse_species
+    from ..io.units import parse_amount
 
     relative: dict[str, float] = {}
     if args.u_amount is not None:
@@ -310,8 +312,7 @@ def _amount_uncertainties(args: argparse.Namespace, sample: Any) -> tuple[dict[s
 
 
 def cmd_potential(args: argparse.Namespace) -> int:
-    from .cli import emit, solution_from_args
-    from .nernst import standard_couple
+    from ..nernst.half_reaction import standard_couple
 
     hr = standard_couple(args.couple)
     sol = solution_from_args(args)
@@ -327,7 +328,7 @@ def cmd_potential(args: argparse.Namespace) -> int:
     chain = None
     opts = _chain_options(args, sol)
     if opts is not None:
-        from .chain import potential_with_uncertainty
+        from ..workflows.measurement import potential_with_uncertainty
 
         chain = potential_with_uncertainty(hr, sol, args.model, pressures=_gases(args.gas), **opts)
     emit(args, _render(args, f"{hr.name} by {res.model}", rows, notes, chain=chain))
@@ -335,9 +336,8 @@ def cmd_potential(args: argparse.Namespace) -> int:
 
 
 def cmd_reference(args: argparse.Namespace) -> int:
-    from .cli import emit
-    from .electrodes import common_practice_potential
-    from .units import parse_temperature
+    from ..nernst.electrodes import common_practice_potential
+    from ..io.units import parse_temperature
 
     spec = f"{args.kind}:{args.filling}"
     electrode = electrode_from_spec(spec)
@@ -354,8 +354,7 @@ def cmd_reference(args: argparse.Namespace) -> int:
 
 
 def cmd_cell(args: argparse.Namespace) -> int:
-    from .cell import Cell
-    from .cli import emit, solution_from_args
+    from ..nernst.cell import Cell
 
     junction = None if args.junction == "none" else args.junction
     cell = Cell(left=electrode_from_spec(args.left), right=electrode_from_spec(args.right), junction=junction)
@@ -371,7 +370,7 @@ def cmd_cell(args: argparse.Namespace) -> int:
     chain = None
     opts = _chain_options(args, sol)
     if opts is not None:
-        from .chain import emf_with_uncertainty
+        from ..workflows.measurement import emf_with_uncertainty
 
         chain = emf_with_uncertainty(cell, sol, args.model, pressures=_gases(args.gas), **opts)
     emit(args, _render(args, f"{args.left} | sample | {args.right} by {res.model}", rows, res.notes, chain=chain))
@@ -379,15 +378,14 @@ def cmd_cell(args: argparse.Namespace) -> int:
 
 
 def cmd_invert(args: argparse.Namespace) -> int:
-    from .cell import Cell
-    from .cli import emit, solution_from_args
-    from .electrodes import IonSelectiveElectrode
-    from .errors import InputError
-    from .inverse import molality_from_emf, molality_from_potential
-    from .nernst import HalfReaction
-    from .recipe import parse_pairs
-    from .species import parse_species
-    from .units import parse_potential
+    from ..nernst.cell import Cell
+    from ..nernst.electrodes import IonSelectiveElectrode
+    from ..errors import InputError
+    from ..nernst.inverse import molality_from_emf, molality_from_potential
+    from ..nernst.half_reaction import HalfReaction
+    from ..io.recipe import parse_pairs
+    from ..species import parse_species
+    from ..io.units import parse_potential
 
     if (args.couple is None) == (args.ise is None):
         raise InputError("give either --couple NAME or --ise ION (with --e0)", field="electrode", value=args.couple)
@@ -404,7 +402,7 @@ def cmd_invert(args: argparse.Namespace) -> int:
                              field="couple", value=args.couple)
     labels = None
     if args.table:
-        from .tablefile import read_table, solution_from_table
+        from ..io.tables import read_table, solution_from_table
 
         if args.pairs or args.recipe or args.reading is not None:
             raise InputError("with --table the readings and the matrix come from the file", field="table", value=args.table)
@@ -415,8 +413,6 @@ def cmd_invert(args: argparse.Namespace) -> int:
             raise InputError("needs a 'reading [mV]' (or [V]) column", field="table", value=args.table)
         unit, values = tbl.extra["reading"]
         reading = values * parse_potential(f"1 {unit}", field="column 'reading'")
-        from .cli import show_cautions
-
         matrix = show_cautions(solution_from_table(tbl))
         labels = tbl.labels
     else:
@@ -440,7 +436,7 @@ def cmd_invert(args: argparse.Namespace) -> int:
     chain = None
     opts = _chain_options(args, matrix, {parse_species(k).name: v for k, v in sel.items()})
     if opts is not None:
-        from .chain import molality_with_uncertainty
+        from ..workflows.measurement import molality_with_uncertainty
 
         measured = cell if args.against else electrode
         chain = molality_with_uncertainty(measured, reading, matrix, args.model, species=species, **kw, **opts)
@@ -475,12 +471,10 @@ def _add_uncertainty(p: argparse.ArgumentParser, inverse: bool = False) -> None:
 
 def register(subparsers: Any) -> None:
     """Add the Nernst-layer subcommands to an argparse ``subparsers`` object."""
-    from .cli import _add_output, add_solution_arguments
-
     def common(p: argparse.ArgumentParser, default_model: str = "davies") -> None:
         p.add_argument("-m", "--model", default=default_model, help=f"activity model for the sample (default {default_model})")
         p.add_argument("--gas", action="append", metavar="GAS=PRESSURE", help="gas partial pressure, e.g. 'H2(g)=1 atm' (default 1 bar)")
-        _add_output(p)
+        add_output(p)
 
     p = subparsers.add_parser("potential", help="activity-corrected potential of a tabulated couple in one solution",
                               description="E vs SHE of a couple from models/standard_potentials.toml in the given solution.")
@@ -495,7 +489,7 @@ def register(subparsers: Any) -> None:
     p.add_argument("kind", choices=_REFERENCE_KINDS)
     p.add_argument("--filling", default="saturated", help="'saturated' (default) or an amount such as '3.5 mol/L'")
     p.add_argument("-t", "--temperature", metavar="T", help="e.g. '25 °C' (default)")
-    _add_output(p)
+    add_output(p)
     p.set_defaults(func=cmd_reference)
 
     p = subparsers.add_parser("cell", help="EMF of a cell with the sample between two electrodes",

@@ -25,7 +25,7 @@ from typing import Any
 
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 
 __all__ = ["TableInput", "read_table", "solution_from_table"]
 
@@ -118,9 +118,9 @@ def read_table(path: str | Path) -> TableInput:
 
 def solution_from_table(table: TableInput, **kw: Any):
     """Build one batch :class:`~activity.Solution` from a :class:`TableInput`."""
-    from .constants import P_ATM, T_REF
-    from .solution import Solution
-    from .species import parse_species
+    from ..constants import P_ATM, T_REF
+    from ..solution import Solution
+    from ..species import parse_species
     from .units import parse_amount, parse_pressure, parse_temperature
 
     if not table.species:

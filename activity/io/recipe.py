@@ -23,11 +23,11 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any, Iterable, Mapping
 
-from .constants import P_ATM, T_REF
-from .data import load_file
-from .errors import InputError
-from .solution import Solution
-from .species import parse_species
+from ..constants import P_ATM, T_REF
+from ..data import load_file
+from ..errors import InputError
+from ..solution import Solution
+from ..species import parse_species
 from .units import parse_amount, parse_density, parse_pressure, parse_temperature
 
 __all__ = ["RECIPE_KEYS", "load_recipe", "parse_pairs", "solution_from_recipe"]

@@ -20,15 +20,15 @@ from typing import Any, Callable, Mapping
 
 import numpy as np
 
-from . import _checks
+from .. import _checks
 from .cell import Cell
-from .coefficients import resolve_model
-from .constants import F, R
+from ..coefficients import resolve_model
+from ..constants import F, R
 from .electrodes import IonSelectiveElectrode, _evaluate_in
-from .errors import ActivityWarning, ConvergenceError, InputError
-from .nernst import HalfReaction
-from .solution import Solution
-from .species import parse_species
+from ..errors import ActivityWarning, ConvergenceError, InputError
+from .half_reaction import HalfReaction
+from ..solution import Solution
+from ..species import parse_species
 
 __all__ = ["InverseResult", "activity_from_potential", "molality_from_potential", "molality_from_emf"]
 
@@ -265,7 +265,7 @@ def molality_from_potential(
     Examples
     --------
     >>> from activity import Solution
-    >>> from activity.electrodes import IonSelectiveElectrode
+    >>> from activity.nernst.electrodes import IonSelectiveElectrode
     >>> ise = IonSelectiveElectrode("Ca^2+", E0=0.1)
     >>> matrix = Solution({"K+": 0.1, "Cl-": 0.1})
     >>> res = molality_from_potential(ise, 0.0, matrix, counter_ion="Cl-")
@@ -302,7 +302,7 @@ def molality_from_emf(
     Examples
     --------
     >>> from activity import Solution
-    >>> from activity.electrodes import IonSelectiveElectrode, silver_chloride_electrode
+    >>> from activity.nernst.electrodes import IonSelectiveElectrode, silver_chloride_electrode
     >>> cell = Cell(left=silver_chloride_electrode(3.0), right=IonSelectiveElectrode("Ca^2+", E0=0.05))
     >>> matrix = Solution({"K+": 0.1, "Cl-": 0.1})
     >>> emf = cell.emf(Solution({"Ca^2+": 0.002, "K+": 0.1, "Cl-": 0.104}))
@@ -310,7 +310,7 @@ def molality_from_emf(
     0.002
     """
     if not isinstance(cell, Cell):
-        raise InputError("expected an activity.cell.Cell", field="cell", value=type(cell).__name__)
+        raise InputError("expected an activity.Cell", field="cell", value=type(cell).__name__)
     name = parse_species(species).name
 
     def forward(s: Solution) -> Any:

@@ -1,6 +1,6 @@
 """What the command line prints: library calls arranged into tables, JSON or CSV.
 
-Kept apart from :mod:`activity.cli` so that argument parsing stays import-light.
+Kept apart from the argument parsing so that argument parsing stays import-light.
 """
 from __future__ import annotations
 
@@ -8,9 +8,9 @@ from typing import Any
 
 import numpy as np
 
-from .coefficients import available_models, get_model, resolve_model
-from .errors import ActivityError, call_with_notes
-from .formatting import fmt, table, to_csv, to_json
+from ..coefficients import available_models, get_model, resolve_model
+from ..errors import ActivityError, call_with_notes
+from ..formatting import fmt, table, to_csv, to_json
 
 __all__ = ["evaluate_models", "solution_report", "models_report", "demo_report"]
 
@@ -171,7 +171,7 @@ def models_report(form: str = "table") -> str:
 
 def demo_report(form: str = "table") -> str:
     """The built-in demo: calcium ISE standards, every model side by side."""
-    from .demo import run_demo
+    from ..workflows.demo import run_demo
 
     res = run_demo()
     ok = [c for c in res.columns if c.error is None]

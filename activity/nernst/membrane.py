@@ -15,9 +15,9 @@ from typing import Any
 
 import numpy as np
 
-from . import _checks
-from .constants import F, R, T_REF
-from .errors import InputError
+from .. import _checks
+from ..constants import F, R, T_REF
+from ..errors import InputError
 
 __all__ = ["ghk_potential", "DonnanResult", "donnan_potential", "nikolsky_eisenman", "nikolsky_eisenman_core"]
 

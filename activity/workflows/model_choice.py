@@ -12,9 +12,9 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from activity.errors import InputError
+from ..errors import InputError
 
-from .distributions import Distribution
+from ..uncertainty.distributions import Distribution
 
 __all__ = ["ModelSpread", "model_spread"]
 

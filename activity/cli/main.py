@@ -1,0 +1,67 @@
+"""The entry point of the ``activity`` command: build the parser, run one command, and turn
+every error a user can cause into one line on standard error with exit status 2."""
+from __future__ import annotations
+
+import argparse
+import sys
+from typing import Callable, Sequence
+
+from .. import __version__
+from ..errors import ActivityError, call_with_notes
+from . import electrode, solution
+from .common import CAUTION, Parser
+
+__all__ = ["main", "build_parser", "CAUTION"]
+
+#: Command groups, in the order they are listed by ``--help``; each has ``register(subparsers)``.
+COMMAND_GROUPS = (solution, electrode)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """The full argument parser (imports no numpy)."""
+    parser = Parser(
+        prog="activity",
+        description="Activity-corrected Nernst engine: ionic strength, activity coefficients, "
+        "activities, electrode and cell potentials.",
+        epilog=CAUTION,
+    )
+    parser.add_argument("--version", action="version", version=f"activity {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=Parser)
+    for group in COMMAND_GROUPS:
+        group.register(sub)
+    return parser
+
+
+def _run(func: Callable[[argparse.Namespace], int], args: argparse.Namespace) -> int:
+    rc, notes = call_with_notes(func, args)
+    for msg in notes:
+        print(f"warning: {msg}", file=sys.stderr)
+    return rc
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Entry point of the ``activity`` console script; returns the exit status."""
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "func", None):
+        parser.print_help()
+        return 2
+    try:
+        return _run(args.func, args)
+    except ActivityError as exc:
+        print(f"activity: error: {exc}", file=sys.stderr)
+        return 2
+    except BrokenPipeError:  # output piped into a program that stopped reading (e.g. head)
+        import os
+
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 141
+    except OSError as exc:
+        print(f"activity: error: {exc.strerror or exc}: {exc.filename or ''}".rstrip(": "), file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:  # pragma: no cover
+        return 130
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,65 @@
+"""Commands about solutions: ``solution``, ``models`` and ``demo``."""
+from __future__ import annotations
+
+import argparse
+
+from .common import CAUTION, add_output, add_solution_arguments, emit, output_format, show_cautions, solution_from_args
+
+__all__ = ["register"]
+
+
+def cmd_solution(args: argparse.Namespace) -> int:
+    from .render import solution_report, table_report
+
+    form = output_format(args)
+    if args.table:
+        from ..errors import InputError
+        from ..io.tables import read_table, solution_from_table
+
+        if args.pairs or args.recipe:
+            raise InputError("give either --table FILE or a composition, not both", field="table", value=args.table)
+        tbl = read_table(args.table)
+        sol = show_cautions(solution_from_table(tbl, balance_with=args.balance_with))
+        emit(args, table_report(sol, tbl.labels, args.model, form=form))
+        return 0
+    sol = solution_from_args(args)
+    emit(args, solution_report(sol, args.model, form=form))
+    return 0
+
+
+def cmd_models(args: argparse.Namespace) -> int:
+    from .render import models_report
+
+    emit(args, models_report(form=output_format(args)))
+    return 0
+
+
+def cmd_demo(args: argparse.Namespace) -> int:
+    from .render import demo_report
+
+    form = output_format(args)
+    text = demo_report(form=form)
+    emit(args, text if form != "table" else text + "\n\n" + CAUTION)
+    return 0
+
+
+def register(sub: argparse._SubParsersAction) -> None:
+    """Declare the ``solution``, ``models`` and ``demo`` commands."""
+    p = sub.add_parser("solution", help="ionic strength, γ and activities of one solution",
+                       description="Evaluate one solution: ionic strength, activity coefficients and "
+                       "activities by one model or all side by side.", epilog=CAUTION)
+    add_solution_arguments(p)
+    p.add_argument("--table", metavar="CSV", help="a batch: one composition per row, headers "
+                   "'Ca2+ [mmol/L]', 'temperature [°C]', optional 'label'")
+    p.add_argument("-m", "--model", default="davies",
+                   help="activity model name, or 'all' for every model side by side (default davies)")
+    add_output(p)
+    p.set_defaults(func=cmd_solution)
+
+    p = sub.add_parser("models", help="list activity models and where they hold")
+    add_output(p)
+    p.set_defaults(func=cmd_models)
+
+    p = sub.add_parser("demo", help="run the built-in demo", epilog=CAUTION)
+    add_output(p)
+    p.set_defaults(func=cmd_demo)
