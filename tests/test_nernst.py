@@ -344,3 +344,31 @@ def test_cli_errors_are_one_line_exit_2(capsys, argv, field):
     rc, _, err = _run_cli(capsys, *argv)
     assert rc == 2
     assert err.count("\n") == 1 and field in err
+
+
+def test_every_electrode_follows_the_protocol():
+    """One protocol: compartment, determinand and electrode constant without isinstance."""
+    from activity.nernst.protocol import Electrode
+
+    ise = IonSelectiveElectrode("Ca^2+", E0=0.05, selectivity={"Mg^2+": 0.01})
+    ref = silver_chloride_electrode(3.0)
+    hr = standard_couple("AgCl/Ag")
+    assert all(isinstance(e, Electrode) for e in (ise, ref, hr))
+    assert (ise.own_compartment, ref.own_compartment, hr.own_compartment) == (False, True, False)
+    assert ise.determinand() == "Ca^2+" and hr.determinand() == "Cl-"
+    with pytest.raises(InputError, match="responds to no species"):
+        ref.determinand()
+    with pytest.raises(InputError, match="responds to Ca"):
+        ise.determinand("Mg2+")
+    assert ref.electrode_constant == hr.E0 and ise.electrode_constant == 0.05
+    assert ise.with_selectivity({"Mg^2+": 0.02}).selectivity == {"Mg^2+": 0.02}
+    assert hr.with_selectivity({"Mg^2+": 0.02}) is hr
+
+
+def test_ion_selective_electrode_takes_an_array_E0():
+    """A batch of electrode constants (e.g. a calibration's draws) broadcasts with the rows."""
+    sol = act.Solution({"Ca^2+": [1e-3, 1e-3], "K+": 0.1, "Cl-": 0.102})
+    one = IonSelectiveElectrode("Ca^2+", E0=0.05).potential(sol, "davies")
+    two = IonSelectiveElectrode("Ca^2+", E0=np.array([0.05, 0.06])).potential(sol, "davies")
+    assert two[0] == pytest.approx(one[0], abs=1e-15)
+    assert two[1] - two[0] == pytest.approx(0.01, abs=1e-12)

@@ -17,15 +17,13 @@ import numpy as np
 
 from .. import _checks
 from ..coefficients import resolve_model
-from .electrodes import IonSelectiveElectrode, ReferenceElectrode, _evaluate_in
 from ..errors import InputError
 from .junction import henderson_potential
-from .half_reaction import ElectrodeResult, HalfReaction
+from .protocol import Electrode, ElectrodeResult
 from ..solution import Solution
 
 __all__ = ["CellResult", "Cell"]
 
-_ELECTRODES = (HalfReaction, ReferenceElectrode, IonSelectiveElectrode)
 
 
 @dataclass(frozen=True)
@@ -84,7 +82,7 @@ class Cell:
 
     def __init__(self, left: Any, right: Any, junction: Any = None):
         for side, e in (("left", left), ("right", right)):
-            if not isinstance(e, _ELECTRODES):
+            if not isinstance(e, Electrode):
                 raise InputError("expected a HalfReaction, ReferenceElectrode or IonSelectiveElectrode", field=side, value=type(e).__name__)
         if not (junction is None or junction == "henderson" or isinstance(junction, (int, float))):
             raise InputError("must be None, 'henderson' or a number in V", field="junction", value=junction)
@@ -115,7 +113,7 @@ class Cell:
         model = resolve_model(model)
         comp = {}
         for side, e, given in (("left", self.left, left_solution), ("right", self.right, right_solution)):
-            if isinstance(e, ReferenceElectrode):
+            if e.own_compartment:
                 if given is not None:
                     raise InputError("a reference electrode's compartment is its own filling", field=f"{side}_solution", value=None)
                 comp[side] = None
@@ -134,7 +132,7 @@ class Cell:
                 return e.evaluate(T)  # a reference electrode: its own filling and model
             if id(s) not in gamma:
                 gamma[id(s)] = model.activity_coefficients(s)
-            return _evaluate_in(e, s, gamma[id(s)], pressures)
+            return e.evaluate_in(s, gamma[id(s)], pressures=pressures)
 
         left, right = electrode(self.left, comp["left"]), electrode(self.right, comp["right"])
         notes: list[str] = []

@@ -20,7 +20,8 @@ from ..constants import F, LN10, R, T_REF, ZERO_CELSIUS
 from .equations import nernst_slope
 from ..errors import InputError, call_with_notes
 from .membrane import nikolsky_eisenman_core
-from .half_reaction import ElectrodeResult, HalfReaction, LazyMapping, best_available_model, standard_couple
+from .half_reaction import HalfReaction, best_available_model, standard_couple
+from .protocol import Electrode, ElectrodeResult, LazyMapping
 from ..solution import Solution
 from ..species import parse_species
 
@@ -55,7 +56,7 @@ def kcl_saturation_molality(T: Any = T_REF) -> Any:
     return _checks.scalar_or_array(np.interp(t, tab["temperature"], tab["molality"]))
 
 
-class ReferenceElectrode:
+class ReferenceElectrode(Electrode):
     """A metal | sparingly soluble chloride | KCl(aq) reference electrode.
 
     Parameters
@@ -98,10 +99,22 @@ class ReferenceElectrode:
         label = "saturated" if self.filling == "saturated" else f"{self.filling:g} {basis}"
         self.name = name or f"{self.couple.name} in {label} KCl"
 
+    own_compartment = True
+
     @property
     def model(self) -> ActivityModel:
         """The activity model applied to the filling solution."""
         return self._model
+
+    @property
+    def electrode_constant(self) -> float:
+        """E° of the chloride couple at 298.15 K, V."""
+        return self.couple.E0
+
+    def evaluate_in(self, sol: Solution, coefficients: Any, *,
+                    pressures: Mapping[str, Any] | None = None) -> ElectrodeResult:
+        """The potential at the temperature of ``sol``; the electrode sits in its own filling."""
+        return self.evaluate(sol.T_compact)
 
     def filling_solution(self, T: Any = T_REF) -> Solution:
         """The KCl filling as a :class:`Solution` at temperature T."""
@@ -171,7 +184,7 @@ def common_practice_potential(kind: str, filling: Any) -> tuple[float, str] | No
     return None
 
 
-class IonSelectiveElectrode:
+class IonSelectiveElectrode(Electrode):
     """An ion-selective electrode following the Nikolsky–Eisenman equation.
 
     E = E0 + (k·s/zᵢ) log10(aᵢ + Σⱼ Kᵢⱼ aⱼ^(zᵢ/zⱼ)), s = RT ln10/F, k = ``slope_factor``.
@@ -180,8 +193,10 @@ class IonSelectiveElectrode:
     ----------
     ion : str
         Primary ion, e.g. ``'Ca^2+'``.
-    E0 : float
-        Electrode constant at 298.15 K, V (on the scale of the cell it is used in).
+    E0 : array_like
+        Electrode constant at 298.15 K, V (on the scale of the cell it is used in); an
+        array broadcasts with the solution's batch (e.g. to propagate a calibration's
+        uncertainty).
     selectivity : Mapping[str, array_like], optional
         Selectivity coefficients Kᵢⱼ by interfering ion (an array broadcasts with the
         solution's batch, e.g. to propagate their uncertainty).
@@ -207,26 +222,51 @@ class IonSelectiveElectrode:
             raise InputError("the primary species of an ion-selective electrode must be an ion", field="ion", value=ion)
         self.ion = sp.name
         self.z = sp.charge
-        self.E0 = float(_checks.finite_array(E0, "E0"))
+        self.E0 = _checks.scalar_or_array(_checks.finite_array(E0, "E0"))
         self.dE0dT = float(_checks.finite_array(dE0dT, "dE0dT"))
         self.slope_factor = float(_checks.finite_array(slope_factor, "slope_factor", positive=True))
-        self.selectivity: dict[str, float] = {}
+        self._selectivity: dict[str, Any] = {}
         for k, v in (selectivity or {}).items():
             j = parse_species(k)
             if j.name == self.ion or not j.is_ion or np.sign(j.charge) != np.sign(self.z):
                 raise InputError("an interferent must be another ion of the primary ion's sign", field="selectivity", value=k)
-            self.selectivity[j.name] = _checks.scalar_or_array(_checks.finite_array(v, f"selectivity[{k!r}]", nonnegative=True))
+            self._selectivity[j.name] = _checks.scalar_or_array(_checks.finite_array(v, f"selectivity[{k!r}]", nonnegative=True))
         self.name = name or f"{self.ion} ion-selective electrode"
+
+    @property
+    def selectivity(self) -> dict[str, Any]:
+        """Selectivity coefficients Kᵢⱼ by interfering ion."""
+        return self._selectivity
+
+    @property
+    def responds_to(self) -> tuple[str, ...]:
+        """The primary ion."""
+        return (self.ion,)
+
+    @property
+    def electrode_constant(self) -> float:
+        """E0 at 298.15 K, V (the mean, when E0 was given as an array)."""
+        return float(np.mean(self.E0))
+
+    def with_selectivity(self, K: Mapping[str, Any]) -> "IonSelectiveElectrode":
+        """A copy with the selectivity coefficients named in ``K`` replaced."""
+        if not K:
+            return self
+        sel = {j: K.get(j, k) for j, k in self.selectivity.items()}
+        return IonSelectiveElectrode(self.ion, self.E0, selectivity=sel, slope_factor=self.slope_factor,
+                                     dE0dT=self.dE0dT, name=self.name)
 
     def slope(self, T: Any = T_REF) -> Any:
         """Response slope k·RT ln10/(zF), V per decade of the primary ion's activity."""
         return self.slope_factor * nernst_slope(T, self.z)
 
-    def _e0_at(self, T: Any) -> Any:
+    def e0_at(self, T: Any) -> Any:
         """E0 at temperature T from its value at 298.15 K and dE0dT, V."""
         return self.E0 + self.dE0dT * (np.asarray(T) - T_REF)
 
-    def _terms(self, sol: Solution, lg: np.ndarray) -> tuple[np.ndarray, list, list, list]:
+    def activity_terms(self, sol: Solution, lg: np.ndarray) -> tuple[np.ndarray, list, list, list]:
+        """Activity of the primary ion, the interferents present, their charges and activities,
+        from the model's log10 γ rows ``lg`` for ``sol``."""
         if self.ion not in sol.species:
             raise InputError(f"the primary ion of {self.name} is not in the solution", field="species", value=self.ion)
         present = [j for j in self.selectivity if j in sol.species]
@@ -271,18 +311,18 @@ class IonSelectiveElectrode:
 
     def evaluate(self, sol: Solution, model: Any = "davies") -> ElectrodeResult:
         """Electrode potential in ``sol`` (same scale as E0), with activities used."""
-        return self._evaluate(sol, resolve_model(model).activity_coefficients(sol))
+        return self.evaluate_in(sol, resolve_model(model).activity_coefficients(sol))
 
-    def _evaluate(self, sol: Solution, g: Any) -> ElectrodeResult:
+    def evaluate_in(self, sol: Solution, g: Any, *, pressures: Mapping[str, Any] | None = None) -> ElectrodeResult:
         """:meth:`evaluate` with the model's result ``g`` for ``sol`` already computed."""
         T = sol.T_compact
-        E0 = self._e0_at(T)
+        E0 = self.e0_at(T)
         shared = self._shared_gamma(sol, g.log10_gamma)
         if shared is not None:
             E, lg = shared
             E += E0
         else:
-            ai, present, zj, aj = self._terms(sol, g.log10_gamma)
+            ai, present, zj, aj = self.activity_terms(sol, g.log10_gamma)
             K = [self.selectivity[j] for j in present]
             E = nikolsky_eisenman_core(E0, ai, self.z, aj, [self.z / z for z in zj], K, T, self.slope_factor)
             lg = LazyMapping({j: (lambda a=a: _log10_or_nan(a)) for j, a in zip([self.ion] + present, [ai, *aj])})
@@ -295,12 +335,3 @@ class IonSelectiveElectrode:
 
     def __repr__(self) -> str:
         return f"IonSelectiveElectrode({self.ion!r}, E0={self.E0!r}, selectivity={self.selectivity!r})"
-
-
-def _evaluate_in(electrode: HalfReaction | IonSelectiveElectrode, sol: Solution, g: Any, pressures: Mapping[str, Any] | None = None) -> ElectrodeResult:
-    """A half-reaction or an ion-selective electrode in ``sol``, given the model's result ``g``
-    for ``sol`` (so that electrodes sharing a solution share one evaluation of the model);
-    gas pressures apply to half-reactions only."""
-    if isinstance(electrode, HalfReaction):
-        return electrode._evaluate(sol, g, pressures=pressures)
-    return electrode._evaluate(sol, g)

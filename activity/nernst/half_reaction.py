@@ -15,7 +15,6 @@ obtained with :func:`standard_couple` (or :meth:`HalfReaction.from_table`).
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, field
 from collections.abc import Mapping
 from typing import Any, Sequence
 
@@ -25,6 +24,7 @@ from .. import _checks, data
 from ..coefficients import ActivityModel, get_model, resolve_model
 from ..constants import F, LN10, P_STANDARD, R, T_REF
 from .equations import standard_potential_at
+from .protocol import Electrode, ElectrodeResult, LazyMapping
 from ..errors import InputError
 from ..reactions import Reaction, parse_reaction
 from ..solution import Solution
@@ -40,59 +40,6 @@ __all__ = [
 
 #: Order in which :func:`best_available_model` tries models for concentrated solutions.
 MODEL_PREFERENCE = ("pitzer", "truesdell-jones", "extended-debye-huckel", "davies")
-
-
-class LazyMapping(Mapping):
-    """A read-only mapping whose values may be zero-argument callables, evaluated on first access."""
-
-    def __init__(self, items: Mapping[str, Any]):
-        self._items = dict(items)
-
-    def __getitem__(self, key: str) -> Any:
-        value = self._items[key]
-        if callable(value):
-            value = self._items[key] = value()
-        return value
-
-    def __iter__(self):
-        return iter(self._items)
-
-    def __len__(self) -> int:
-        return len(self._items)
-
-    def __repr__(self) -> str:
-        return f"{type(self).__name__}({list(self._items)})"
-
-
-@dataclass(frozen=True)
-class ElectrodeResult:
-    """An electrode potential with what went into it.
-
-    Attributes
-    ----------
-    potential : float or ndarray
-        V vs SHE.
-    standard_potential : float or ndarray
-        E° at the solution's temperature, V.
-    log10_activity : dict
-        Species → log10 a used in the Nernst term.
-    T : float or ndarray
-        Temperature, K.
-    model : str
-        Activity model used.
-    notes : tuple of str
-        Fallbacks, assumptions and validity excursions.
-    in_range : bool or ndarray
-        Whether the activity model was inside its declared validity.
-    """
-
-    potential: Any
-    standard_potential: Any
-    log10_activity: Mapping[str, Any] = field(default_factory=dict)
-    T: Any = T_REF
-    model: str = ""
-    notes: tuple = ()
-    in_range: Any = True
 
 
 def best_available_model(species: Sequence[str], preference: Sequence[str] = MODEL_PREFERENCE) -> tuple[ActivityModel, tuple[str, ...]]:
@@ -123,7 +70,7 @@ def best_available_model(species: Sequence[str], preference: Sequence[str] = MOD
     raise InputError("none of the preferred models covers these species", field="model", value=list(preference))
 
 
-class HalfReaction:
+class HalfReaction(Electrode):
     """A reduction half-reaction with its standard potential.
 
     Parameters
@@ -202,6 +149,16 @@ class HalfReaction:
     def determinands(self) -> tuple[str, ...]:
         """Dissolved species whose activity the potential depends on (not water)."""
         return tuple(s.name for s in self._species if s.phase == "aq" and s.formula != "H2O" and s.name not in self.fixed)
+
+    @property
+    def responds_to(self) -> tuple[str, ...]:
+        """The same as :attr:`determinands` (the electrode protocol's name)."""
+        return self.determinands
+
+    @property
+    def electrode_constant(self) -> float:
+        """E° at 298.15 K, V."""
+        return self.E0
 
     def __repr__(self) -> str:
         return f"HalfReaction({str(self.reaction)!r}, E0={self.E0!r})"
@@ -325,9 +282,9 @@ class HalfReaction:
         if not isinstance(sol, Solution):
             raise InputError("expected an activity.Solution", field="solution", value=type(sol).__name__)
         g = resolve_model(model).activity_coefficients(sol)
-        return self._evaluate(sol, g, pressures=pressures, activities=activities)
+        return self.evaluate_in(sol, g, pressures=pressures, activities=activities)
 
-    def _evaluate(
+    def evaluate_in(
         self,
         sol: Solution,
         g: Any,

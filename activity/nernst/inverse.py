@@ -24,7 +24,7 @@ from .. import _checks
 from .cell import Cell
 from ..coefficients import resolve_model
 from ..constants import F, R
-from .electrodes import IonSelectiveElectrode, _evaluate_in
+from .protocol import Electrode
 from ..errors import ActivityWarning, ConvergenceError, InputError
 from .half_reaction import HalfReaction
 from ..solution import Solution
@@ -72,22 +72,11 @@ class InverseResult:
 
 
 def _determinand(electrode: Any, species: str | None) -> str:
-    if isinstance(electrode, IonSelectiveElectrode):
-        name = electrode.ion
-        if species is not None and parse_species(species).name != name:
-            raise InputError(f"the electrode responds to {name}", field="species", value=species)
-        return name
-    if isinstance(electrode, HalfReaction):
-        options = electrode.determinands
-        if species is None:
-            if len(options) != 1:
-                raise InputError(f"say which species to solve for: one of {options}", field="species", value=None)
-            return options[0]
-        name = parse_species(species).name
-        if name not in options:
-            raise InputError(f"not a dissolved species of {electrode.name} (choose from {options})", field="species", value=species)
-        return name
-    raise InputError("expected a HalfReaction or an IonSelectiveElectrode", field="electrode", value=type(electrode).__name__)
+    """The determinand of a single electrode dipping into the sample."""
+    if not isinstance(electrode, Electrode) or electrode.own_compartment:
+        raise InputError("expected an electrode that dips into the sample (a HalfReaction or an "
+                         "IonSelectiveElectrode)", field="electrode", value=type(electrode).__name__)
+    return electrode.determinand(species)
 
 
 def activity_from_potential(electrode: Any, E: Any, sol: Solution, model: Any = "davies", species: str | None = None, **kw: Any) -> Any:
@@ -127,8 +116,8 @@ def activity_from_potential(electrode: Any, E: Any, sol: Solution, model: Any = 
         return _checks.scalar_or_array(np.exp(ln_a))
     probe = sol if name in sol.species else sol.replace({name: 0.0})
     g = resolve_model(model).activity_coefficients(probe)
-    _, present, zj, aj = electrode._terms(probe, g.log10_gamma)
-    total = 10.0 ** ((E - electrode._e0_at(T)) / electrode.slope(T))  # slope carries 1/z
+    _, present, zj, aj = electrode.activity_terms(probe, g.log10_gamma)
+    total = 10.0 ** ((E - electrode.e0_at(T)) / electrode.slope(T))  # slope carries 1/z
     zi = electrode.z
     interf = sum(electrode.selectivity[j] * a_j ** (zi / z_j) for j, z_j, a_j in zip(present, zj, aj))
     a = total - interf
@@ -276,7 +265,7 @@ def molality_from_potential(
     model = resolve_model(model)
 
     def forward(s: Solution) -> Any:
-        return _evaluate_in(electrode, s, model.activity_coefficients(s), pressures).potential
+        return electrode.evaluate_in(s, model.activity_coefficients(s), pressures=pressures).potential
 
     return _solve(forward, E, matrix, name, counter_ion, model, rtol, max_iter)
 
@@ -312,6 +301,7 @@ def molality_from_emf(
     if not isinstance(cell, Cell):
         raise InputError("expected an activity.Cell", field="cell", value=type(cell).__name__)
     name = parse_species(species).name
+    model = resolve_model(model)  # once: every step of the secant reuses the bound model
 
     def forward(s: Solution) -> Any:
         return cell.evaluate(s, model, pressures=pressures).emf

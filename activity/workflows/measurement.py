@@ -36,10 +36,10 @@ import numpy as np
 from .. import _checks
 from ..nernst.cell import Cell
 from ..coefficients import available_models, resolve_model
-from ..nernst.electrodes import IonSelectiveElectrode, ReferenceElectrode, _evaluate_in
+from ..nernst.electrodes import IonSelectiveElectrode
 from ..errors import ActivityError, InputError, ValidityWarning, catch_package_warnings
-from ..nernst.inverse import _determinand, molality_from_emf, molality_from_potential
-from ..nernst.half_reaction import HalfReaction
+from ..nernst.inverse import molality_from_emf, molality_from_potential
+from ..nernst.protocol import Electrode
 from ..solution import Solution
 from ..species import parse_species
 from ..uncertainty import Normal, PropagationResult, propagate
@@ -151,11 +151,6 @@ def _sample_species(sample: Solution, name: str, field: str) -> str:
     return canonical
 
 
-def _e0_of(electrode: Any) -> float:
-    """E° at 25 °C of an electrode (its couple's for a reference electrode), V."""
-    return float(electrode.couple.E0 if isinstance(electrode, ReferenceElectrode) else electrode.E0)
-
-
 def _e0_inputs(u_e0: Any, sides: Mapping[str, Any]) -> list[_Input]:
     """``sides`` maps a side key ('electrode', 'left', 'right') to its electrode."""
     if isinstance(u_e0, Mapping):
@@ -167,14 +162,13 @@ def _e0_inputs(u_e0: Any, sides: Mapping[str, Any]) -> list[_Input]:
         u = _nonnegative(u_e0 or 0.0, "u_e0")
         given = {k: u for k in sides}
     label = (lambda k: f"E°({sides[k].name}) [V]") if list(sides) == ["electrode"] else (lambda k: f"E°({k}: {sides[k].name}) [V]")
-    return [_Input(f"E0_{k}", label(k), "e0", k, Normal(_e0_of(sides[k]), u)) for k, u in given.items() if u > 0]
+    return [_Input(f"E0_{k}", label(k), "e0", k, Normal(sides[k].electrode_constant, u)) for k, u in given.items() if u > 0]
 
 
 def _selectivity_inputs(electrodes: list[Any], u_selectivity: Mapping[str, Any] | None) -> list[_Input]:
     known: dict[str, float] = {}
     for e in electrodes:
-        if isinstance(e, IonSelectiveElectrode):
-            known.update(e.selectivity)
+        known.update(e.selectivity)
     out = []
     for i, (name, u) in enumerate((u_selectivity or {}).items()):
         j = parse_species(name).name
@@ -224,18 +218,10 @@ def _point_builder(sample: Solution, inputs: list[_Input], reading: Any) -> Call
     return build
 
 
-def _with_selectivity(electrode: Any, K: Mapping[str, Any]) -> Any:
-    if not K or not isinstance(electrode, IonSelectiveElectrode):
-        return electrode
-    sel = {j: K.get(j, k) for j, k in electrode.selectivity.items()}
-    return IonSelectiveElectrode(electrode.ion, electrode.E0, selectivity=sel, slope_factor=electrode.slope_factor,
-                                 dE0dT=electrode.dE0dT, name=electrode.name)
-
-
 def _cell_at(cell: Cell, K: Mapping[str, Any]) -> Cell:
     if not K:
         return cell
-    return Cell(left=_with_selectivity(cell.left, K), right=_with_selectivity(cell.right, K), junction=cell.junction)
+    return Cell(left=cell.left.with_selectivity(K), right=cell.right.with_selectivity(K), junction=cell.junction)
 
 
 # ------------------------------------------------------------------ running
@@ -341,14 +327,14 @@ def potential_with_uncertainty(electrode: Any, sample: Solution, model: Any = "d
     >>> [row.name for row in r.propagation.budget]
     ['m(K+) [mol/kg]', 'm(Cl-) [mol/kg]', 'E°(AgCl/Ag) [V]']
     """
-    if not isinstance(electrode, (HalfReaction, IonSelectiveElectrode)):
+    if not isinstance(electrode, Electrode) or electrode.own_compartment:
         raise InputError("expected a HalfReaction or an IonSelectiveElectrode", field="electrode", value=type(electrode).__name__)
     inputs = (_amount_inputs(_one_sample(sample), u_amount, u_molality) + _temperature_input(sample, u_temperature)
               + _e0_inputs(u_e0, {"electrode": electrode}) + _selectivity_inputs([electrode], u_selectivity))
 
     def quantity(p: _Point, m: Any) -> Any:
-        at = _with_selectivity(electrode, p.selectivity)
-        return _evaluate_in(at, p.sol, m.activity_coefficients(p.sol), pressures).potential + p.shift("electrode")
+        at = electrode.with_selectivity(p.selectivity)
+        return at.evaluate_in(p.sol, m.activity_coefficients(p.sol), pressures=pressures).potential + p.shift("electrode")
 
     return _run(quantity, sample, model, inputs, None, "E", "V", **options)
 
@@ -448,7 +434,7 @@ def molality_with_uncertainty(electrode: Any, reading: float, matrix: Solution, 
         sides = {"left": electrode.left, "right": electrode.right}
         parts = [electrode.left, electrode.right]
         if species is None:
-            ions = [e.ion for e in parts if isinstance(e, IonSelectiveElectrode)]
+            ions = [e.ion for e in parts if isinstance(e, IonSelectiveElectrode)]  # an ISE's ion comes first
             if len(ions) != 1:
                 raise InputError("say which species to solve for", field="species", value=None)
             species = ions[0]
@@ -458,13 +444,13 @@ def molality_with_uncertainty(electrode: Any, reading: float, matrix: Solution, 
             target = np.broadcast_to(p.reading - p.shift("right") + p.shift("left"), p.shape)
             return molality_from_emf(_cell_at(electrode, p.selectivity), target, p.sol, m, species=name,
                                      counter_ion=counter_ion, pressures=pressures).molality
-    elif isinstance(electrode, (HalfReaction, IonSelectiveElectrode)):
+    elif isinstance(electrode, Electrode) and not electrode.own_compartment:
         sides, parts = {"electrode": electrode}, [electrode]
-        name = _determinand(electrode, species)
+        name = electrode.determinand(species)
 
         def quantity(p: _Point, m: Any) -> Any:
             target = np.broadcast_to(p.reading - p.shift("electrode"), p.shape)  # rows even when only K varies
-            return molality_from_potential(_with_selectivity(electrode, p.selectivity), target, p.sol, m,
+            return molality_from_potential(electrode.with_selectivity(p.selectivity), target, p.sol, m,
                                            species=species, counter_ion=counter_ion, pressures=pressures).molality
     else:
         raise InputError("expected a HalfReaction, IonSelectiveElectrode or Cell", field="electrode", value=type(electrode).__name__)
