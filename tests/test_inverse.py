@@ -117,3 +117,23 @@ def test_bad_inputs():
         molality_from_potential(ise, 0.0, act.Solution({"Ca^2+": 0.1, "Cl-": 0.2}))
     with pytest.raises(InputError, match="Cell"):
         molality_from_emf(ise, 0.0, act.Solution({"K+": 0.1, "Cl-": 0.1}), species="Ca^2+")
+
+
+def test_model_named_once_is_parsed_once(monkeypatch):
+    """A model given by name is resolved once at the entry point, not at every secant step."""
+    from activity.coefficients.pitzer import _model, _params
+
+    cell = Cell(left=silver_chloride_electrode(3.0), right=IonSelectiveElectrode("Ca^2+", E0=0.05))
+    calls = []
+    original = _params.parse_parameters
+
+    def counting(*args, **kwargs):
+        calls.append(1)
+        return original(*args, **kwargs)
+
+    monkeypatch.setattr(_params, "parse_parameters", counting)
+    if hasattr(_model, "parse_parameters"):
+        monkeypatch.setattr(_model, "parse_parameters", counting)
+    res = molality_from_emf(cell, -0.2, act.Solution({"K+": 0.1, "Cl-": 0.1}), "pitzer", species="Ca2+",
+                            counter_ion="Cl-")
+    assert res.iterations > 2 and len(calls) == 1
