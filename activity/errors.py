@@ -8,7 +8,7 @@ them as a group.
 from __future__ import annotations
 
 import warnings
-from typing import Any, Callable
+from typing import Any, Callable, Iterable
 
 __all__ = [
     "ActivityError",
@@ -87,6 +87,13 @@ class CoverageWarning(ActivityWarning):
 
 class ElectroneutralityWarning(ActivityWarning):
     """The composition is not electrically neutral within the tolerance."""
+
+
+def warn_alerts(alerts: Iterable[str], category: type[Warning] = ValidityWarning, stacklevel: int = 3) -> None:
+    """Warn once per distinct message: what a public entry point does with the ``alerts`` of
+    the result it returns (inner code records, it does not warn)."""
+    for message in dict.fromkeys(alerts):
+        warnings.warn(message, category, stacklevel=stacklevel)
 
 
 def catch_package_warnings(func: Callable[..., Any], *args: Any, **kw: Any) -> tuple[Any, list]:

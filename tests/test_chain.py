@@ -173,7 +173,7 @@ def test_validity_warnings_during_monte_carlo_become_one_note():
     # carries one note and one ValidityWarning saying so.
     from activity.errors import ValidityWarning
 
-    with pytest.warns(ValidityWarning, match=r"4 batch call\(s\) warned") as seen:
+    with pytest.warns(ValidityWarning, match=r"4 batch call\(s\) outside a validity") as seen:
         res = potential_with_uncertainty(standard_couple("AgCl/Ag"), kcl(0.1), "extended-debye-huckel", u_amount=0.05,
                                          method="monte-carlo", trials=300_000, seed=1, spread_models=["davies"])
     assert len([w for w in seen if issubclass(w.category, ValidityWarning)]) == 1

@@ -182,7 +182,7 @@ def test_cell_in_one_solution_evaluates_the_model_once():
     model = act.get_model("davies")
     seen = []
     evaluate = model.activity_coefficients
-    model.activity_coefficients = lambda s: seen.append(s) or evaluate(s)
+    model.activity_coefficients = lambda s, **kw: seen.append(s) or evaluate(s, **kw)
     res = harned_cell().evaluate(HCL, model, pressures=H2)
     assert seen == [HCL]
     assert res.emf == pytest.approx(harned_cell().emf(HCL, "davies", pressures=H2), abs=1e-15)
@@ -254,19 +254,29 @@ def test_reference_electrode_model_choice_recorded():
         assert any("pitzer unavailable" in n for n in res.notes)
 
 
-def test_reference_electrode_notes_package_warnings_and_passes_others_on():
+def test_reference_electrode_records_once_and_warns_once():
+    """Notes are the single record: the excursion is noted, and warned once by the entry point."""
     ref = silver_chloride_electrode(3.0, model="davies")  # Davies beyond its validity: a note
-    evaluate = ref.couple.evaluate
-
-    def noisy(*args, **kw):
-        warnings.warn("not the package's", RuntimeWarning)
-        return evaluate(*args, **kw)
-
-    ref.couple.evaluate = noisy
-    with pytest.warns(RuntimeWarning, match="not the package's"):
+    with warnings.catch_warnings(record=True) as seen:
+        warnings.simplefilter("always")
         res = ref.evaluate()
-    assert any("davies" in n and "validity" in n for n in res.notes)
-    assert not any("not the package's" in n for n in res.notes)
+    validity = [w for w in seen if issubclass(w.category, act.ValidityWarning)]
+    assert len(validity) == 1 and str(validity[0].message) in res.notes
+    assert res.alerts == (str(validity[0].message),)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        quiet = ref.evaluate(warn=False)
+    assert quiet.notes == res.notes
+
+
+def test_cell_warns_each_excursion_once():
+    cell = Cell(left=silver_chloride_electrode(3.0, model="davies"), right=standard_couple("AgCl/Ag"))
+    sample = act.Solution({"K+": 0.5, "Cl-": 0.5})  # Davies outside its validity in both compartments
+    with warnings.catch_warnings(record=True) as seen:
+        warnings.simplefilter("always")
+        res = cell.evaluate(sample, "davies")
+    messages = [str(w.message) for w in seen if issubclass(w.category, act.ValidityWarning)]
+    assert len(messages) == len(set(messages)) == len(res.alerts) == 2
 
 
 # ------------------------------------------------------------------ ion-selective electrodes

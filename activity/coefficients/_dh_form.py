@@ -73,7 +73,7 @@ class DebyeHuckelForm(ActivityModel):
     def _ion_terms(self, species: tuple[str, ...], charges: np.ndarray) -> IonTerms:
         raise NotImplementedError
 
-    def _bind(self, species, charges):
+    def prepare(self, species, charges):
         terms = self._ion_terms(species, charges)
         b = np.array(terms.b, dtype=float)
         for i, name in enumerate(species):
@@ -87,7 +87,7 @@ class DebyeHuckelForm(ActivityModel):
         )
         return _Bound(charges.astype(float) ** 2, terms, groups)
 
-    def _bound_notes(self, bound):
+    def binding_notes(self, bound):
         return bound.terms.notes, ()
 
     @staticmethod
@@ -95,7 +95,7 @@ class DebyeHuckelForm(ActivityModel):
         T, P = sol.T_compact, sol.P_compact
         return np.asarray(debye_huckel_A(T, P)), np.asarray(debye_huckel_B(T, P))
 
-    def _log10_gamma(self, sol, bound, I):
+    def compute_log10_gamma(self, sol, bound, I):
         A, B = self._AB(sol)
         s = np.sqrt(I)
         k = len(bound.z2)
@@ -116,7 +116,7 @@ class DebyeHuckelForm(ActivityModel):
                 out[i] += beta * I
         return out
 
-    def _osmotic(self, sol, bound, I):
+    def compute_osmotic(self, sol, bound, I):
         A, B = self._AB(sol)
         s = np.sqrt(I)
         m = sol.m

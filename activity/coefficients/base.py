@@ -3,8 +3,13 @@
 A model is constructed with parameters only (nothing is computed in ``__init__``). It is
 bound once to a species set — precomputing index and parameter arrays — and the binding
 is cached on the instance, so evaluating many batches of the same species set is cheap.
-Subclasses implement :meth:`ActivityModel._bind` and :meth:`ActivityModel._log10_gamma`,
-and :meth:`ActivityModel._osmotic` where the model defines an osmotic coefficient.
+Model authors implement public hooks: :meth:`ActivityModel.prepare` (what depends only on
+the species set), :meth:`ActivityModel.compute_log10_gamma`, and
+:meth:`ActivityModel.compute_osmotic` where the model defines an osmotic coefficient;
+optionally :meth:`ActivityModel.compute` (γ and φ from one pass),
+:meth:`ActivityModel.binding_notes` and :meth:`ActivityModel.check_range`. A model passes
+:func:`activity.coefficients.testing.check_model` before it is registered. (Plug-ins written
+against the earlier underscore hooks ``_bind``, ``_log10_gamma``, ``_osmotic`` keep working.)
 """
 from __future__ import annotations
 
@@ -77,6 +82,10 @@ class CoefficientResult(Mapping):
     notes : tuple of str
         Everything the caller should know: validity excursions, fallbacks, missing
         parameters.
+    alerts : tuple of str
+        The notes that call for a :class:`~activity.errors.ValidityWarning` (excursions
+        outside the declared validity); the public entry point that returns a result built
+        on this one warns them once.
     missing : tuple of str
         Interactions or parameters absent from the parameter set.
     osmotic_coefficient, water_activity : float, ndarray or None
@@ -91,6 +100,7 @@ class CoefficientResult(Mapping):
     in_range: Any = True
     notes: tuple = ()
     missing: tuple = ()
+    alerts: tuple = ()
     _phi: Any = field(default=None, repr=False)  # value, or a callable computing it
     _total_molality: Any = field(default=None, repr=False)
     _index: dict = field(default_factory=dict, repr=False)
@@ -142,8 +152,8 @@ class CoefficientResult(Mapping):
 class ActivityModel:
     """Base class of activity-coefficient models.
 
-    Subclasses set :attr:`name` and :attr:`validity` and implement ``_bind`` and
-    ``_log10_gamma`` (and ``_osmotic`` where defined).
+    Subclasses set :attr:`name` and :attr:`validity` and implement ``prepare`` and
+    ``compute_log10_gamma`` (and ``compute_osmotic`` where defined).
     """
 
     name: ClassVar[str] = "abstract"
@@ -157,24 +167,36 @@ class ActivityModel:
         args = ", ".join(f"{k}={v!r}" for k, v in self.params.items())
         return f"{type(self).__name__}({args})"
 
-    # ------------------------------------------------------------ hooks
-    def _bind(self, species: tuple[str, ...], charges: np.ndarray) -> Any:
-        """Precompute what depends only on the species set (override)."""
-        return None
+    # ------------------------------------------------------------ hooks (for model authors)
+    def prepare(self, species: tuple[str, ...], charges: np.ndarray) -> Any:
+        """Precompute what depends only on the species set: index arrays, parameter vectors.
 
-    def _log10_gamma(self, sol: Solution, bound: Any, I: np.ndarray) -> np.ndarray:
-        raise NotImplementedError
+        Called once per species tuple (the result is cached by :meth:`bind`) and passed to
+        the other hooks as ``bound``. Missing parameters raise :class:`InputError` naming
+        the species, or are recorded through :meth:`binding_notes`.
+        """
+        legacy = getattr(self, "_bind", None)
+        return legacy(species, charges) if legacy is not None else None
 
-    def _osmotic(self, sol: Solution, bound: Any, I: np.ndarray) -> np.ndarray | None:
-        return None
+    def compute_log10_gamma(self, sol: Solution, bound: Any, I: np.ndarray) -> np.ndarray:
+        """log10 γ of every species of ``sol``, shape ``(n_species,) + sol.shape`` (required)."""
+        legacy = getattr(self, "_log10_gamma", None)
+        if legacy is None:
+            raise NotImplementedError(f"{type(self).__name__} implements no compute_log10_gamma")
+        return legacy(sol, bound, I)
 
-    def _evaluate(self, sol: Solution, bound: Any, I: np.ndarray) -> tuple[np.ndarray, Any]:
-        """(log10 γ, φ) for :meth:`activity_coefficients`; φ may be a callable (computed on
-        first access). Override when both come cheaply from one pass."""
-        return self._log10_gamma(sol, bound, I), functools.partial(self._osmotic, sol, bound, I)
+    def compute_osmotic(self, sol: Solution, bound: Any, I: np.ndarray) -> np.ndarray | None:
+        """The molal osmotic coefficient φ, or None where the model does not define it."""
+        legacy = getattr(self, "_osmotic", None)
+        return legacy(sol, bound, I) if legacy is not None else None
 
-    def _bound_notes(self, bound: Any) -> tuple[tuple[str, ...], tuple[str, ...]]:
-        """(notes, missing) that follow from the binding alone (override)."""
+    def compute(self, sol: Solution, bound: Any, I: np.ndarray) -> tuple[np.ndarray, Any]:
+        """(log10 γ, φ); φ may be a callable computed on first access. Override when both
+        come cheaply from one pass."""
+        return self.compute_log10_gamma(sol, bound, I), functools.partial(self.compute_osmotic, sol, bound, I)
+
+    def binding_notes(self, bound: Any) -> tuple[tuple[str, ...], tuple[str, ...]]:
+        """(notes, missing) that follow from the binding alone, e.g. absent parameters."""
         return (), ()
 
     # ------------------------------------------------------------ public
@@ -183,11 +205,12 @@ class ActivityModel:
         key = tuple(species)
         b = self._bindings.get(key)
         if b is None:
-            b = self._bind(key, np.asarray(charges))
+            b = self.prepare(key, np.asarray(charges))
             self._bindings[key] = b
         return b
 
-    def _check(self, sol: Solution, I: np.ndarray) -> tuple[Any, tuple[str, ...]]:
+    def check_range(self, sol: Solution, I: np.ndarray) -> tuple[Any, tuple[str, ...]]:
+        """(in-range flag per row, notes) against :attr:`validity`; extend to add checks."""
         v = self.validity
         notes = []
         ok = np.ones(np.shape(I), dtype=bool)
@@ -210,12 +233,13 @@ class ActivityModel:
             )
         return ok, tuple(notes)
 
-    def activity_coefficients(self, sol: Solution) -> CoefficientResult:
+    def activity_coefficients(self, sol: Solution, *, warn: bool = True) -> CoefficientResult:
         """Activity coefficients (molal scale) of every species in ``sol``.
 
-        Returns a :class:`CoefficientResult`; warns with
-        :class:`~activity.errors.ValidityWarning` when rows fall outside the model's
-        validity.
+        Returns a :class:`CoefficientResult` whose ``notes`` record every excursion. With
+        ``warn=True`` (the default) rows outside the model's validity also raise a
+        :class:`~activity.errors.ValidityWarning`; code that passes the result on (and
+        warns once at its own entry point) asks with ``warn=False``.
         """
         if not isinstance(sol, Solution):
             from ..errors import InputError
@@ -223,11 +247,12 @@ class ActivityModel:
             raise InputError("expected an activity.Solution", field="solution", value=type(sol).__name__)
         bound = self.bind(sol.species, sol.charges)
         I = np.asarray(sol.ionic_strength, dtype=float)
-        lg, phi = self._evaluate(sol, bound, I)
-        ok, notes = self._check(sol, I)
-        bnotes, missing = self._bound_notes(bound)
-        for note in notes:
-            warnings.warn(note, ValidityWarning, stacklevel=2)
+        lg, phi = self.compute(sol, bound, I)
+        ok, notes = self.check_range(sol, I)
+        bnotes, missing = self.binding_notes(bound)
+        if warn:
+            for note in notes:
+                warnings.warn(note, ValidityWarning, stacklevel=2)
         return CoefficientResult(
             species=sol.species,
             log10_gamma=lg,
@@ -236,6 +261,7 @@ class ActivityModel:
             in_range=bool(ok) if ok.ndim == 0 else ok,
             notes=notes + bnotes,
             missing=missing,
+            alerts=notes,
             _phi=phi,
             _total_molality=sol.total_molality,
         )
@@ -243,7 +269,7 @@ class ActivityModel:
     def log10_gamma(self, sol: Solution) -> np.ndarray:
         """log10 γ of every species, shape ``(n_species,) + sol.shape`` (no validity checks)."""
         bound = self.bind(sol.species, sol.charges)
-        return self._log10_gamma(sol, bound, np.asarray(sol.ionic_strength, dtype=float))
+        return self.compute_log10_gamma(sol, bound, np.asarray(sol.ionic_strength, dtype=float))
 
     def ln_gamma(self, sol: Solution) -> np.ndarray:
         """Natural-log activity coefficients, shape ``(n_species,) + sol.shape``."""
@@ -252,7 +278,7 @@ class ActivityModel:
     def osmotic_coefficient(self, sol: Solution) -> Any:
         """Molal osmotic coefficient φ; :class:`~activity.errors.ModelError` if undefined."""
         bound = self.bind(sol.species, sol.charges)
-        phi = self._osmotic(sol, bound, np.asarray(sol.ionic_strength, dtype=float))
+        phi = self.compute_osmotic(sol, bound, np.asarray(sol.ionic_strength, dtype=float))
         if phi is None:
             raise ModelError(f"model {self.name!r} does not define an osmotic coefficient")
         return scalar_or_array(phi)

@@ -21,8 +21,8 @@ class IdealModel(ActivityModel):
     name = "ideal"
     validity = Validity(1e-4, species="all species", basis="common practice: deviations reach 1 % near I = 1e-4 mol/kg")
 
-    def _log10_gamma(self, sol, bound, I):
+    def compute_log10_gamma(self, sol, bound, I):
         return np.zeros((len(sol.species),) + I.shape)
 
-    def _osmotic(self, sol, bound, I):
+    def compute_osmotic(self, sol, bound, I):
         return np.ones(I.shape)

@@ -17,7 +17,7 @@ import numpy as np
 
 from .. import _checks
 from ..coefficients import resolve_model
-from ..errors import InputError
+from ..errors import InputError, warn_alerts
 from .junction import henderson_potential
 from .protocol import Electrode, ElectrodeResult
 from ..solution import Solution
@@ -41,6 +41,8 @@ class CellResult:
     model : str
         Activity model applied to the sample.
     notes : tuple of str
+    alerts : tuple of str
+        The notes that call for a :class:`~activity.errors.ValidityWarning`.
     """
 
     emf: Any
@@ -49,6 +51,7 @@ class CellResult:
     junction_potential: Any
     model: str
     notes: tuple = ()
+    alerts: tuple = ()
 
     @property
     def right_potential(self) -> Any:
@@ -96,6 +99,7 @@ class Cell:
         left_solution: Solution | None = None,
         right_solution: Solution | None = None,
         pressures: Mapping[str, Any] | None = None,
+        warn: bool = True,
     ) -> CellResult:
         """EMF with both electrode potentials and the junction term.
 
@@ -109,6 +113,8 @@ class Cell:
             Compartment solutions of a two-compartment cell.
         pressures : Mapping[str, array_like], optional
             Gas partial pressures in Pa.
+        warn : bool, default True
+            Warn once about the result's ``alerts`` (validity excursions of either side).
         """
         model = resolve_model(model)
         comp = {}
@@ -129,9 +135,9 @@ class Cell:
 
         def electrode(e: Any, s: Solution | None) -> ElectrodeResult:
             if s is None:
-                return e.evaluate(T)  # a reference electrode: its own filling and model
+                return e.evaluate(T, warn=False)  # a reference electrode: its own filling and model
             if id(s) not in gamma:
-                gamma[id(s)] = model.activity_coefficients(s)
+                gamma[id(s)] = model.activity_coefficients(s, warn=False)
             return e.evaluate_in(s, gamma[id(s)], pressures=pressures)
 
         left, right = electrode(self.left, comp["left"]), electrode(self.right, comp["right"])
@@ -151,7 +157,10 @@ class Cell:
                 notes.append(f"liquid-junction potential fixed at {ej:g} V")
         emf = np.asarray(right.potential) - np.asarray(left.potential) + np.asarray(ej)
         notes = [f"left: {n}" for n in left.notes] + [f"right: {n}" for n in right.notes] + notes
-        return CellResult(_checks.scalar_or_array(emf), right, left, ej, model.name, tuple(dict.fromkeys(notes)))
+        alerts = tuple(dict.fromkeys(left.alerts + right.alerts))
+        if warn:
+            warn_alerts(alerts)
+        return CellResult(_checks.scalar_or_array(emf), right, left, ej, model.name, tuple(dict.fromkeys(notes)), alerts)
 
     def emf(self, sol: Solution | None = None, model: Any = "davies", **kw: Any) -> Any:
         """EMF = E(right) − E(left) + E_j in V (shorthand for ``evaluate(...).emf``)."""

@@ -18,7 +18,7 @@ from .. import _checks, data
 from ..coefficients import ActivityModel, resolve_model
 from ..constants import F, LN10, R, T_REF, ZERO_CELSIUS
 from .equations import nernst_slope
-from ..errors import InputError, call_with_notes
+from ..errors import InputError, warn_alerts
 from .membrane import nikolsky_eisenman_core
 from .half_reaction import HalfReaction, best_available_model, standard_couple
 from .protocol import Electrode, ElectrodeResult, LazyMapping
@@ -114,7 +114,7 @@ class ReferenceElectrode(Electrode):
     def evaluate_in(self, sol: Solution, coefficients: Any, *,
                     pressures: Mapping[str, Any] | None = None) -> ElectrodeResult:
         """The potential at the temperature of ``sol``; the electrode sits in its own filling."""
-        return self.evaluate(sol.T_compact)
+        return self.evaluate(sol.T_compact, warn=False)
 
     def filling_solution(self, T: Any = T_REF) -> Solution:
         """The KCl filling as a :class:`Solution` at temperature T."""
@@ -125,18 +125,21 @@ class ReferenceElectrode(Electrode):
             return Solution({"K+": self.filling, "Cl-": self.filling}, T=T)
         return Solution.from_molarity({"K+": self.filling, "Cl-": self.filling}, T=T)
 
-    def evaluate(self, T: Any = T_REF) -> ElectrodeResult:
+    def evaluate(self, T: Any = T_REF, *, warn: bool = True) -> ElectrodeResult:
         """Potential vs SHE at T with the model used and every assumption in the notes."""
         sol = self.filling_solution(T)
-        res, caught = call_with_notes(self.couple.evaluate, sol, self._model)
+        res = self.couple.evaluate_in(sol, self._model.activity_coefficients(sol, warn=False))
         notes = (
             (f"filling {self.name}: chloride activity from {res.model}",)
             + self._model_notes
             + res.notes
-            + tuple(c for c in caught if not any(c.startswith(n) for n in res.notes))
             + ("single-ion activity of Cl- as given by the model (not measurable on its own)",)
         )
-        return ElectrodeResult(res.potential, res.standard_potential, res.log10_activity, res.T, res.model, tuple(dict.fromkeys(notes)), res.in_range)
+        out = ElectrodeResult(res.potential, res.standard_potential, res.log10_activity, res.T, res.model,
+                              tuple(dict.fromkeys(notes)), res.in_range, res.alerts)
+        if warn:
+            warn_alerts(out.alerts)
+        return out
 
     def potential(self, T: Any = T_REF) -> Any:
         """Potential vs SHE at T, V."""
@@ -309,9 +312,12 @@ class IonSelectiveElectrode(Electrode):
         acts = {name: (lambda k=k: _log10_or_nan(sol.m[k] * 10.0 ** lg[k])) for name, k in [(self.ion, i)] + present}
         return ln_total, LazyMapping(acts)
 
-    def evaluate(self, sol: Solution, model: Any = "davies") -> ElectrodeResult:
+    def evaluate(self, sol: Solution, model: Any = "davies", *, warn: bool = True) -> ElectrodeResult:
         """Electrode potential in ``sol`` (same scale as E0), with activities used."""
-        return self.evaluate_in(sol, resolve_model(model).activity_coefficients(sol))
+        res = self.evaluate_in(sol, resolve_model(model).activity_coefficients(sol, warn=False))
+        if warn:
+            warn_alerts(res.alerts)
+        return res
 
     def evaluate_in(self, sol: Solution, g: Any, *, pressures: Mapping[str, Any] | None = None) -> ElectrodeResult:
         """:meth:`evaluate` with the model's result ``g`` for ``sol`` already computed."""
@@ -327,7 +333,7 @@ class IonSelectiveElectrode(Electrode):
             E = nikolsky_eisenman_core(E0, ai, self.z, aj, [self.z / z for z in zj], K, T, self.slope_factor)
             lg = LazyMapping({j: (lambda a=a: _log10_or_nan(a)) for j, a in zip([self.ion] + present, [ai, *aj])})
         absent = tuple(f"interferent {j} absent from the solution (activity 0)" for j in self.selectivity if j not in sol.species)
-        return ElectrodeResult(_checks.scalar_or_array(E), _checks.scalar_or_array(E0), lg, _checks.scalar_or_array(T), g.model, tuple(g.notes) + absent, g.in_range)
+        return ElectrodeResult(_checks.scalar_or_array(E), _checks.scalar_or_array(E0), lg, _checks.scalar_or_array(T), g.model, tuple(g.notes) + absent, g.in_range, g.alerts)
 
     def potential(self, sol: Solution, model: Any = "davies") -> Any:
         """Electrode potential, V (shorthand for ``evaluate(...).potential``)."""

@@ -25,7 +25,7 @@ from ..coefficients import ActivityModel, get_model, resolve_model
 from ..constants import F, LN10, P_STANDARD, R, T_REF
 from .equations import standard_potential_at
 from .protocol import Electrode, ElectrodeResult, LazyMapping
-from ..errors import InputError
+from ..errors import InputError, warn_alerts
 from ..reactions import Reaction, parse_reaction
 from ..solution import Solution
 from ..species import parse_species
@@ -262,6 +262,7 @@ class HalfReaction(Electrode):
         *,
         pressures: Mapping[str, Any] | None = None,
         activities: Mapping[str, Any] | None = None,
+        warn: bool = True,
     ) -> ElectrodeResult:
         """Potential vs SHE at the solution's temperature, with everything used.
 
@@ -274,6 +275,8 @@ class HalfReaction(Electrode):
             Partial pressures of gases in Pa (standard state 1 bar).
         activities : Mapping[str, array_like], optional
             Activities that override the model for named species.
+        warn : bool, default True
+            Warn (:class:`~activity.errors.ValidityWarning`) about the result's ``alerts``.
 
         Returns
         -------
@@ -281,8 +284,11 @@ class HalfReaction(Electrode):
         """
         if not isinstance(sol, Solution):
             raise InputError("expected an activity.Solution", field="solution", value=type(sol).__name__)
-        g = resolve_model(model).activity_coefficients(sol)
-        return self.evaluate_in(sol, g, pressures=pressures, activities=activities)
+        g = resolve_model(model).activity_coefficients(sol, warn=False)
+        res = self.evaluate_in(sol, g, pressures=pressures, activities=activities)
+        if warn:
+            warn_alerts(res.alerts)
+        return res
 
     def evaluate_in(
         self,
@@ -308,6 +314,7 @@ class HalfReaction(Electrode):
             g.model,
             tuple(g.notes) + notes,
             g.in_range,
+            g.alerts,
         )
 
     def potential(self, sol: Solution, model: Any = "davies", **kw: Any) -> Any:

@@ -14,7 +14,6 @@ Two questions, two functions:
 """
 from __future__ import annotations
 
-import warnings
 from dataclasses import dataclass
 from typing import Any, Callable, Mapping
 
@@ -25,7 +24,7 @@ from .cell import Cell
 from ..coefficients import resolve_model
 from ..constants import F, R
 from .protocol import Electrode
-from ..errors import ActivityWarning, ConvergenceError, InputError
+from ..errors import ConvergenceError, InputError, warn_alerts
 from .half_reaction import HalfReaction
 from ..solution import Solution
 from ..species import parse_species
@@ -58,6 +57,8 @@ class InverseResult:
         The sample as solved.
     model : str
     notes : tuple of str
+    alerts : tuple of str
+        The notes that call for a :class:`~activity.errors.ValidityWarning`.
     """
 
     species: str
@@ -69,6 +70,7 @@ class InverseResult:
     solution: Solution
     model: str
     notes: tuple = ()
+    alerts: tuple = ()
 
 
 def _determinand(electrode: Any, species: str | None) -> str:
@@ -146,6 +148,7 @@ def _solve(
     model: Any,
     rtol: float,
     max_iter: int,
+    warn: bool,
 ) -> InverseResult:
     if not isinstance(matrix, Solution):
         raise InputError("expected an activity.Solution for the sample matrix", field="matrix", value=type(matrix).__name__)
@@ -170,23 +173,21 @@ def _solve(
     # two starting points in the usual analytical range; steps capped at e^5 ≈ 150-fold (design choices)
     x0 = np.full(shape, np.log(1e-3))
     x1 = np.full(shape, np.log(1e-2))
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", ActivityWarning)
-        f0, f1 = f(x0), f(x1)
-        done = np.zeros(shape, bool)
-        it = 0
-        for it in range(1, max_iter + 1):
-            df = f1 - f0
-            ok = (df != 0) & ~done
-            step = np.where(ok, -f1 * (x1 - x0) / np.where(ok, df, 1.0), 0.0)
-            step = np.clip(step, -5.0, 5.0)
-            x2 = np.clip(x1 + step, _LN_M_MIN, _LN_M_MAX)
-            inside = (x2 > _LN_M_MIN) & (x2 < _LN_M_MAX)
-            done |= (np.abs(x2 - x1) <= rtol) & inside
-            x0, f0, x1 = x1, f1, x2
-            if np.all(done):
-                break
-            f1 = f(x1)
+    f0, f1 = f(x0), f(x1)
+    done = np.zeros(shape, bool)
+    it = 0
+    for it in range(1, max_iter + 1):
+        df = f1 - f0
+        ok = (df != 0) & ~done
+        step = np.where(ok, -f1 * (x1 - x0) / np.where(ok, df, 1.0), 0.0)
+        step = np.clip(step, -5.0, 5.0)
+        x2 = np.clip(x1 + step, _LN_M_MIN, _LN_M_MAX)
+        inside = (x2 > _LN_M_MIN) & (x2 < _LN_M_MAX)
+        done |= (np.abs(x2 - x1) <= rtol) & inside
+        x0, f0, x1 = x1, f1, x2
+        if np.all(done):
+            break
+        f1 = f(x1)
     if not np.all(done):
         rows = np.flatnonzero(~np.ravel(done))
         raise ConvergenceError(
@@ -195,7 +196,9 @@ def _solve(
             rows=rows,
         )
     sol = build(x1)
-    g = resolve_model(model).activity_coefficients(sol)
+    g = model.activity_coefficients(sol, warn=False)
+    if warn:
+        warn_alerts(g.alerts)
     j = sol.index(species)
     gamma = 10.0 ** g.log10_gamma[j]
     notes = list(g.notes)
@@ -211,6 +214,7 @@ def _solve(
         sol,
         g.model,
         tuple(notes),
+        g.alerts,
     )
 
 
@@ -225,6 +229,7 @@ def molality_from_potential(
     pressures: Mapping[str, Any] | None = None,
     rtol: float = 1e-10,
     max_iter: int = 60,
+    warn: bool = True,
 ) -> InverseResult:
     """Molality of the determinand in ``matrix`` from a measured electrode potential.
 
@@ -246,6 +251,8 @@ def molality_from_potential(
     rtol : float, default 1e-10
         Convergence: change of ln m (relative change of m) per iteration.
     max_iter : int, default 60
+    warn : bool, default True
+        Warn once about the final result's ``alerts`` (validity excursions).
 
     Returns
     -------
@@ -265,9 +272,9 @@ def molality_from_potential(
     model = resolve_model(model)
 
     def forward(s: Solution) -> Any:
-        return electrode.evaluate_in(s, model.activity_coefficients(s), pressures=pressures).potential
+        return electrode.evaluate_in(s, model.activity_coefficients(s, warn=False), pressures=pressures).potential
 
-    return _solve(forward, E, matrix, name, counter_ion, model, rtol, max_iter)
+    return _solve(forward, E, matrix, name, counter_ion, model, rtol, max_iter, warn)
 
 
 def molality_from_emf(
@@ -281,6 +288,7 @@ def molality_from_emf(
     pressures: Mapping[str, Any] | None = None,
     rtol: float = 1e-10,
     max_iter: int = 60,
+    warn: bool = True,
 ) -> InverseResult:
     """Molality of ``species`` in the sample from a measured cell EMF.
 
@@ -304,6 +312,6 @@ def molality_from_emf(
     model = resolve_model(model)  # once: every step of the secant reuses the bound model
 
     def forward(s: Solution) -> Any:
-        return cell.evaluate(s, model, pressures=pressures).emf
+        return cell.evaluate(s, model, pressures=pressures, warn=False).emf
 
-    return _solve(forward, emf, matrix, name, counter_ion, model, rtol, max_iter)
+    return _solve(forward, emf, matrix, name, counter_ion, model, rtol, max_iter, warn)

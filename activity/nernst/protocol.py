@@ -74,6 +74,8 @@ class ElectrodeResult:
         Fallbacks, assumptions and validity excursions.
     in_range : bool or ndarray
         Whether the activity model was inside its declared validity.
+    alerts : tuple of str
+        The notes that call for a :class:`~activity.errors.ValidityWarning`.
     """
 
     potential: Any
@@ -83,6 +85,7 @@ class ElectrodeResult:
     model: str = ""
     notes: tuple = ()
     in_range: Any = True
+    alerts: tuple = ()
 
 
 class Electrode(abc.ABC):

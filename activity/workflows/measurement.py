@@ -27,7 +27,6 @@ Conventions shared by the three functions:
 from __future__ import annotations
 
 import dataclasses
-import warnings
 from dataclasses import dataclass
 from typing import Any, Callable, Mapping
 
@@ -37,7 +36,7 @@ from .. import _checks
 from ..nernst.cell import Cell
 from ..coefficients import available_models, resolve_model
 from ..nernst.electrodes import IonSelectiveElectrode
-from ..errors import ActivityError, InputError, ValidityWarning, catch_package_warnings
+from ..errors import ActivityError, InputError, warn_alerts
 from ..nernst.inverse import molality_from_emf, molality_from_potential
 from ..nernst.protocol import Electrode
 from ..solution import Solution
@@ -225,51 +224,53 @@ def _cell_at(cell: Cell, K: Mapping[str, Any]) -> Cell:
 
 
 # ------------------------------------------------------------------ running
-def _spread(quantity: Callable[[_Point, Any], Any], point: _Point, names: Any) -> tuple[ModelSpread | None, list[str]]:
+Quantity = Callable[[_Point, Any, list], Any]
+
+
+def _spread(quantity: Quantity, point: _Point, names: Any) -> tuple[ModelSpread | None, list[str]]:
     """The quantity at the estimates by each model; notes for the models not counted."""
     values, notes = {}, []
     for item in (available_models() if names is None else names):
         name = getattr(item, "name", item)
+        alerts: list[str] = []
         try:
-            y, seen = catch_package_warnings(lambda: float(quantity(point, resolve_model(item))))
+            y = float(quantity(point, resolve_model(item), alerts))
         except (ActivityError, ImportError) as exc:
             notes.append(f"model choice: {name} not counted, cannot evaluate this sample ({exc})")
             continue
-        outside = [str(w.message) for w in seen if issubclass(w.category, ValidityWarning)]
-        if outside:
-            notes.append(f"model choice: {name} not counted, outside its validity ({outside[0]}); it gives {y:.6g}")
+        if alerts:
+            notes.append(f"model choice: {name} not counted, outside its validity ({alerts[0]}); it gives {y:.6g}")
             continue
         values[name] = y
-        notes += [f"model choice: {name} counted, with a warning: {w.message}" for w in seen]
     if not values:
         notes.append("model choice: no model could evaluate the sample inside its validity")
     return (model_spread(values) if values else None), notes
 
 
-def _run(quantity: Callable[[_Point, Any], Any], sample: Solution, model: Any, inputs: list[_Input], reading: Any,
+def _run(quantity: Quantity, sample: Solution, model: Any, inputs: list[_Input], reading: Any,
          label: str, unit: str, *, method: str = "gum", trials: int | None = None, seed: Any = None,
          coverage: float = 0.95, spread_models: Any = None) -> ChainResult:
     if not inputs:
         raise InputError("no uncertain input: state at least one non-zero uncertainty", field="uncertainty", value=None)
     model = resolve_model(model)
     build = _point_builder(sample, inputs, reading)
+    alerts: list[str] = []
 
     def f(**cols: Any) -> Any:
-        return quantity(build(cols), model)
+        return quantity(build(cols), model, alerts)
 
     dists = {i.key: i.dist for i in inputs}
-    result, seen = catch_package_warnings(lambda: propagate(f, dists, method, trials=trials, seed=seed, coverage=coverage))
+    result = propagate(f, dists, method, trials=trials, seed=seed, coverage=coverage)
     labels = {i.key: i.label for i in inputs}
     result = dataclasses.replace(result, budget=tuple(dataclasses.replace(r, name=labels[r.name]) for r in result.budget))
-    kinds: dict[tuple, list] = {}
-    for w in seen:  # Monte Carlo chunks repeat a warning with other numbers: one note per kind
-        kinds.setdefault((w.category, str(w.message).split(":")[0]), []).append(str(w.message))
-    notes = {}
-    for (category, _), messages in kinds.items():
-        notes[category, messages[0]] = f"during the propagation ({len(messages)} batch call(s) warned; the first): {messages[0]}"
-        warnings.warn(notes[category, messages[0]], category, stacklevel=3)
+    kinds: dict[str, list] = {}
+    for message in alerts:  # Monte Carlo chunks repeat an excursion with other numbers: one note per kind
+        kinds.setdefault(message.split(":")[0], []).append(message)
+    notes = [f"during the propagation ({len(m)} batch call(s) outside a validity; the first): {m[0]}"
+             for m in kinds.values()]
+    warn_alerts(notes, stacklevel=3)
     spread, spread_notes = _spread(quantity, build({i.key: i.dist.mean for i in inputs}), spread_models)
-    return ChainResult(label, unit, model.name, result, spread, tuple(notes.values()) + tuple(spread_notes))
+    return ChainResult(label, unit, model.name, result, spread, tuple(notes) + tuple(spread_notes))
 
 
 _OPTIONS_DOC = """
@@ -332,9 +333,11 @@ def potential_with_uncertainty(electrode: Any, sample: Solution, model: Any = "d
     inputs = (_amount_inputs(_one_sample(sample), u_amount, u_molality) + _temperature_input(sample, u_temperature)
               + _e0_inputs(u_e0, {"electrode": electrode}) + _selectivity_inputs([electrode], u_selectivity))
 
-    def quantity(p: _Point, m: Any) -> Any:
+    def quantity(p: _Point, m: Any, alerts: list) -> Any:
         at = electrode.with_selectivity(p.selectivity)
-        return at.evaluate_in(p.sol, m.activity_coefficients(p.sol), pressures=pressures).potential + p.shift("electrode")
+        res = at.evaluate_in(p.sol, m.activity_coefficients(p.sol, warn=False), pressures=pressures)
+        alerts.extend(res.alerts)
+        return res.potential + p.shift("electrode")
 
     return _run(quantity, sample, model, inputs, None, "E", "V", **options)
 
@@ -378,9 +381,10 @@ def emf_with_uncertainty(cell: Cell, sample: Solution, model: Any = "davies", *,
               + _e0_inputs(u_e0, {"left": cell.left, "right": cell.right})
               + _selectivity_inputs([cell.left, cell.right], u_selectivity))
 
-    def quantity(p: _Point, m: Any) -> Any:
-        emf = _cell_at(cell, p.selectivity).evaluate(p.sol, m, pressures=pressures).emf
-        return emf + p.shift("right") - p.shift("left")
+    def quantity(p: _Point, m: Any, alerts: list) -> Any:
+        res = _cell_at(cell, p.selectivity).evaluate(p.sol, m, pressures=pressures, warn=False)
+        alerts.extend(res.alerts)
+        return res.emf + p.shift("right") - p.shift("left")
 
     return _run(quantity, sample, model, inputs, None, "EMF", "V", **options)
 
@@ -440,18 +444,22 @@ def molality_with_uncertainty(electrode: Any, reading: float, matrix: Solution, 
             species = ions[0]
         name = parse_species(species).name
 
-        def quantity(p: _Point, m: Any) -> Any:
+        def quantity(p: _Point, m: Any, alerts: list) -> Any:
             target = np.broadcast_to(p.reading - p.shift("right") + p.shift("left"), p.shape)
-            return molality_from_emf(_cell_at(electrode, p.selectivity), target, p.sol, m, species=name,
-                                     counter_ion=counter_ion, pressures=pressures).molality
+            res = molality_from_emf(_cell_at(electrode, p.selectivity), target, p.sol, m, species=name,
+                                    counter_ion=counter_ion, pressures=pressures, warn=False)
+            alerts.extend(res.alerts)
+            return res.molality
     elif isinstance(electrode, Electrode) and not electrode.own_compartment:
         sides, parts = {"electrode": electrode}, [electrode]
         name = electrode.determinand(species)
 
-        def quantity(p: _Point, m: Any) -> Any:
+        def quantity(p: _Point, m: Any, alerts: list) -> Any:
             target = np.broadcast_to(p.reading - p.shift("electrode"), p.shape)  # rows even when only K varies
-            return molality_from_potential(electrode.with_selectivity(p.selectivity), target, p.sol, m,
-                                           species=species, counter_ion=counter_ion, pressures=pressures).molality
+            res = molality_from_potential(electrode.with_selectivity(p.selectivity), target, p.sol, m, species=species,
+                                          counter_ion=counter_ion, pressures=pressures, warn=False)
+            alerts.extend(res.alerts)
+            return res.molality
     else:
         raise InputError("expected a HalfReaction, IonSelectiveElectrode or Cell", field="electrode", value=type(electrode).__name__)
     u_read = _nonnegative(u_reading or 0.0, "u_reading")

@@ -92,13 +92,13 @@ class PitzerModel(ActivityModel):
         return self._table
 
     # ------------------------------------------------------------ contract
-    def _bind(self, species, charges):
+    def prepare(self, species, charges):
         b = bind(self.table, species, charges)
         if b.missing:
             warnings.warn(b.notes[0], CoverageWarning, stacklevel=4)
         return b
 
-    def _bound_notes(self, bound):
+    def binding_notes(self, bound):
         return bound.notes, bound.missing
 
     def _run(self, sol, bound, want: set) -> dict:
@@ -126,15 +126,15 @@ class PitzerModel(ActivityModel):
                 res[k][..., sl] = v
         return {k: (v.reshape((n,) + sol.shape) if k == "lng" else v.reshape(sol.shape)) for k, v in res.items()}
 
-    def _evaluate(self, sol, bound, I):
+    def compute(self, sol, bound, I):
         # γ and φ share their sums: one pass gives both for little more than γ alone.
         out = self._run(sol, bound, {"lng", "phi"})
         return out["lng"] / LN10, out["phi"]
 
-    def _log10_gamma(self, sol, bound, I):
+    def compute_log10_gamma(self, sol, bound, I):
         return self._run(sol, bound, {"lng"})["lng"] / LN10
 
-    def _osmotic(self, sol, bound, I):
+    def compute_osmotic(self, sol, bound, I):
         return self._run(sol, bound, {"phi"})["phi"]
 
     # ------------------------------------------------------------ public
@@ -152,11 +152,11 @@ class PitzerModel(ActivityModel):
         bound = self.bind(sol.species, sol.charges)
         return scalar_or_array(self._run(sol, bound, {"gex"})["gex"])
 
-    def _check(self, sol, I):
+    def check_range(self, sol, I):
         # The model-wide checks of the base class, plus each interaction's fitted molality
         # and temperature range: noted, warned (by the base, word for word as noted) and
         # reflected in ``in_range``.
-        ok, notes = super()._check(sol, I)
+        ok, notes = super().check_range(sol, I)
         pok, pnotes = self._pair_checks(sol, self.bind(sol.species, sol.charges))
         return ok & pok, notes + pnotes
 
