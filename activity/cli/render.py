@@ -8,25 +8,12 @@ from typing import Any
 
 import numpy as np
 
-from ..coefficients import available_models, get_model, resolve_model
-from ..errors import ActivityError, call_with_notes
+from ..coefficients import available_models, get_model
+from ..coefficients.compare import compare_models
+from ..errors import ActivityError
 from ..formatting import fmt, table, to_csv, to_json
 
 __all__ = ["evaluate_models", "solution_report", "models_report", "demo_report"]
-
-
-def _run_models(sol, models) -> list[dict[str, Any]]:
-    """Each model (name or instance) on ``sol``: its result and notes, or its error."""
-    out = []
-    for m in models:
-        try:
-            model = resolve_model(m)
-            res, caught = call_with_notes(model.activity_coefficients, sol)
-            out.append({"model": model.name, "result": res, "validity": model.validity.describe(),
-                        "notes": list(dict.fromkeys(res.notes + caught))})
-        except ActivityError as exc:
-            out.append({"model": m if isinstance(m, str) else m.name, "error": str(exc)})
-    return out
 
 
 def _models_for(model: str) -> list:
@@ -37,21 +24,21 @@ def _models_for(model: str) -> list:
 def evaluate_models(sol, models) -> list[dict[str, Any]]:
     """Evaluate several models on one solution; failures and warnings are recorded."""
     out = []
-    for run in _run_models(sol, models):
-        entry: dict[str, Any] = {"model": run["model"]}
-        if "error" in run:
-            entry["error"] = run["error"]
+    for run in compare_models(sol, models):
+        entry: dict[str, Any] = {"model": run.name}
+        if not run.ok:
+            entry["error"] = run.error
             out.append(entry)
             continue
-        res = run["result"]
+        res = run.value
         entry["gamma"] = {n: float(res[n]) for n in res}
         entry["activity"] = {n: float(res[n]) * float(sol.m[i]) for i, n in enumerate(sol.species)}
         entry["osmotic_coefficient"] = res.osmotic_coefficient
         entry["water_activity"] = res.water_activity
         entry["in_range"] = bool(np.all(res.in_range))
-        entry["notes"] = run["notes"]
+        entry["notes"] = list(dict.fromkeys(res.notes))
         entry["missing"] = list(res.missing)
-        entry["validity"] = run["validity"]
+        entry["validity"] = run.model.validity.describe()
         out.append(entry)
     return out
 
@@ -108,11 +95,14 @@ def solution_report(sol, model: str = "davies", form: str = "table") -> str:
 def table_report(sol, labels, model: str = "davies", form: str = "table") -> str:
     """Report a batch read from a CSV file: one row per composition."""
     I = np.atleast_1d(np.asarray(sol.ionic_strength))
-    results = _run_models(sol, _models_for(model))
-    for r in results:
-        if "result" in r:
-            r["gamma"] = r["result"].gamma
-            r["in_range"] = np.broadcast_to(r["result"].in_range, sol.shape)
+    results: list[dict[str, Any]] = []
+    for run in compare_models(sol, _models_for(model)):
+        if not run.ok:
+            results.append({"model": run.name, "error": run.error})
+            continue
+        res = run.value
+        results.append({"model": run.name, "notes": list(dict.fromkeys(res.notes)), "gamma": res.gamma,
+                        "in_range": np.broadcast_to(res.in_range, sol.shape)})
     ok = [r for r in results if "error" not in r]
     if not ok:
         raise ActivityError(results[0]["error"])

@@ -20,8 +20,8 @@ from typing import Any, Sequence
 
 import numpy as np
 
-from ..coefficients import available_models, get_model
-from ..errors import ActivityError, call_with_notes
+from ..coefficients.compare import run_models
+
 from ..solution import Solution
 
 __all__ = ["SCENARIO", "calcium_standards", "demo_cell", "ModelColumn", "DemoResult", "run_demo"]
@@ -90,19 +90,19 @@ def run_demo(models: Sequence[str] | None = None) -> DemoResult:
     cell = demo_cell()
     columns = []
     ref = None
-    for name in models or available_models():
-        try:
-            res, caught = call_with_notes(cell.evaluate, sol, get_model(name))
-        except ActivityError as exc:
-            columns.append(ModelColumn(name, error=str(exc)))
+    for run in run_models(lambda m: cell.evaluate(sol, m, warn=False), models):
+        if not run.ok:
+            columns.append(ModelColumn(run.name, error=run.error))
             continue
+        res = run.value
+        name = run.name
         # one evaluation gives the EMF and, through the ISE's record, the calcium activity
         activity = 10.0 ** np.asarray(res.right.log10_activity["Ca^2+"])
-        notes = tuple(dict.fromkeys(res.right.notes + caught))
+        notes = tuple(dict.fromkeys(res.right.notes))
         columns.append(ModelColumn(name, activity / sol.m[i], activity, np.broadcast_to(res.right.in_range, sol.shape), np.asarray(res.emf), notes))
         ref = res.left  # the reference electrode uses its own model, the same for every column
     if ref is None:
-        ref, _ = call_with_notes(cell.left.evaluate, SCENARIO["temperature"])
+        ref = cell.left.evaluate(SCENARIO["temperature"], warn=False)
     return DemoResult(
         SCENARIO["title"],
         SCENARIO["temperature"],
