@@ -9,6 +9,8 @@ Names are imported lazily so that ``import activity`` (and the command line) sta
 from __future__ import annotations
 
 import importlib
+import importlib.abc
+import importlib.util
 from typing import Any
 
 __version__ = "0.1.0"
@@ -92,6 +94,53 @@ _EXPORTS: dict[str, str] = {
 }
 
 __all__ = sorted(_EXPORTS) + ["__version__"]
+
+# Modules that moved when the package was regrouped by layer. The old dotted paths still
+# import (with a DeprecationWarning naming the new one) so that code written against them
+# keeps working; they will be removed in a later minor version.
+_MOVED: dict[str, str] = {
+    "activity.evaluate": "activity.coefficients.activities",
+    "activity.electrochem": "activity.nernst.equations",
+    "activity.electrodes": "activity.nernst.electrodes",
+    "activity.cell": "activity.nernst.cell",
+    "activity.junction": "activity.nernst.junction",
+    "activity.membrane": "activity.nernst.membrane",
+    "activity.inverse": "activity.nernst.inverse",
+    "activity.chain": "activity.workflows.measurement",
+    "activity.demo": "activity.workflows.demo",
+    "activity.units": "activity.io.units",
+    "activity.recipe": "activity.io.recipe",
+    "activity.tablefile": "activity.io.tables",
+    "activity.report": "activity.formatting",
+    "activity.commands": "activity.cli.render",
+    "activity.uncertainty.spread": "activity.workflows.model_choice",
+}
+
+
+class _MovedModuleFinder(importlib.abc.MetaPathFinder, importlib.abc.Loader):
+    """Serves a moved module under its old name (the same module object) with a warning."""
+
+    def find_spec(self, fullname: str, path: Any = None, target: Any = None) -> Any:
+        if fullname not in _MOVED:
+            return None
+        return importlib.util.spec_from_loader(fullname, self)
+
+    def create_module(self, spec: Any) -> Any:
+        import sys
+        import warnings
+
+        new = _MOVED[spec.name]
+        warnings.warn(f"{spec.name} moved to {new}; import it from there", DeprecationWarning, stacklevel=3)
+        module = importlib.import_module(new)
+        sys.modules[spec.name] = module
+        return module
+
+    def exec_module(self, module: Any) -> None:
+        return None
+
+
+if not any(isinstance(f, _MovedModuleFinder) for f in __import__("sys").meta_path):
+    __import__("sys").meta_path.append(_MovedModuleFinder())
 
 
 def __getattr__(name: str) -> Any:

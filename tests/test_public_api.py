@@ -100,3 +100,69 @@ def test_input_error_hierarchy():
     assert issubclass(act.InputError, act.ActivityError)
     assert issubclass(act.InputError, ValueError)
     assert issubclass(act.ValidityWarning, act.ActivityWarning)
+
+
+SUBPACKAGE_NAMES = {
+    "activity.coefficients.testing": ["check_model", "ConformanceError", "ConformanceReport"],
+    "activity.coefficients.compare": ["run_models", "compare_models", "ModelRun"],
+    "activity.nernst": ["Cell", "HalfReaction", "IonSelectiveElectrode", "ReferenceElectrode", "nernst_slope",
+                        "standard_couple", "molality_from_emf", "molality_from_potential"],
+    "activity.nernst.protocol": ["Electrode", "ElectrodeResult"],
+    "activity.workflows.measurement": ["molality_with_uncertainty", "potential_with_uncertainty",
+                                       "emf_with_uncertainty", "ChainResult"],
+    "activity.workflows.model_choice": ["model_spread", "ModelSpread"],
+    "activity.workflows.record": ["Record"],
+    "activity.io.files": ["write_text", "write_bytes"],
+}
+
+
+@pytest.mark.parametrize("module, names", list(SUBPACKAGE_NAMES.items()))
+def test_subpackage_names(module, names):
+    import importlib
+
+    mod = importlib.import_module(module)
+    for name in names:
+        assert hasattr(mod, name), f"{module}.{name}"
+
+
+@pytest.mark.parametrize("old, new", [("activity.chain", "activity.workflows.measurement"),
+                                      ("activity.electrochem", "activity.nernst.equations"),
+                                      ("activity.units", "activity.io.units")])
+def test_moved_modules_import_under_their_old_names_with_a_warning(old, new):
+    import importlib
+    import sys
+
+    sys.modules.pop(old, None)
+    with pytest.warns(DeprecationWarning, match=new.replace(".", r"\.")):
+        mod = importlib.import_module(old)
+    assert mod is importlib.import_module(new)
+    sys.modules.pop(old, None)
+
+
+def test_lower_layers_import_no_higher_layer():
+    """The data flow is one-directional: core → coefficients → nernst → uncertainty → workflows;
+    io/ and cli/ only at the edges (checked on the import statements of each module)."""
+    import ast
+    import pathlib
+
+    root = pathlib.Path(act.__file__).parent
+    rank = {"coefficients": 1, "nernst": 2, "uncertainty": 2, "speciation": 3, "workflows": 4, "io": 5, "cli": 6}
+    bad = []
+    for path in root.rglob("*.py"):
+        rel = path.relative_to(root).parts
+        layer = rank.get(rel[0], 0) if len(rel) > 1 else 0
+        if rel[0] == "__init__.py":
+            continue
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+            if isinstance(node, ast.ImportFrom):
+                if node.level:
+                    base = list(rel[:-1])[: len(rel) - node.level]
+                    target = (base + (node.module or "").split("."))[:1]
+                elif (node.module or "").startswith("activity."):
+                    target = node.module.split(".")[1:2]
+                else:
+                    continue
+                target_rank = rank.get(target[0], 0) if target and target[0] else 0
+                if target_rank > layer and not (layer == 4 and target and target[0] == "io"):
+                    bad.append(f"{'/'.join(rel)} imports {target[0] if target else '?'}")
+    assert not bad, bad
