@@ -6,6 +6,7 @@ millions at once.
 
 Names are imported lazily so that ``import activity`` (and the command line) start fast.
 """
+
 from __future__ import annotations
 
 import importlib

@@ -1,4 +1,5 @@
 """Input checks shared by the core modules (internal)."""
+
 from __future__ import annotations
 
 from typing import Any

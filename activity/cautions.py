@@ -4,6 +4,7 @@ Some compositions call for a reminder that a computed number is not a procedure:
 fluoride with acid (hydrofluoric acid), concentrated strong acids or bases, and pH work
 whose results may reach patients or products.
 """
+
 from __future__ import annotations
 
 import numpy as np
@@ -44,7 +45,11 @@ def cautions_for(sol) -> list[str]:
     # 0.1 mol/kg (pH ≈ 1, pH ≈ 13 for OH-): our threshold for "strong"; solutions this
     # concentrated are handled as corrosive in common laboratory practice.
     if most("H+") >= 0.1:
-        out.append("caution: strong acid (H+ ≥ 0.1 mol/kg): corrosive; follow your local codes and validated procedures")
+        out.append(
+            "caution: strong acid (H+ ≥ 0.1 mol/kg): corrosive; follow your local codes and validated procedures"
+        )
     if most("OH-") >= 0.1:
-        out.append("caution: strong base (OH- ≥ 0.1 mol/kg): corrosive; follow your local codes and validated procedures")
+        out.append(
+            "caution: strong base (OH- ≥ 0.1 mol/kg): corrosive; follow your local codes and validated procedures"
+        )
     return out

@@ -2,6 +2,7 @@
 
 All quantities are SI: J, K, mol, C, V, Pa, kg.
 """
+
 from __future__ import annotations
 
 import math

@@ -4,13 +4,15 @@ The directory is found the same way from a source checkout (``<repo>/models``) a
 an installed wheel (``activity/_models``, copied there at build time). Files are parsed
 once and cached; callers receive read-only views.
 """
+
 from __future__ import annotations
 
 import functools
 import sys
+from collections.abc import Mapping
 from pathlib import Path
 from types import MappingProxyType
-from typing import Any, Mapping
+from typing import Any
 
 from .errors import InputError
 
@@ -58,7 +60,7 @@ def load_file(path: str | Path) -> Mapping[str, Any]:
         raise InputError(f"not valid TOML ({exc})", field="parameter file", value=str(p)) from None
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def load(name: str) -> Mapping[str, Any]:
     """Load ``models/<name>.toml`` (cached).
 

@@ -5,10 +5,12 @@ Every error raised on purpose derives from :class:`ActivityError`; bad input rai
 and value. Warnings derive from :class:`ActivityWarning` so that a caller can filter
 them as a group.
 """
+
 from __future__ import annotations
 
 import warnings
-from typing import Any, Callable, Iterable
+from collections.abc import Callable, Iterable
+from typing import Any
 
 __all__ = [
     "ActivityError",

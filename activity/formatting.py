@@ -3,13 +3,15 @@
 Only formatting lives here — no chemistry and no I/O; files are written by
 :mod:`activity.io.files`.
 """
+
 from __future__ import annotations
 
 import csv
 import io
 import json
 import math
-from typing import Any, Iterable, Sequence
+from collections.abc import Iterable, Sequence
+from typing import Any
 
 __all__ = ["fmt", "table", "to_json", "to_csv"]
 
@@ -89,5 +91,7 @@ def to_csv(headers: Sequence[str], rows: Iterable[Sequence[Any]]) -> str:
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(headers)
     for row in rows:
-        w.writerow([repr(float(c)) if isinstance(c, float) or hasattr(c, "dtype") else ("" if c is None else c) for c in row])
+        w.writerow(
+            [repr(float(c)) if isinstance(c, float) or hasattr(c, "dtype") else ("" if c is None else c) for c in row]
+        )
     return buf.getvalue()

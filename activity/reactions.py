@@ -7,12 +7,14 @@ by ``=``, ``⇌``, ``<=>``, ``->`` or ``→``. A term may start with a coefficie
 :class:`fractions.Fraction`; nothing is ever evaluated. Stoichiometric numbers ν are
 negative for reactants and positive for products.
 """
+
 from __future__ import annotations
 
 import re
 from dataclasses import dataclass
 from fractions import Fraction
 from math import lcm
+
 from .errors import InputError
 from .species import Species, parse_species
 
@@ -77,7 +79,7 @@ class Reaction:
         """Σ ν z (products minus reactants)."""
         return sum((n * s.charge for s, n in zip(self.species, self.nu)), Fraction(0))
 
-    def check_balance(self) -> "Reaction":
+    def check_balance(self) -> Reaction:
         """Raise :class:`InputError` naming what is off; return ``self`` when balanced.
 
         Examples
@@ -87,7 +89,7 @@ class Reaction:
         >>> parse_reaction("AgCl(s) = Ag(s) + Cl-").check_balance()
         Traceback (most recent call last):
         ...
-        activity.errors.InputError: reaction = 'AgCl(s) = Ag(s) + Cl-': not balanced: charge: left side totals +0, right side -1
+        activity.errors.InputError: reaction = 'AgCl(s) = Ag(s) + Cl-': not balanced: charge: ...
         """
         problems = []
         for el, v in self.element_imbalance().items():
@@ -118,7 +120,7 @@ def _parse_term(term: str, text: str) -> tuple[Fraction, Species]:
             coeff = Fraction(m.group(1))
         except (ValueError, ZeroDivisionError):
             raise InputError(f"cannot read the coefficient {m.group(1)!r}", field="reaction", value=text) from None
-        t = t[m.end():].strip()
+        t = t[m.end() :].strip()
         if coeff <= 0:
             raise InputError(f"coefficient must be positive in {term.strip()!r}", field="reaction", value=text)
     elif re.match(r"^[\d./]", t):
@@ -191,9 +193,11 @@ def _skeleton_species(text: str) -> tuple[list[Species], list[Species]]:
     sides = []
     for part in parts:
         terms = _side(part, text)
-        for c, sp in terms:
+        for c, _ in terms:
             if c != 1:
-                raise InputError("a skeleton has no coefficients; they are found by balancing", field="skeleton", value=text)
+                raise InputError(
+                    "a skeleton has no coefficients; they are found by balancing", field="skeleton", value=text
+                )
         sides.append([sp for _, sp in terms])
     return sides[0], sides[1]
 
@@ -254,4 +258,3 @@ def balance_half_reaction(skeleton: str, medium: str = "acid") -> Reaction:
             )
     keep = [i for i, v in enumerate(vec) if v != 0]
     return Reaction(tuple(cols[i] for i in keep), tuple(vec[i] for i in keep), skeleton).check_balance()
-

@@ -4,10 +4,12 @@ A :class:`Solution` is immutable. Amounts are molalities (mol/kg of water); a va
 be a scalar or an array, and all values, ``T`` and ``P`` broadcast to one batch shape, so
 one object can hold a million compositions.
 """
+
 from __future__ import annotations
 
 import warnings
-from typing import Any, Iterable, Mapping
+from collections.abc import Iterable, Mapping
+from typing import Any
 
 import numpy as np
 
@@ -106,9 +108,7 @@ class Solution:
         except ValueError:
             lengths = {n: v.shape for n, v in zip(names, values)}
             lengths.update(T=T_arr.shape, P=P_arr.shape)
-            raise InputError(
-                f"batch shapes do not broadcast: {lengths}", field="composition", value=None
-            ) from None
+            raise InputError(f"batch shapes do not broadcast: {lengths}", field="composition", value=None) from None
         m = np.empty((len(names),) + shape)
         for i, v in enumerate(values):
             m[i] = v
@@ -130,13 +130,20 @@ class Solution:
         self._cache: dict[str, Any] = {}
 
     @classmethod
-    def _from_arrays(cls, species, charges, m, T, P) -> "Solution":
+    def _from_arrays(cls, species, charges, m, T, P) -> Solution:
         """Build without re-validating (internal: arrays already checked)."""
         obj = cls.__new__(cls)
         shape = np.broadcast_shapes(m.shape[1:], np.shape(T), np.shape(P))
         if m.shape[1:] != shape:
             m = np.ascontiguousarray(np.broadcast_to(m, (m.shape[0],) + shape))
-        obj._init(tuple(species), np.asarray(charges, dtype=int), np.array(m, dtype=float), np.asarray(T, float), np.asarray(P, float), shape)
+        obj._init(
+            tuple(species),
+            np.asarray(charges, dtype=int),
+            np.array(m, dtype=float),
+            np.asarray(T, float),
+            np.asarray(P, float),
+            shape,
+        )
         return obj
 
     # ------------------------------------------------------------------ views
@@ -251,7 +258,7 @@ class Solution:
                 raise InputError(msg, field="composition", value=None)
             warnings.warn(msg, ElectroneutralityWarning, stacklevel=3)
 
-    def balance(self, ion: str) -> "Solution":
+    def balance(self, ion: str) -> Solution:
         """Return a neutral copy, adjusting the molality of ``ion`` (added if absent).
 
         Examples
@@ -282,7 +289,9 @@ class Solution:
         m[i] = np.maximum(new, 0.0)
         return Solution._from_arrays(species, charges, m, self._T, self._P)
 
-    def replace(self, composition: Mapping[str, Any] | None = None, *, T: Any = None, P: Any = None, **kw) -> "Solution":
+    def replace(
+        self, composition: Mapping[str, Any] | None = None, *, T: Any = None, P: Any = None, **kw
+    ) -> Solution:
         """Return a new solution with some molalities, ``T`` or ``P`` replaced.
 
         ``composition`` entries override or add species; other species are kept.
@@ -294,7 +303,7 @@ class Solution:
         kw.setdefault("neutrality", "ignore")
         return Solution(comp, T=self._T if T is None else T, P=self._P if P is None else P, **kw)
 
-    def __getitem__(self, index: Any) -> "Solution":
+    def __getitem__(self, index: Any) -> Solution:
         """Select rows of a batch: ``sol[3]``, ``sol[:10]``, ``sol[mask]``."""
         if self._shape == ():
             raise InputError("a single solution has no rows to select", field="index", value=index)
@@ -304,7 +313,7 @@ class Solution:
         P = np.broadcast_to(self._P, self._shape)[idx] if self._P.ndim else self._P
         return Solution._from_arrays(self._species, self._charges, np.array(m), np.array(T), np.array(P))
 
-    def rows(self) -> Iterable["Solution"]:
+    def rows(self) -> Iterable[Solution]:
         """Iterate over the rows of a 1-D batch as single solutions (slow; for checks)."""
         for i in range(self.size):
             yield self[np.unravel_index(i, self._shape)] if self._shape else self
@@ -325,7 +334,7 @@ class Solution:
         *,
         density: Any = None,
         **kw,
-    ) -> "Solution":
+    ) -> Solution:
         """Build a solution from amount concentrations in mol/L.
 
         Parameters

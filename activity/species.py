@@ -5,13 +5,14 @@ Canonical names follow the mhchem convention: ``Na+``, ``Ca^2+``, ``SO4^2-``, ``
 ``SO42-`` is ambiguous (``SO4^2-`` or ``SO42^-``?) and is refused with a suggestion.
 The parser is a small hand-written tokenizer; user text is never evaluated.
 """
+
 from __future__ import annotations
 
 import functools
 import re
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from types import MappingProxyType
-from typing import Mapping
 
 from . import data
 from .errors import InputError
@@ -100,8 +101,7 @@ def _parse_charge(text: str, original: str) -> tuple[str, int]:
         return formula, sign  # NH4+, NO3-, H2PO4-
     suggestion = f"{formula[:-1]}^{digits[-1]}{signs}"
     raise InputError(
-        f"ambiguous charge; write {suggestion!r} (or '{formula}^{signs}' if the "
-        f"count is {digits})",
+        f"ambiguous charge; write {suggestion!r} (or '{formula}^{signs}' if the count is {digits})",
         field="species",
         value=original,
     )
@@ -144,9 +144,7 @@ def _parse_group(text: str, original: str, weights: Mapping[str, float]) -> dict
             continue
         m = _ELEMENT_RE.match(text, i)
         if not m:
-            raise InputError(
-                f"cannot read {text[i:]!r} as a chemical formula", field="species", value=original
-            )
+            raise InputError(f"cannot read {text[i:]!r} as a chemical formula", field="species", value=original)
         el = m.group(0)
         if el not in weights:
             # Try a one-letter element when the two-letter reading is unknown (e.g. 'Co' vs 'CO').
@@ -220,9 +218,7 @@ def parse_species(name: str) -> Species:
         phase_suffix = ""
     else:
         phase_suffix = "" if phase == "aq" else f"({phase})"
-    return Species(
-        canonical + phase_suffix, formula, z, phase, MappingProxyType(elements), round(mass, 8)
-    )
+    return Species(canonical + phase_suffix, formula, z, phase, MappingProxyType(elements), round(mass, 8))
 
 
 def canonical_name(name: str) -> str:

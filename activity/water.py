@@ -15,6 +15,7 @@ Every function broadcasts over ``T`` (kelvin) and ``P`` (pascal): a scalar gives
 float, an array gives an array. The density ignores pressure (1 atm); the permittivity
 uses it.
 """
+
 from __future__ import annotations
 
 from typing import Any

@@ -4,12 +4,14 @@ Importing this module puts the repository root first on ``sys.path`` so that
 ``python benchmarks/<script>.py`` measures the package of this checkout (installed or
 not). It imports nothing heavy, so a script may still set thread variables before numpy.
 """
+
 from __future__ import annotations
 
 import sys
 import time
+from collections.abc import Callable
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any
 
 ROOT = str(Path(__file__).resolve().parents[1])
 if ROOT not in sys.path:

@@ -4,13 +4,13 @@ Targets: electrode potentials for 10⁶ rows cost no more than 1.5× the activit
 alone; the inverse (molality from potential) on 10⁵ rows runs at ≥ 10⁵ rows/s with
 Davies. Run: ``python benchmarks/bench_nernst.py``.
 """
+
 from __future__ import annotations
 
 import warnings
 
-from _common import best_of
-
 import numpy as np
+from _common import best_of
 
 import activity as act
 from activity.errors import ActivityWarning
@@ -35,7 +35,10 @@ def main() -> None:
     print(f"  activity model alone (K+, Cl-)        {t_model * 1e3:8.1f} ms")
     print(f"  HalfReaction AgCl/Ag potential        {t_hr * 1e3:8.1f} ms   ratio {t_hr / t_model:5.2f}  (target ≤ 1.5)")
     print(f"  activity model alone (K+, Na+, Cl-)   {t_model_ise * 1e3:8.1f} ms")
-    print(f"  ion-selective electrode potential     {t_ise * 1e3:8.1f} ms   ratio {t_ise / t_model_ise:5.2f}  (target ≤ 1.5)")
+    print(
+        f"  ion-selective electrode potential     {t_ise * 1e3:8.1f} ms   "
+        f"ratio {t_ise / t_model_ise:5.2f}  (target ≤ 1.5)"
+    )
 
     n_inv = 100_000
     mi = rng.uniform(1e-5, 0.05, n_inv)
@@ -47,8 +50,10 @@ def main() -> None:
     res = act.molality_from_potential(ca, E, matrix, model, counter_ion="Cl-")
     t_inv = best_of(lambda: act.molality_from_potential(ca, E, matrix, model, counter_ion="Cl-"), 3)[0]
     err = float(np.max(np.abs(res.molality / mi - 1)))
-    print(f"inverse (Ca ISE, Davies, counter-ion Cl-): {n_inv:,} rows in {t_inv * 1e3:.1f} ms "
-          f"= {n_inv / t_inv:,.0f} rows/s (target ≥ 100,000), {res.iterations} iterations, max rel. error {err:.1e}")
+    print(
+        f"inverse (Ca ISE, Davies, counter-ion Cl-): {n_inv:,} rows in {t_inv * 1e3:.1f} ms "
+        f"= {n_inv / t_inv:,.0f} rows/s (target ≥ 100,000), {res.iterations} iterations, max rel. error {err:.1e}"
+    )
 
 
 if __name__ == "__main__":

@@ -8,6 +8,7 @@ Run: ``python benchmarks/bench_pitzer.py``. Compares
 * a bare numpy expression of the binary NaCl Pitzer equation on 10⁵ rows (a floor: no
   mixing terms, no binding, no checks).
 """
+
 from __future__ import annotations
 
 import os
@@ -17,7 +18,6 @@ for _v in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
     os.environ.setdefault(_v, "1")  # one core, before numpy loads its BLAS
 
 import numpy as np  # noqa: E402
-
 from _common import best_of  # noqa: E402  (also puts this checkout on sys.path)
 
 import activity as act  # noqa: E402
@@ -27,8 +27,16 @@ from activity.water import debye_huckel_Aphi  # noqa: E402
 N = 100_000
 ROWS_LOOP = 300
 # seawater-like background (mol/kg), scaled per row by a random factor 0.2–2
-BASE = {"Na+": 0.486, "K+": 0.0106, "Mg^2+": 0.0547, "Ca^2+": 0.0107,
-        "Cl-": 0.566, "SO4^2-": 0.0293, "HCO3-": 0.00178, "Br-": 0.00087}
+BASE = {
+    "Na+": 0.486,
+    "K+": 0.0106,
+    "Mg^2+": 0.0547,
+    "Ca^2+": 0.0107,
+    "Cl-": 0.566,
+    "SO4^2-": 0.0293,
+    "HCO3-": 0.00178,
+    "Br-": 0.00087,
+}
 
 
 def nacl_bare(m, Aphi):
@@ -61,13 +69,16 @@ def main():
     t_bare = best_of(lambda: nacl_bare(m, Aphi))[0]
 
     print(f"Pitzer model, {len(BASE)}-ion seawater-type batch, {N:,} rows, one core")
-    print(f"  activity_coefficients (γ, φ, a_w, checks), scalar T : {t_full*1e3:8.1f} ms  {N/t_full:12,.0f} rows/s")
-    print(f"  log10_gamma only, scalar T                          : {t_lg*1e3:8.1f} ms  {N/t_lg:12,.0f} rows/s")
-    print(f"  activity_coefficients, T per row                    : {t_T*1e3:8.1f} ms  {N/t_T:12,.0f} rows/s")
-    print(f"  row-by-row loop (extrapolated from {ROWS_LOOP} rows)          : {t_loop*1e3:8.1f} ms  {N/t_loop:12,.0f} rows/s")
-    print(f"  bare numpy binary NaCl formula (floor)              : {t_bare*1e3:8.1f} ms  {N/t_bare:12,.0f} rows/s")
-    print(f"  batch / loop speed-up                  : {t_loop/t_full:8.0f}x")
-    print(f"  batch time / bare NaCl formula time    : {t_full/t_bare:8.1f}x")
+    print(f"  activity_coefficients (γ, φ, a_w, checks), scalar T : {t_full * 1e3:8.1f} ms  {N / t_full:12,.0f} rows/s")
+    print(f"  log10_gamma only, scalar T                          : {t_lg * 1e3:8.1f} ms  {N / t_lg:12,.0f} rows/s")
+    print(f"  activity_coefficients, T per row                    : {t_T * 1e3:8.1f} ms  {N / t_T:12,.0f} rows/s")
+    print(
+        f"  row-by-row loop (extrapolated from {ROWS_LOOP} rows)          : {t_loop * 1e3:8.1f} ms  "
+        f"{N / t_loop:12,.0f} rows/s"
+    )
+    print(f"  bare numpy binary NaCl formula (floor)              : {t_bare * 1e3:8.1f} ms  {N / t_bare:12,.0f} rows/s")
+    print(f"  batch / loop speed-up                  : {t_loop / t_full:8.0f}x")
+    print(f"  batch time / bare NaCl formula time    : {t_full / t_bare:8.1f}x")
 
 
 if __name__ == "__main__":

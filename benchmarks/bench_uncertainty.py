@@ -28,17 +28,16 @@ import subprocess
 import sys
 import time
 
-from _common import best_of  # also puts this checkout on sys.path
-
 import numpy as np  # noqa: E402
+from _common import best_of  # also puts this checkout on sys.path
 
 import activity as act  # noqa: E402
 from activity.uncertainty import Normal, Rectangular, propagate  # noqa: E402
 
 INPUTS = {
-    "E0": Normal(0.3105, 0.0004),        # V, demo value
-    "m": Normal(0.0500, 0.0003),         # mol/kg, demo value
-    "T": Rectangular(298.15, 0.3),       # K, demo value
+    "E0": Normal(0.3105, 0.0004),  # V, demo value
+    "m": Normal(0.0500, 0.0003),  # mol/kg, demo value
+    "T": Rectangular(298.15, 0.3),  # K, demo value
 }
 
 
@@ -57,8 +56,9 @@ def build_model():
 def memory_child(trials):
     """Run in a subprocess: 10⁷ trials, print peak memory figures."""
     import tracemalloc
+
     f, label = build_model()
-    f(0.31, np.array([0.05]), np.array([298.15]))      # warm imports and caches
+    f(0.31, np.array([0.05]), np.array([298.15]))  # warm imports and caches
     baseline = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
     tracemalloc.start()
     start = time.perf_counter()
@@ -69,41 +69,44 @@ def memory_child(trials):
     tracemalloc.stop()
     peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
     print(f"  model: {label}")
-    print(f"  {trials:.0e} trials: {elapsed:.2f} s, u = {result.standard_uncertainty:.4g} V, "
-          f"95 % interval [{low:.6f}, {high:.6f}] V")
-    print(f"  peak RSS of the whole process: {peak:.0f} MB "
-          f"(after imports, before the run: {baseline:.0f} MB)")
+    print(
+        f"  {trials:.0e} trials: {elapsed:.2f} s, u = {result.standard_uncertainty:.4g} V, "
+        f"95 % interval [{low:.6f}, {high:.6f}] V"
+    )
+    print(f"  peak RSS of the whole process: {peak:.0f} MB (after imports, before the run: {baseline:.0f} MB)")
     print(f"  tracemalloc peak of the run's allocations: {traced_peak / 2**20:.0f} MB")
 
 
 def main():
     f, label = build_model()
     print(f"model: {label}")
-    f(0.31, np.array([0.05]), np.array([298.15]))      # warm imports and caches
+    f(0.31, np.array([0.05]), np.array([298.15]))  # warm imports and caches
 
     gum_time, gum = best_of(lambda: propagate(f, INPUTS), 20)
-    print(f"GUM, one evaluation (13-row batch): {gum_time * 1e3:.2f} ms; "
-          f"u = {gum.standard_uncertainty:.4g} V")
+    print(f"GUM, one evaluation (13-row batch): {gum_time * 1e3:.2f} ms; u = {gum.standard_uncertainty:.4g} V")
 
     mc_time, mc = best_of(lambda: propagate(f, INPUTS, "monte-carlo", trials=1_000_000, seed=1), 3)
-    print(f"Monte Carlo, 1e6 trials: {mc_time:.3f} s (best of 3; target < 1.5 s); "
-          f"u = {mc.standard_uncertainty:.4g} V")
+    print(f"Monte Carlo, 1e6 trials: {mc_time:.3f} s (best of 3; target < 1.5 s); u = {mc.standard_uncertainty:.4g} V")
     print(f"  ratio Monte Carlo 1e6 / one GUM evaluation: {mc_time / gum_time:.0f}")
 
     def plain(E0, m, T):
         return E0 + m + T
+
     engine_time, _ = best_of(lambda: propagate(plain, INPUTS, "monte-carlo", trials=1_000_000, seed=1), 3)
-    print(f"engine alone (f = sum), 1e6 trials: {engine_time:.3f} s "
-          f"({100 * engine_time / mc_time:.0f} % of the Davies + Nernst run)")
+    print(
+        f"engine alone (f = sum), 1e6 trials: {engine_time:.3f} s "
+        f"({100 * engine_time / mc_time:.0f} % of the Davies + Nernst run)"
+    )
 
     adaptive_time, adaptive = best_of(lambda: propagate(f, INPUTS, "monte-carlo", seed=1), 1)
-    print(f"adaptive Monte Carlo (2 significant digits): {adaptive.trials} trials, "
-          f"{adaptive_time:.3f} s, delta = {adaptive.tolerance:.2g} V")
+    print(
+        f"adaptive Monte Carlo (2 significant digits): {adaptive.trials} trials, "
+        f"{adaptive_time:.3f} s, delta = {adaptive.tolerance:.2g} V"
+    )
 
     print("memory, 1e7 trials in a fresh process:")
     sys.stdout.flush()
-    subprocess.run([sys.executable, os.path.abspath(__file__), "--memory-child",
-                    "10000000"], check=True)
+    subprocess.run([sys.executable, os.path.abspath(__file__), "--memory-child", "10000000"], check=True)
 
 
 if __name__ == "__main__":

@@ -1,4 +1,5 @@
 """The v0 public API that other codes import (see DESIGN.md). Renames need a deprecation path."""
+
 import inspect
 
 import pytest
@@ -29,7 +30,16 @@ CORE_NAMES = [
     "CoverageWarning",
     "ElectroneutralityWarning",
 ]
-POTENTIAL_NAMES = ["nernst_slope", "HalfReaction", "Cell", "standard_couple", "silver_chloride_electrode", "IonSelectiveElectrode", "henderson_potential", "molality_from_emf"]
+POTENTIAL_NAMES = [
+    "nernst_slope",
+    "HalfReaction",
+    "Cell",
+    "standard_couple",
+    "silver_chloride_electrode",
+    "IonSelectiveElectrode",
+    "henderson_potential",
+    "molality_from_emf",
+]
 UNCERTAINTY_NAMES = ["propagate", "Normal", "Rectangular", "Triangular", "StudentT", "molality_with_uncertainty"]
 BUILTIN_MODELS = ["ideal", "debye-huckel-limiting", "extended-debye-huckel", "truesdell-jones", "davies", "pitzer"]
 
@@ -85,7 +95,7 @@ def test_design_example_runs():
     a = act.activities(sol, act.get_model("davies"))
     assert a["Na+"] == pytest.approx(g["Na+"] * 0.1)
     # γ± of CaCl2 by the Davies equation written out (Davies 1938): log10 γ± = −A|z+ z−|(√I/(1+√I) − 0.3 I)
-    s = 0.03 ** 0.5
+    s = 0.03**0.5
     expected = 10 ** (-act.debye_huckel_A(298.15) * 2 * (s / (1 + s) - 0.3 * 0.03))
     got = act.mean_activity_coefficient(act.Solution({"Ca^2+": 0.01, "Cl-": 0.02}), "Ca^2+", "Cl-", "davies")
     assert got == pytest.approx(expected, rel=1e-12)
@@ -105,11 +115,23 @@ def test_input_error_hierarchy():
 SUBPACKAGE_NAMES = {
     "activity.coefficients.testing": ["check_model", "ConformanceError", "ConformanceReport"],
     "activity.coefficients.compare": ["run_models", "compare_models", "ModelRun"],
-    "activity.nernst": ["Cell", "HalfReaction", "IonSelectiveElectrode", "ReferenceElectrode", "nernst_slope",
-                        "standard_couple", "molality_from_emf", "molality_from_potential"],
+    "activity.nernst": [
+        "Cell",
+        "HalfReaction",
+        "IonSelectiveElectrode",
+        "ReferenceElectrode",
+        "nernst_slope",
+        "standard_couple",
+        "molality_from_emf",
+        "molality_from_potential",
+    ],
     "activity.nernst.protocol": ["Electrode", "ElectrodeResult"],
-    "activity.workflows.measurement": ["molality_with_uncertainty", "potential_with_uncertainty",
-                                       "emf_with_uncertainty", "ChainResult"],
+    "activity.workflows.measurement": [
+        "molality_with_uncertainty",
+        "potential_with_uncertainty",
+        "emf_with_uncertainty",
+        "ChainResult",
+    ],
     "activity.workflows.model_choice": ["model_spread", "ModelSpread"],
     "activity.workflows.record": ["Record"],
     "activity.io.files": ["write_text", "write_bytes"],
@@ -125,9 +147,14 @@ def test_subpackage_names(module, names):
         assert hasattr(mod, name), f"{module}.{name}"
 
 
-@pytest.mark.parametrize("old, new", [("activity.chain", "activity.workflows.measurement"),
-                                      ("activity.electrochem", "activity.nernst.equations"),
-                                      ("activity.units", "activity.io.units")])
+@pytest.mark.parametrize(
+    "old, new",
+    [
+        ("activity.chain", "activity.workflows.measurement"),
+        ("activity.electrochem", "activity.nernst.equations"),
+        ("activity.units", "activity.io.units"),
+    ],
+)
 def test_moved_modules_import_under_their_old_names_with_a_warning(old, new):
     import importlib
     import sys

@@ -1,4 +1,5 @@
 """Half-reaction parsing, balance checks and balancing."""
+
 from fractions import Fraction
 
 import pytest

@@ -2,7 +2,8 @@
 
 import numpy as np
 import pytest
-from hypothesis import given, strategies as st
+from hypothesis import given
+from hypothesis import strategies as st
 
 import activity as act
 from activity import ElectroneutralityWarning, InputError, Solution
@@ -117,7 +118,15 @@ def test_rows_and_selection():
     assert [r.ionic_strength for r in sol.rows()] == pytest.approx(list(m))
 
 
-salts = st.sampled_from([({"Na+": 1, "Cl-": 1}), ({"Ca^2+": 1, "Cl-": 2}), ({"Mg^2+": 1, "SO4^2-": 1}), ({"K+": 2, "SO4^2-": 1}), ({"La^3+": 1, "NO3-": 3})])
+salts = st.sampled_from(
+    [
+        ({"Na+": 1, "Cl-": 1}),
+        ({"Ca^2+": 1, "Cl-": 2}),
+        ({"Mg^2+": 1, "SO4^2-": 1}),
+        ({"K+": 2, "SO4^2-": 1}),
+        ({"La^3+": 1, "NO3-": 3}),
+    ]
+)
 
 
 @given(st.lists(st.tuples(salts, st.floats(0, 2)), min_size=1, max_size=4))

@@ -1,6 +1,8 @@
 """Species names, charges, element counts and molar masses."""
+
 import pytest
-from hypothesis import given, strategies as st
+from hypothesis import given
+from hypothesis import strategies as st
 
 from activity import InputError, parse_species
 from activity.species import canonical_name, charge_of
@@ -37,7 +39,9 @@ def test_canonical_names(text, canonical, z):
     assert sp.charge == z
 
 
-@pytest.mark.parametrize("text, suggestion", [("SO42-", "SO4^2-"), ("CO32-", "CO3^2-"), ("Cr2O72-", "Cr2O7^2-"), ("PO43-", "PO4^3-")])
+@pytest.mark.parametrize(
+    "text, suggestion", [("SO42-", "SO4^2-"), ("CO32-", "CO3^2-"), ("Cr2O72-", "Cr2O7^2-"), ("PO43-", "PO4^3-")]
+)
 def test_ambiguous_charge_suggests_caret_form(text, suggestion):
     with pytest.raises(InputError) as err:
         parse_species(text)
@@ -77,7 +81,11 @@ def test_element_counts_with_groups():
     assert dict(parse_species("Ca3(PO4)2(s)").elements) == {"Ca": 3, "P": 2, "O": 8}
 
 
-@given(st.sampled_from(["Na", "K", "Ca", "Mg", "SO4", "NO3", "Fe(CN)6", "Hg2"]), st.integers(1, 4), st.sampled_from(["+", "-"]))
+@given(
+    st.sampled_from(["Na", "K", "Ca", "Mg", "SO4", "NO3", "Fe(CN)6", "Hg2"]),
+    st.integers(1, 4),
+    st.sampled_from(["+", "-"]),
+)
 def test_canonical_form_is_a_fixed_point(formula, n, sign):
     text = f"{formula}^{n}{sign}"
     c = canonical_name(text)

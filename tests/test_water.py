@@ -1,7 +1,9 @@
 """Water properties and Debye–Hückel parameters against outside references."""
+
 import numpy as np
 import pytest
-from hypothesis import given, strategies as st
+from hypothesis import given
+from hypothesis import strategies as st
 
 import activity as act
 from activity import InputError

@@ -9,6 +9,7 @@
 Nothing here is chemistry, and nothing in the library imports this package. Building the
 parser imports no numpy, so ``activity --help`` starts fast.
 """
+
 from __future__ import annotations
 
 from .main import CAUTION, build_parser, main

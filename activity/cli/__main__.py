@@ -1,4 +1,5 @@
 """``python -m activity.cli`` runs the command line."""
+
 import sys
 
 from .main import main

@@ -2,14 +2,23 @@
 
 Heavy modules are imported inside the functions, so that building the parser stays fast.
 """
+
 from __future__ import annotations
 
 import argparse
 import sys
 from typing import Any
 
-__all__ = ["CAUTION", "Parser", "add_output", "add_solution_arguments", "solution_from_args",
-           "show_cautions", "emit", "output_format"]
+__all__ = [
+    "CAUTION",
+    "Parser",
+    "add_output",
+    "add_solution_arguments",
+    "solution_from_args",
+    "show_cautions",
+    "emit",
+    "output_format",
+]
 
 CAUTION = (  # the same text as activity.cautions.GENERAL, kept here so --help imports nothing heavy
     "Caution: results are estimates from published models and data. For clinical or "
@@ -30,12 +39,16 @@ def add_output(p: argparse.ArgumentParser) -> None:
     g = p.add_mutually_exclusive_group()
     g.add_argument("--json", action="store_true", help="print JSON instead of a table")
     g.add_argument("--csv", action="store_true", help="print CSV instead of a table")
-    p.add_argument("-o", "--output", metavar="FILE", help="write to FILE (whole or not at all) instead of standard output")
+    p.add_argument(
+        "-o", "--output", metavar="FILE", help="write to FILE (whole or not at all) instead of standard output"
+    )
 
 
 def add_solution_arguments(p: argparse.ArgumentParser) -> None:
     """Arguments that describe one solution (shared by several commands)."""
-    p.add_argument("pairs", nargs="*", metavar="SPECIES=AMOUNT", help="e.g. 'Ca2+=1 mmol/L' 'Cl-=2 mmol/L' (units required)")
+    p.add_argument(
+        "pairs", nargs="*", metavar="SPECIES=AMOUNT", help="e.g. 'Ca2+=1 mmol/L' 'Cl-=2 mmol/L' (units required)"
+    )
     p.add_argument("-r", "--recipe", metavar="FILE", help="TOML recipe file with a [composition] table")
     p.add_argument("-t", "--temperature", metavar="T", help="e.g. '25 °C' or '298.15 K' (default 25 °C)")
     p.add_argument("-p", "--pressure", metavar="P", help="e.g. '1 atm' (default)")

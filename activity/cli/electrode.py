@@ -4,6 +4,7 @@ Handlers only parse arguments (units explicit) and format results; the chemistry
 the library. Bad input raises :class:`~activity.errors.InputError`, which the main
 program turns into one line and exit status 2.
 """
+
 from __future__ import annotations
 
 import argparse
@@ -30,10 +31,10 @@ def electrode_from_spec(text: str) -> Any:
     >>> electrode_from_spec("Cu2+/Cu").E0
     0.3419
     """
-    from ..nernst.electrodes import calomel_electrode, silver_chloride_electrode
     from ..errors import InputError
-    from ..nernst.half_reaction import standard_couple
     from ..io.units import parse_amount
+    from ..nernst.electrodes import calomel_electrode, silver_chloride_electrode
+    from ..nernst.half_reaction import standard_couple
 
     kind, _, filling = str(text).partition(":")
     kind = kind.strip().lower()
@@ -60,8 +61,14 @@ def _gases(pairs: list[str] | None) -> dict[str, float] | None:
     return {k: parse_pressure(v, field=f"gas[{k}]") for k, v in parse_pairs(pairs, field="gas").items()}
 
 
-def _render(args: argparse.Namespace, title: str, rows: list[list[Any]], notes: tuple | list, extra: dict | None = None,
-            chain: Any = None) -> str:
+def _render(
+    args: argparse.Namespace,
+    title: str,
+    rows: list[list[Any]],
+    notes: tuple | list,
+    extra: dict | None = None,
+    chain: Any = None,
+) -> str:
     """Table, JSON or CSV of the result rows; with ``chain`` (a ChainResult) its uncertainty too."""
     from ..formatting import table, to_csv, to_json
 
@@ -79,7 +86,10 @@ def _render(args: argparse.Namespace, title: str, rows: list[list[Any]], notes: 
         return to_csv(["quantity", "value", "unit"], rows).rstrip("\n")
     text = table(["quantity", "value", "unit"], rows, digits=6, title=title)
     if chain is not None:
-        text += f"\n\nuncertainty budget of {chain.quantity} ({chain.unit}), {chain.propagation.method}\n{chain.format_budget()}"
+        text += (
+            f"\n\nuncertainty budget of {chain.quantity} ({chain.unit}), {chain.propagation.method}\n"
+            f"{chain.format_budget()}"
+        )
     return text + "".join(f"\nnote: {n}" for n in dict.fromkeys(notes))
 
 
@@ -101,11 +111,26 @@ def _render_table(args: argparse.Namespace, labels: tuple, reading: Any, res: An
         rows = [{"label": lab, **{k: float(v[i]) for k, v in cols.items()}} for i, lab in enumerate(labels)]
         return to_json({"species": res.species, "model": res.model, "rows": rows, "notes": list(res.notes)})
     if args.csv:
-        return to_csv(["label"] + list(cols), [[lab] + [float(v[i]) for v in cols.values()] for i, lab in enumerate(labels)]).rstrip("\n")
-    rows = [[lab, float(cols["reading_V"][i]) * 1000, float(cols["molality_mol_per_kg"][i]), float(cols["activity"][i]),
-             float(cols["gamma"][i]), float(cols["ionic_strength_mol_per_kg"][i])] for i, lab in enumerate(labels)]
-    text = table(["label", "reading / mV", "m / (mol/kg)", "activity", "γ", "I / (mol/kg)"], rows, digits=6,
-                 title=f"{res.species} from {len(labels)} readings by {res.model}")
+        return to_csv(
+            ["label"] + list(cols), [[lab] + [float(v[i]) for v in cols.values()] for i, lab in enumerate(labels)]
+        ).rstrip("\n")
+    rows = [
+        [
+            lab,
+            float(cols["reading_V"][i]) * 1000,
+            float(cols["molality_mol_per_kg"][i]),
+            float(cols["activity"][i]),
+            float(cols["gamma"][i]),
+            float(cols["ionic_strength_mol_per_kg"][i]),
+        ]
+        for i, lab in enumerate(labels)
+    ]
+    text = table(
+        ["label", "reading / mV", "m / (mol/kg)", "activity", "γ", "I / (mol/kg)"],
+        rows,
+        digits=6,
+        title=f"{res.species} from {len(labels)} readings by {res.model}",
+    )
     return text + "".join(f"\nnote: {n}" for n in dict.fromkeys(res.notes))
 
 
@@ -137,7 +162,9 @@ def _uncertainty_json(chain: Any) -> dict[str, Any]:
         "dof": res.dof,
         "trials": res.trials,
         "budget": res.budget_table(),
-        "model_choice": None if spread is None else {
+        "model_choice": None
+        if spread is None
+        else {
             "values": spread.values,
             "lowest": spread.lowest,
             "highest": spread.highest,
@@ -199,8 +226,8 @@ def _u_temperature(text: str, field: str = "--u-temperature") -> float:
 def _stated_amounts(args: argparse.Namespace) -> dict[str, Any]:
     """Species → the Amount stated for it (recipe file, then SPECIES=AMOUNT pairs)."""
     from ..io.recipe import load_recipe, parse_pairs
-    from ..species import parse_species
     from ..io.units import parse_amount
+    from ..species import parse_species
 
     comp = dict(load_recipe(args.recipe).get("composition", {})) if args.recipe else {}
     comp.update(parse_pairs(args.pairs or []))
@@ -218,8 +245,13 @@ def _e0_uncertainty(texts: list[str]) -> Any:
             raise InputError("give one value for every electrode, or SIDE=VALUE entries", field="--u-e0", value=texts)
         return _u_potential(texts[0], "--u-e0")
     if len(keyed) != len(texts):
-        raise InputError("give either one value for every electrode or SIDE=VALUE entries, not both", field="--u-e0", value=texts)
-    return {side.strip().lower(): _u_potential(v, f"--u-e0 {side}") for side, v in parse_pairs(keyed, field="--u-e0").items()}
+        raise InputError(
+            "give either one value for every electrode or SIDE=VALUE entries, not both", field="--u-e0", value=texts
+        )
+    return {
+        side.strip().lower(): _u_potential(v, f"--u-e0 {side}")
+        for side, v in parse_pairs(keyed, field="--u-e0").items()
+    }
 
 
 def _coverage(text: str) -> float:
@@ -230,23 +262,42 @@ def _coverage(text: str) -> float:
     try:
         return float(text)
     except ValueError:
-        raise InputError("expected a coverage probability such as 0.95 or '95%'", field="--coverage", value=text) from None
+        raise InputError(
+            "expected a coverage probability such as 0.95 or '95%'", field="--coverage", value=text
+        ) from None
 
 
-def _chain_options(args: argparse.Namespace, sample: Any, selectivity: dict[str, float] | None = None) -> dict[str, Any] | None:
-    """Keyword arguments for :mod:`activity.workflows.measurement` from the uncertainty options, or None if none was given."""
+def _chain_options(
+    args: argparse.Namespace, sample: Any, selectivity: dict[str, float] | None = None
+) -> dict[str, Any] | None:
+    """Keyword arguments for :mod:`activity.workflows.measurement` from the uncertainty options (None if none
+    was given)."""
     from ..errors import InputError
     from ..io.recipe import parse_pairs
     from ..species import parse_species
 
     if not any(getattr(args, k, None) for k in _U_OPTIONS):
-        for flag, value, default in (("--method", args.method, "gum"), ("--trials", args.trials, None), ("--seed", args.seed, None)):
+        for flag, value, default in (
+            ("--method", args.method, "gum"),
+            ("--trials", args.trials, None),
+            ("--seed", args.seed, None),
+        ):
             if value != default:
-                raise InputError("state an uncertainty (--u-amount, --u, --u-temperature, --u-e0, …) to propagate", field=flag, value=value)
+                raise InputError(
+                    "state an uncertainty (--u-amount, --u, --u-temperature, --u-e0, …) to propagate",
+                    field=flag,
+                    value=value,
+                )
         return None
     u_amount, u_molality = _amount_uncertainties(args, sample)
-    opts: dict[str, Any] = dict(u_amount=u_amount, u_molality=u_molality, method=args.method, trials=args.trials,
-                                seed=args.seed, coverage=_coverage(args.coverage))
+    opts: dict[str, Any] = dict(
+        u_amount=u_amount,
+        u_molality=u_molality,
+        method=args.method,
+        trials=args.trials,
+        seed=args.seed,
+        coverage=_coverage(args.coverage),
+    )
     if args.u_temperature:
         opts["u_temperature"] = _u_temperature(args.u_temperature)
     if args.u_e0:
@@ -267,7 +318,9 @@ def _chain_options(args: argparse.Namespace, sample: Any, selectivity: dict[str,
                 try:
                     u_sel[ion] = _not_negative(float(text), field, text)
                 except ValueError:
-                    raise InputError("expected '20%' or a number (K is dimensionless)", field=field, value=text) from None
+                    raise InputError(
+                        "expected '20%' or a number (K is dimensionless)", field=field, value=text
+                    ) from None
         opts["u_selectivity"] = u_sel
     return opts
 
@@ -280,8 +333,8 @@ def _amount_uncertainties(args: argparse.Namespace, sample: Any) -> tuple[dict[s
     """
     from ..errors import InputError
     from ..io.recipe import parse_pairs
-    from ..species import parse_species
     from ..io.units import parse_amount
+    from ..species import parse_species
 
     relative: dict[str, float] = {}
     if args.u_amount is not None:
@@ -305,8 +358,11 @@ def _amount_uncertainties(args: argparse.Namespace, sample: Any) -> tuple[dict[s
         stated = _stated_amounts(args) if stated is None else stated
         given = stated.get(key)
         if given is None or given.basis != "L" or given.moles(molar_mass) == 0:
-            raise InputError(f"a per-litre uncertainty needs {key} stated per litre (non-zero); give it in % or per kg",
-                             field=field, value=text)
+            raise InputError(
+                f"a per-litre uncertainty needs {key} stated per litre (non-zero); give it in % or per kg",
+                field=field,
+                value=text,
+            )
         relative[key] = u.moles(molar_mass) / given.moles(molar_mass)
     return (relative or None), absolute
 
@@ -336,18 +392,25 @@ def cmd_potential(args: argparse.Namespace) -> int:
 
 
 def cmd_reference(args: argparse.Namespace) -> int:
-    from ..nernst.electrodes import common_practice_potential
     from ..io.units import parse_temperature
+    from ..nernst.electrodes import common_practice_potential
 
     spec = f"{args.kind}:{args.filling}"
     electrode = electrode_from_spec(spec)
     T = parse_temperature(args.temperature) if args.temperature else 298.15
     res = electrode.evaluate(T)
-    rows = [_temperature_row(T), ["E", _one(res.potential), "V vs SHE"], ["log10 a(Cl-)", _one(res.log10_activity["Cl-"]), ""]]
+    rows = [
+        _temperature_row(T),
+        ["E", _one(res.potential), "V vs SHE"],
+        ["log10 a(Cl-)", _one(res.log10_activity["Cl-"]), ""],
+    ]
     notes = list(res.notes)
     practice = common_practice_potential(args.kind, electrode.filling)
     if practice is not None and abs(T - 298.15) < 1e-9:
-        rows += [["E, common practice", practice[0], "V vs SHE"], ["computed − practice", _one(res.potential) - practice[0], "V"]]
+        rows += [
+            ["E, common practice", practice[0], "V vs SHE"],
+            ["computed − practice", _one(res.potential) - practice[0], "V"],
+        ]
         notes.append(f"common-practice value: {practice[1]}")
     emit(args, _render(args, electrode.name, rows, notes))
     return 0
@@ -378,14 +441,14 @@ def cmd_cell(args: argparse.Namespace) -> int:
 
 
 def cmd_invert(args: argparse.Namespace) -> int:
+    from ..errors import InputError
+    from ..io.recipe import parse_pairs
+    from ..io.units import parse_potential
     from ..nernst.cell import Cell
     from ..nernst.electrodes import IonSelectiveElectrode
-    from ..errors import InputError
-    from ..nernst.inverse import molality_from_emf, molality_from_potential
     from ..nernst.half_reaction import HalfReaction
-    from ..io.recipe import parse_pairs
+    from ..nernst.inverse import molality_from_emf, molality_from_potential
     from ..species import parse_species
-    from ..io.units import parse_potential
 
     if (args.couple is None) == (args.ise is None):
         raise InputError("give either --couple NAME or --ise ION (with --e0)", field="electrode", value=args.couple)
@@ -398,16 +461,23 @@ def cmd_invert(args: argparse.Namespace) -> int:
     else:
         electrode = electrode_from_spec(args.couple)
         if not isinstance(electrode, HalfReaction):
-            raise InputError("a reference electrode has no determinand; give a couple such as 'Ag+/Ag' (or --ise)",
-                             field="couple", value=args.couple)
+            raise InputError(
+                "a reference electrode has no determinand; give a couple such as 'Ag+/Ag' (or --ise)",
+                field="couple",
+                value=args.couple,
+            )
     labels = None
     if args.table:
         from ..io.tables import read_table, solution_from_table
 
         if args.pairs or args.recipe or args.reading is not None:
-            raise InputError("with --table the readings and the matrix come from the file", field="table", value=args.table)
+            raise InputError(
+                "with --table the readings and the matrix come from the file", field="table", value=args.table
+            )
         if any(getattr(args, k, None) for k in _U_OPTIONS):
-            raise InputError("uncertainty options take one reading; give the reading with --reading", field="table", value=args.table)
+            raise InputError(
+                "uncertainty options take one reading; give the reading with --reading", field="table", value=args.table
+            )
         tbl = read_table(args.table)
         if "reading" not in tbl.extra:
             raise InputError("needs a 'reading [mV]' (or [V]) column", field="table", value=args.table)
@@ -417,13 +487,23 @@ def cmd_invert(args: argparse.Namespace) -> int:
         labels = tbl.labels
     else:
         if args.reading is None:
-            raise InputError("give the measured potential with --reading, or a --table of readings", field="reading", value=None)
+            raise InputError(
+                "give the measured potential with --reading, or a --table of readings", field="reading", value=None
+            )
         reading = parse_potential(args.reading, field="reading")
         matrix = solution_from_args(args)
     kw = dict(counter_ion=args.counter_ion, pressures=_gases(args.gas))
     if args.against:
-        cell = Cell(left=electrode_from_spec(args.against), right=electrode, junction=None if args.junction == "none" else args.junction)
-        species = args.species or getattr(electrode, "ion", None) or (electrode.determinands[0] if len(electrode.determinands) == 1 else None)
+        cell = Cell(
+            left=electrode_from_spec(args.against),
+            right=electrode,
+            junction=None if args.junction == "none" else args.junction,
+        )
+        species = (
+            args.species
+            or getattr(electrode, "ion", None)
+            or (electrode.determinands[0] if len(electrode.determinands) == 1 else None)
+        )
         if species is None:
             raise InputError("say which species to solve for (--species)", field="species", value=None)
         res = molality_from_emf(cell, reading, matrix, args.model, species=species, **kw)
@@ -448,67 +528,125 @@ def cmd_invert(args: argparse.Namespace) -> int:
         ["ionic strength", _one(res.ionic_strength), "mol/kg"],
         ["iterations", res.iterations, ""],
     ]
-    emit(args, _render(args, f"{res.species} from a reading of {args.reading} by {res.model}", rows, res.notes, chain=chain))
+    emit(
+        args,
+        _render(args, f"{res.species} from a reading of {args.reading} by {res.model}", rows, res.notes, chain=chain),
+    )
     return 0
 
 
 def _add_uncertainty(p: argparse.ArgumentParser, inverse: bool = False) -> None:
     g = p.add_argument_group("uncertainty (any of these prints a budget and the spread between activity models)")
     g.add_argument("--u-amount", metavar="PCT", help="relative standard uncertainty of every amount, e.g. '1%%'")
-    g.add_argument("--u", action="append", metavar="SPECIES=U",
-                   help="standard uncertainty of one amount: '0.5%%', '0.002 mmol/L' or '0.01 mmol/kg' (repeatable; overrides --u-amount)")
+    g.add_argument(
+        "--u",
+        action="append",
+        metavar="SPECIES=U",
+        help="standard uncertainty of one amount: '0.5%%', '0.002 mmol/L' or '0.01 mmol/kg' "
+        "(repeatable; overrides --u-amount)",
+    )
     g.add_argument("--u-temperature", metavar="DT", help="standard uncertainty of the temperature, e.g. '0.2 K'")
-    g.add_argument("--u-e0", action="append", metavar="[SIDE=]E",
-                   help="standard uncertainty of E° (ISE constant), e.g. '0.3 mV' for every electrode, or 'right=0.3 mV' (SIDE left/right of a cell)")
+    g.add_argument(
+        "--u-e0",
+        action="append",
+        metavar="[SIDE=]E",
+        help="standard uncertainty of E° (ISE constant), e.g. '0.3 mV' for every electrode, "
+        "or 'right=0.3 mV' (SIDE left/right of a cell)",
+    )
     if inverse:
         g.add_argument("--u-reading", metavar="E", help="standard uncertainty of the reading, e.g. '0.2 mV'")
-        g.add_argument("--u-selectivity", action="append", metavar="ION=U", help="standard uncertainty of a selectivity coefficient: '20%%' or a number")
-    g.add_argument("--method", choices=("gum", "monte-carlo"), default="gum", help="GUM (JCGM 100, default) or Monte Carlo (JCGM 101)")
+        g.add_argument(
+            "--u-selectivity",
+            action="append",
+            metavar="ION=U",
+            help="standard uncertainty of a selectivity coefficient: '20%%' or a number",
+        )
+    g.add_argument(
+        "--method",
+        choices=("gum", "monte-carlo"),
+        default="gum",
+        help="GUM (JCGM 100, default) or Monte Carlo (JCGM 101)",
+    )
     g.add_argument("--trials", type=int, metavar="N", help="Monte Carlo trials (default: adaptive, JCGM 101 7.9)")
     g.add_argument("--seed", type=int, metavar="N", help="Monte Carlo random seed, for a repeatable result")
-    g.add_argument("--coverage", default="0.95", metavar="P", help="coverage probability, e.g. 0.95 (default) or '99%%'")
+    g.add_argument(
+        "--coverage", default="0.95", metavar="P", help="coverage probability, e.g. 0.95 (default) or '99%%'"
+    )
 
 
 def register(subparsers: Any) -> None:
     """Add the Nernst-layer subcommands to an argparse ``subparsers`` object."""
+
     def common(p: argparse.ArgumentParser, default_model: str = "davies") -> None:
-        p.add_argument("-m", "--model", default=default_model, help=f"activity model for the sample (default {default_model})")
-        p.add_argument("--gas", action="append", metavar="GAS=PRESSURE", help="gas partial pressure, e.g. 'H2(g)=1 atm' (default 1 bar)")
+        p.add_argument(
+            "-m", "--model", default=default_model, help=f"activity model for the sample (default {default_model})"
+        )
+        p.add_argument(
+            "--gas",
+            action="append",
+            metavar="GAS=PRESSURE",
+            help="gas partial pressure, e.g. 'H2(g)=1 atm' (default 1 bar)",
+        )
         add_output(p)
 
-    p = subparsers.add_parser("potential", help="activity-corrected potential of a tabulated couple in one solution",
-                              description="E vs SHE of a couple from models/standard_potentials.toml in the given solution.")
+    p = subparsers.add_parser(
+        "potential",
+        help="activity-corrected potential of a tabulated couple in one solution",
+        description="E vs SHE of a couple from models/standard_potentials.toml in the given solution.",
+    )
     p.add_argument("couple", help="couple name, e.g. 'AgCl/Ag', 'Fe3+/Fe2+', 'quinhydrone'")
     add_solution_arguments(p)
     common(p)
     _add_uncertainty(p)
     p.set_defaults(func=cmd_potential)
 
-    p = subparsers.add_parser("reference", help="potential of a KCl reference electrode, computed from its filling",
-                              description="Potential vs SHE of Ag/AgCl or calomel in a stated KCl filling.")
+    p = subparsers.add_parser(
+        "reference",
+        help="potential of a KCl reference electrode, computed from its filling",
+        description="Potential vs SHE of Ag/AgCl or calomel in a stated KCl filling.",
+    )
     p.add_argument("kind", choices=_REFERENCE_KINDS)
     p.add_argument("--filling", default="saturated", help="'saturated' (default) or an amount such as '3.5 mol/L'")
     p.add_argument("-t", "--temperature", metavar="T", help="e.g. '25 °C' (default)")
     add_output(p)
     p.set_defaults(func=cmd_reference)
 
-    p = subparsers.add_parser("cell", help="EMF of a cell with the sample between two electrodes",
-                              description="EMF = E(right) − E(left) + liquid junction, for one sample solution.")
-    p.add_argument("--left", required=True, metavar="ELECTRODE", help="couple name, or 'silver-chloride[:FILLING]' / 'calomel[:FILLING]'")
+    p = subparsers.add_parser(
+        "cell",
+        help="EMF of a cell with the sample between two electrodes",
+        description="EMF = E(right) − E(left) + liquid junction, for one sample solution.",
+    )
+    p.add_argument(
+        "--left",
+        required=True,
+        metavar="ELECTRODE",
+        help="couple name, or 'silver-chloride[:FILLING]' / 'calomel[:FILLING]'",
+    )
     p.add_argument("--right", required=True, metavar="ELECTRODE", help="as --left")
-    p.add_argument("--junction", choices=("none", "henderson"), default="none", help="liquid-junction treatment (default none)")
+    p.add_argument(
+        "--junction", choices=("none", "henderson"), default="none", help="liquid-junction treatment (default none)"
+    )
     add_solution_arguments(p)
     common(p)
     _add_uncertainty(p)
     p.set_defaults(func=cmd_cell)
 
-    p = subparsers.add_parser("invert", help="molality of the determinand from a measured potential",
-                              description="Solve for the determinand's molality in the stated sample matrix (iterating on ionic strength).")
+    p = subparsers.add_parser(
+        "invert",
+        help="molality of the determinand from a measured potential",
+        description="Solve for the determinand's molality in the stated sample matrix (iterating on ionic strength).",
+    )
     p.add_argument("--couple", metavar="COUPLE", help="couple name, e.g. 'Ag+/Ag' (or use --ise)")
     p.add_argument("--reading", metavar="E", help="measured potential or EMF, e.g. '-35.2 mV'")
-    p.add_argument("--table", metavar="CSV", help="a batch of readings: columns 'reading [mV]', the matrix species "
-                   "('K+ [mol/L]', …), optional 'temperature [°C]' and 'label'")
-    p.add_argument("--against", metavar="ELECTRODE", help="reference electrode on the left; the reading is then the EMF")
+    p.add_argument(
+        "--table",
+        metavar="CSV",
+        help="a batch of readings: columns 'reading [mV]', the matrix species "
+        "('K+ [mol/L]', …), optional 'temperature [°C]' and 'label'",
+    )
+    p.add_argument(
+        "--against", metavar="ELECTRODE", help="reference electrode on the left; the reading is then the EMF"
+    )
     p.add_argument("--junction", choices=("none", "henderson"), default="none")
     p.add_argument("--ise", metavar="ION", help="an ion-selective electrode for ION")
     p.add_argument("--e0", metavar="E0", help="its electrode constant, e.g. '52.1 mV'")

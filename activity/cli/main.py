@@ -1,10 +1,11 @@
 """The entry point of the ``activity`` command: build the parser, run one command, and turn
 every error a user can cause into one line on standard error with exit status 2."""
+
 from __future__ import annotations
 
 import argparse
 import sys
-from typing import Callable, Sequence
+from collections.abc import Callable, Sequence
 
 from .. import __version__
 from ..errors import ActivityError, call_with_notes

@@ -2,6 +2,7 @@
 
 Kept apart from the argument parsing so that argument parsing stays import-light.
 """
+
 from __future__ import annotations
 
 from typing import Any
@@ -60,13 +61,20 @@ def solution_report(sol, model: str = "davies", form: str = "table") -> str:
         "temperature_K": float(sol.T),
         "pressure_Pa": float(sol.P),
         "ionic_strength_mol_per_kg": float(sol.ionic_strength),
-        "species": [{"name": n, "charge": int(z), "molality_mol_per_kg": float(sol.m[i])} for i, (n, z) in enumerate(zip(sol.species, sol.charges))],
+        "species": [
+            {"name": n, "charge": int(z), "molality_mol_per_kg": float(sol.m[i])}
+            for i, (n, z) in enumerate(zip(sol.species, sol.charges))
+        ],
     }
     if form == "json":
         return to_json({**head, "models": results})
     ok = [r for r in results if "error" not in r]
     if form == "csv":
-        rows = [[r["model"], n, float(sol.m[i]), r["gamma"][n], r["activity"][n]] for r in ok for i, n in enumerate(sol.species)]
+        rows = [
+            [r["model"], n, float(sol.m[i]), r["gamma"][n], r["activity"][n]]
+            for r in ok
+            for i, n in enumerate(sol.species)
+        ]
         return to_csv(["model", "species", "molality_mol_per_kg", "gamma", "activity"], rows)
     lines = [
         f"Solution at {sol.T - 273.15:.2f} °C, {sol.P / 1000:.3f} kPa; ionic strength {fmt(sol.ionic_strength)} mol/kg"
@@ -74,10 +82,16 @@ def solution_report(sol, model: str = "davies", form: str = "table") -> str:
     if len(results) == 1:
         r = results[0]
         lines.append(f"Model: {r['model']} — {r['validity']}")
-        rows = [[n, int(z), float(sol.m[i]), r["gamma"][n], r["activity"][n]] for i, (n, z) in enumerate(zip(sol.species, sol.charges))]
+        rows = [
+            [n, int(z), float(sol.m[i]), r["gamma"][n], r["activity"][n]]
+            for i, (n, z) in enumerate(zip(sol.species, sol.charges))
+        ]
         lines.append(table(["species", "z", "m / (mol/kg)", "γ", "activity"], rows))
         if r["osmotic_coefficient"] is not None:
-            lines.append(f"osmotic coefficient φ = {fmt(r['osmotic_coefficient'])}; water activity = {fmt(r['water_activity'], 7)}")
+            lines.append(
+                f"osmotic coefficient φ = {fmt(r['osmotic_coefficient'])}; "
+                f"water activity = {fmt(r['water_activity'], 7)}"
+            )
     else:
         headers = ["species", "m / (mol/kg)"] + [f"γ {r['model']}" for r in ok]
         rows = [[n, float(sol.m[i])] + [r["gamma"][n] for r in ok] for i, n in enumerate(sol.species)]
@@ -101,33 +115,69 @@ def table_report(sol, labels, model: str = "davies", form: str = "table") -> str
             results.append({"model": run.name, "error": run.error})
             continue
         res = run.value
-        results.append({"model": run.name, "notes": list(dict.fromkeys(res.notes)), "gamma": res.gamma,
-                        "in_range": np.broadcast_to(res.in_range, sol.shape)})
+        results.append(
+            {
+                "model": run.name,
+                "notes": list(dict.fromkeys(res.notes)),
+                "gamma": res.gamma,
+                "in_range": np.broadcast_to(res.in_range, sol.shape),
+            }
+        )
     ok = [r for r in results if "error" not in r]
     if not ok:
         raise ActivityError(results[0]["error"])
     if form == "json":
-        return to_json({
-            "rows": [
-                {"label": lab, "temperature_K": float(np.broadcast_to(sol.T, sol.shape)[k]), "ionic_strength_mol_per_kg": float(I[k]),
-                 "molality_mol_per_kg": {n: float(sol.m[i, k]) for i, n in enumerate(sol.species)},
-                 "models": {r["model"]: {"gamma": {n: float(r["gamma"][i, k]) for i, n in enumerate(sol.species)},
-                                         "activity": {n: float(r["gamma"][i, k] * sol.m[i, k]) for i, n in enumerate(sol.species)},
-                                         "in_range": bool(r["in_range"][k])} for r in ok}}
-                for k, lab in enumerate(labels)
-            ],
-            "notes": {r["model"]: r.get("notes", [r.get("error")]) for r in results},
-        })
+        return to_json(
+            {
+                "rows": [
+                    {
+                        "label": lab,
+                        "temperature_K": float(np.broadcast_to(sol.T, sol.shape)[k]),
+                        "ionic_strength_mol_per_kg": float(I[k]),
+                        "molality_mol_per_kg": {n: float(sol.m[i, k]) for i, n in enumerate(sol.species)},
+                        "models": {
+                            r["model"]: {
+                                "gamma": {n: float(r["gamma"][i, k]) for i, n in enumerate(sol.species)},
+                                "activity": {
+                                    n: float(r["gamma"][i, k] * sol.m[i, k]) for i, n in enumerate(sol.species)
+                                },
+                                "in_range": bool(r["in_range"][k]),
+                            }
+                            for r in ok
+                        },
+                    }
+                    for k, lab in enumerate(labels)
+                ],
+                "notes": {r["model"]: r.get("notes", [r.get("error")]) for r in results},
+            }
+        )
     if form == "csv":
-        headers = ["label", "model", "ionic_strength_mol_per_kg"] + [f"gamma {n}" for n in sol.species] + [f"activity {n}" for n in sol.species] + ["in_range"]
-        rows = [[lab, r["model"], float(I[k])] + [float(r["gamma"][i, k]) for i in range(len(sol.species))]
-                + [float(r["gamma"][i, k] * sol.m[i, k]) for i in range(len(sol.species))] + [bool(r["in_range"][k])]
-                for r in ok for k, lab in enumerate(labels)]
+        headers = (
+            ["label", "model", "ionic_strength_mol_per_kg"]
+            + [f"gamma {n}" for n in sol.species]
+            + [f"activity {n}" for n in sol.species]
+            + ["in_range"]
+        )
+        rows = [
+            [lab, r["model"], float(I[k])]
+            + [float(r["gamma"][i, k]) for i in range(len(sol.species))]
+            + [float(r["gamma"][i, k] * sol.m[i, k]) for i in range(len(sol.species))]
+            + [bool(r["in_range"][k])]
+            for r in ok
+            for k, lab in enumerate(labels)
+        ]
         return to_csv(headers, rows)
     out = []
     for r in ok:
         headers = ["label", "I mol/kg"] + [f"a({n})" for n in sol.species]
-        rows = [[lab, float(I[k])] + [fmt(r["gamma"][i, k] * sol.m[i, k], 5) + ("" if r["in_range"][k] else "*") for i in range(len(sol.species))] for k, lab in enumerate(labels)]
+        rows = [
+            [lab, float(I[k])]
+            + [
+                fmt(r["gamma"][i, k] * sol.m[i, k], 5) + ("" if r["in_range"][k] else "*")
+                for i in range(len(sol.species))
+            ]
+            for k, lab in enumerate(labels)
+        ]
         out.append(table(headers, rows, title=f"Activities by {r['model']} (* = outside the model's validity)"))
         out.extend(f"note: {n}" for n in r["notes"])
         out.append("")
@@ -141,7 +191,16 @@ def models_report(form: str = "table") -> str:
     for name in available_models():
         try:
             v = get_model(name).validity
-            rows.append({"model": name, "max_ionic_strength_mol_per_kg": v.max_ionic_strength, "T_min_K": v.T_min, "T_max_K": v.T_max, "species": v.species, "basis": v.basis})
+            rows.append(
+                {
+                    "model": name,
+                    "max_ionic_strength_mol_per_kg": v.max_ionic_strength,
+                    "T_min_K": v.T_min,
+                    "T_max_K": v.T_max,
+                    "species": v.species,
+                    "basis": v.basis,
+                }
+            )
         except ActivityError as exc:
             rows.append({"model": name, "error": str(exc)})
     if form == "json":
@@ -154,8 +213,14 @@ def models_report(form: str = "table") -> str:
         if "error" in r:
             trows.append([r["model"], "—", "—", "cannot load: " + r["error"]])
             continue
-        imax = "no limit" if not np.isfinite(r["max_ionic_strength_mol_per_kg"]) else f"{r['max_ionic_strength_mol_per_kg']:g}"
-        trows.append([r["model"], imax, f"{r['T_min_K'] - 273.15:g}–{r['T_max_K'] - 273.15:g}", f"{r['species']} ({r['basis']})"])
+        imax = (
+            "no limit"
+            if not np.isfinite(r["max_ionic_strength_mol_per_kg"])
+            else f"{r['max_ionic_strength_mol_per_kg']:g}"
+        )
+        trows.append(
+            [r["model"], imax, f"{r['T_min_K'] - 273.15:g}–{r['T_max_K'] - 273.15:g}", f"{r['species']} ({r['basis']})"]
+        )
     return table(["model", "I max / (mol/kg)", "T / °C", "species covered (basis)"], trows)
 
 
@@ -166,17 +231,66 @@ def demo_report(form: str = "table") -> str:
     res = run_demo()
     ok = [c for c in res.columns if c.error is None]
     if form == "json":
-        return to_json({
-            "title": res.title,
-            "temperature_K": res.T,
-            "standards": [{"calcium_mol_per_L": float(c), "calcium_mol_per_kg": float(m), "ionic_strength_mol_per_kg": float(i)} for c, m, i in zip(res.calcium_molarity, res.calcium_molality, res.ionic_strength)],
-            "nernst_slope_V_per_decade": res.nernst_slope,
-            "reference_electrode": {"name": "Ag/AgCl in 3 mol/L KCl", "potential_V_vs_SHE": res.reference_potential, "notes": list(res.reference_notes)},
-            "models": [{"model": c.model, "gamma_Ca": c.gamma, "activity_Ca": c.activity, "emf_V": c.emf, "in_range": c.in_range, "notes": list(c.notes), "error": c.error} for c in res.columns],
-        })
+        return to_json(
+            {
+                "title": res.title,
+                "temperature_K": res.T,
+                "standards": [
+                    {
+                        "calcium_mol_per_L": float(c),
+                        "calcium_mol_per_kg": float(m),
+                        "ionic_strength_mol_per_kg": float(i),
+                    }
+                    for c, m, i in zip(res.calcium_molarity, res.calcium_molality, res.ionic_strength)
+                ],
+                "nernst_slope_V_per_decade": res.nernst_slope,
+                "reference_electrode": {
+                    "name": "Ag/AgCl in 3 mol/L KCl",
+                    "potential_V_vs_SHE": res.reference_potential,
+                    "notes": list(res.reference_notes),
+                },
+                "models": [
+                    {
+                        "model": c.model,
+                        "gamma_Ca": c.gamma,
+                        "activity_Ca": c.activity,
+                        "emf_V": c.emf,
+                        "in_range": c.in_range,
+                        "notes": list(c.notes),
+                        "error": c.error,
+                    }
+                    for c in res.columns
+                ],
+            }
+        )
     if form == "csv":
-        rows = [[c.model, float(res.calcium_molarity[k]), float(res.calcium_molality[k]), float(res.ionic_strength[k]), float(c.gamma[k]), float(c.activity[k]), float(c.emf[k]), bool(c.in_range[k])] for c in ok for k in range(len(res.calcium_molarity))]
-        return to_csv(["model", "calcium_mol_per_L", "calcium_mol_per_kg", "ionic_strength_mol_per_kg", "gamma_Ca", "activity_Ca", "emf_V", "in_range"], rows)
+        rows = [
+            [
+                c.model,
+                float(res.calcium_molarity[k]),
+                float(res.calcium_molality[k]),
+                float(res.ionic_strength[k]),
+                float(c.gamma[k]),
+                float(c.activity[k]),
+                float(c.emf[k]),
+                bool(c.in_range[k]),
+            ]
+            for c in ok
+            for k in range(len(res.calcium_molarity))
+        ]
+        return to_csv(
+            [
+                "model",
+                "calcium_mol_per_L",
+                "calcium_mol_per_kg",
+                "ionic_strength_mol_per_kg",
+                "gamma_Ca",
+                "activity_Ca",
+                "emf_V",
+                "in_range",
+            ],
+            rows,
+        )
     out = [res.title, f"Temperature {res.T - 273.15:.2f} °C. Each standard: CaCl2 in 0.1 mol/L KCl.", ""]
     headers = ["c(Ca) mol/L", "m(Ca) mol/kg", "I mol/kg"] + [f"a(Ca) {c.model}" for c in ok]
     rows = []
@@ -184,12 +298,23 @@ def demo_report(form: str = "table") -> str:
         row = [float(res.calcium_molarity[k]), float(res.calcium_molality[k]), float(res.ionic_strength[k])]
         row += [fmt(c.activity[k], 4) + ("" if c.in_range[k] else "*") for c in ok]
         rows.append(row)
-    out.append(table(headers, rows, title="Calcium activity of each standard by model (* = outside the model's validity)"))
+    out.append(
+        table(headers, rows, title="Calcium activity of each standard by model (* = outside the model's validity)")
+    )
     rows = [[c.model] + [float(g) for g in c.gamma] for c in ok]
     out.append("")
-    out.append(table(["model"] + [f"γ(Ca) std {k + 1}" for k in range(len(res.calcium_molarity))], rows, digits=4, title="γ(Ca²⁺) by model"))
+    out.append(
+        table(
+            ["model"] + [f"γ(Ca) std {k + 1}" for k in range(len(res.calcium_molarity))],
+            rows,
+            digits=4,
+            title="γ(Ca²⁺) by model",
+        )
+    )
     out.append("")
-    rows = [[c.model] + [f"{float(e) * 1000:.1f}" + ("" if c.in_range[k] else "*") for k, e in enumerate(c.emf)] for c in ok]
+    rows = [
+        [c.model] + [f"{float(e) * 1000:.1f}" + ("" if c.in_range[k] else "*") for k, e in enumerate(c.emf)] for c in ok
+    ]
     out.append(
         table(
             ["model"] + [f"std {k + 1}" for k in range(len(res.calcium_molarity))],

@@ -1,4 +1,5 @@
 """Commands about solutions: ``solution``, ``models`` and ``demo``."""
+
 from __future__ import annotations
 
 import argparse
@@ -45,14 +46,25 @@ def cmd_demo(args: argparse.Namespace) -> int:
 
 def register(sub: argparse._SubParsersAction) -> None:
     """Declare the ``solution``, ``models`` and ``demo`` commands."""
-    p = sub.add_parser("solution", help="ionic strength, γ and activities of one solution",
-                       description="Evaluate one solution: ionic strength, activity coefficients and "
-                       "activities by one model or all side by side.", epilog=CAUTION)
+    p = sub.add_parser(
+        "solution",
+        help="ionic strength, γ and activities of one solution",
+        description="Evaluate one solution: ionic strength, activity coefficients and "
+        "activities by one model or all side by side.",
+        epilog=CAUTION,
+    )
     add_solution_arguments(p)
-    p.add_argument("--table", metavar="CSV", help="a batch: one composition per row, headers "
-                   "'Ca2+ [mmol/L]', 'temperature [°C]', optional 'label'")
-    p.add_argument("-m", "--model", default="davies",
-                   help="activity model name, or 'all' for every model side by side (default davies)")
+    p.add_argument(
+        "--table",
+        metavar="CSV",
+        help="a batch: one composition per row, headers 'Ca2+ [mmol/L]', 'temperature [°C]', optional 'label'",
+    )
+    p.add_argument(
+        "-m",
+        "--model",
+        default="davies",
+        help="activity model name, or 'all' for every model side by side (default davies)",
+    )
     add_output(p)
     p.set_defaults(func=cmd_solution)
 

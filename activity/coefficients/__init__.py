@@ -5,10 +5,12 @@ entry-point group ``activity.models`` (each entry point loads a class or factory
 accepts keyword parameters and returns an :class:`ActivityModel`), or at run time with
 :func:`register_model`.
 """
+
 from __future__ import annotations
 
 import importlib
-from typing import Any, Callable
+from collections.abc import Callable
+from typing import Any
 
 from ..errors import InputError
 from .base import ActivityModel, CoefficientResult, Validity

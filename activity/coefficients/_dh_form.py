@@ -16,10 +16,12 @@ dilution path at constant composition ratios and temperature:
     (φ − 1) Σm = ln10 Σ_i (m_i / I) [ −A z_i² (I √I/(1 + K_i √I) − J(K_i, I)) + β_i I²/2 ],
     J(K, I) = ∫₀^I √x / (1 + K √x) dx.
 """
+
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Any, Mapping
+from typing import Any
 
 import numpy as np
 

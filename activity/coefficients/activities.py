@@ -1,14 +1,15 @@
 """Activities and mean activity coefficients from a solution and a model."""
+
 from __future__ import annotations
 
 from math import gcd
 from typing import Any
 
 from .._checks import scalar_or_array
-from . import resolve_model
 from ..errors import InputError
 from ..solution import Solution
 from ..species import parse_species
+from . import resolve_model
 
 __all__ = ["activity_coefficients", "activities", "mean_activity_coefficient", "salt_stoichiometry"]
 

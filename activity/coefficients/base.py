@@ -11,13 +11,14 @@ optionally :meth:`ActivityModel.compute` (γ and φ from one pass),
 :func:`activity.coefficients.testing.check_model` before it is registered. (Plug-ins written
 against the earlier underscore hooks ``_bind``, ``_log10_gamma``, ``_osmotic`` keep working.)
 """
+
 from __future__ import annotations
 
 import functools
 import warnings
-from collections.abc import Mapping
+from collections.abc import Iterator, Mapping
 from dataclasses import dataclass, field
-from typing import Any, ClassVar, Iterator
+from typing import Any, ClassVar
 
 import numpy as np
 

@@ -3,10 +3,12 @@
 The one loop behind "every model side by side": the ``solution --model all`` report, the
 demo's columns and the model-choice spread of a measurement all call :func:`run_models`.
 """
+
 from __future__ import annotations
 
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass
-from typing import Any, Callable, Iterable
+from typing import Any
 
 from ..errors import ActivityError
 from ..solution import Solution
@@ -44,8 +46,9 @@ class ModelRun:
         return self.error is None
 
 
-def run_models(question: Callable[[ActivityModel], Any],
-               models: Iterable[str | ActivityModel] | None = None) -> tuple[ModelRun, ...]:
+def run_models(
+    question: Callable[[ActivityModel], Any], models: Iterable[str | ActivityModel] | None = None
+) -> tuple[ModelRun, ...]:
     """Ask ``question(model)`` of each model (default: every registered one).
 
     Each model is resolved once. A model that cannot be built or cannot answer is kept
@@ -58,7 +61,7 @@ def run_models(question: Callable[[ActivityModel], Any],
     [('davies', 'DAVIES', True), ('no-such-model', None, False)]
     """
     out = []
-    for item in (available_models() if models is None else models):
+    for item in available_models() if models is None else models:
         name = getattr(item, "name", item)
         try:
             model = resolve_model(item)
@@ -84,4 +87,3 @@ def compare_models(sol: Solution, models: Iterable[str | ActivityModel] | None =
     [('davies', 0.781), ('pitzer', 0.777)]
     """
     return run_models(lambda m: m.activity_coefficients(sol, warn=False), models)
-

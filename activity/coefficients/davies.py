@@ -1,4 +1,5 @@
 """Davies equation: log10 γ_i = −A z_i² (√I/(1 + √I) − c I), c = 0.3 by default."""
+
 from __future__ import annotations
 
 import numpy as np

@@ -1,4 +1,5 @@
 """Debye–Hückel limiting law: log10 γ_i = −A z_i² √I."""
+
 from __future__ import annotations
 
 import numpy as np
@@ -26,7 +27,11 @@ class DebyeHuckelLimiting(DebyeHuckelForm):
     """
 
     name = "debye-huckel-limiting"
-    validity = Validity(0.005, species="all ions", basis="common practice: the limiting law holds to about 1 % below I ≈ 0.005 mol/kg for 1:1 salts")
+    validity = Validity(
+        0.005,
+        species="all ions",
+        basis="common practice: the limiting law holds to about 1 % below I ≈ 0.005 mol/kg for 1:1 salts",
+    )
 
     def _ion_terms(self, species, charges):
         zero = np.zeros(len(species))

@@ -1,4 +1,5 @@
 """Extended Debye–Hückel equation with Kielland's ion-size parameters."""
+
 from __future__ import annotations
 
 import numpy as np
@@ -69,7 +70,9 @@ class ExtendedDebyeHuckel(DebyeHuckelForm):
     """
 
     name = "extended-debye-huckel"
-    validity = Validity(0.1, species="ions with a Kielland size (models/species.toml)", basis="common practice: ≲ 0.1 mol/kg")
+    validity = Validity(
+        0.1, species="ions with a Kielland size (models/species.toml)", basis="common practice: ≲ 0.1 mol/kg"
+    )
 
     def __init__(self, sizes=None, fallback_size: float | None = None, **kw):
         super().__init__(**kw)

@@ -1,4 +1,5 @@
 """Ideal solution: γ = 1 for every species."""
+
 from __future__ import annotations
 
 import numpy as np

@@ -25,11 +25,12 @@ The laws:
 * ln a_w = −φ M_w Σm, the definition of the molal osmotic coefficient;
 * the constructor only stores parameters (``type(model)(**model.params)`` is equal).
 """
+
 from __future__ import annotations
 
 import warnings
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Callable
 
 import numpy as np
 
@@ -109,8 +110,11 @@ class _Checker:
         sol = Solution(_compose([("NaCl", 1e-5), ("CaCl2", 1e-6)]))
         res = self.model.activity_coefficients(sol)
         if list(res) != list(sol.species) or res.log10_gamma.shape != (len(sol.species),):
-            self.fail("result", f"expected a mapping over {sol.species} with log10_gamma of shape "
-                      f"({len(sol.species)},), got {list(res)} and {res.log10_gamma.shape}")
+            self.fail(
+                "result",
+                f"expected a mapping over {sol.species} with log10_gamma of shape "
+                f"({len(sol.species)},), got {list(res)} and {res.log10_gamma.shape}",
+            )
         if not all(isinstance(n, str) for n in res.notes):
             self.fail("result", "notes must be text")
 
@@ -124,8 +128,10 @@ class _Checker:
             ideal = self.model.name == "ideal"
             ok = np.all(lg == 0) if ideal else np.allclose(lg, limit, rtol=2e-3, atol=0)
             if not ok:
-                self.fail("limiting law as I → 0", f"{salt} at 1e-7 mol/kg: log10 γ = {lg.tolist()}, "
-                          f"expected {'0' if ideal else limit.tolist()}")
+                self.fail(
+                    "limiting law as I → 0",
+                    f"{salt} at 1e-7 mol/kg: log10 γ = {lg.tolist()}, expected {'0' if ideal else limit.tolist()}",
+                )
 
     def batch_equals_rows(self) -> None:
         for _ in range(self.examples):
@@ -136,8 +142,10 @@ class _Checker:
             lg = _quiet(self.model.log10_gamma, batch)
             rows = np.stack([_quiet(self.model.log10_gamma, r) for r in batch.rows()], axis=-1)
             if lg.shape != (len(comp), n) or not np.allclose(lg, rows, rtol=1e-12, atol=1e-14):
-                self.fail("batch equals row by row", f"{comp} at {T} K differs by "
-                          f"{float(np.max(np.abs(lg - rows))):.3g} in log10 γ")
+                self.fail(
+                    "batch equals row by row",
+                    f"{comp} at {T} K differs by {float(np.max(np.abs(lg - rows))):.3g} in log10 γ",
+                )
 
     def order_invariance(self) -> None:
         for _ in range(self.examples):
@@ -158,8 +166,10 @@ class _Checker:
             res = _quiet(self.model.activity_coefficients, Solution(comp, T=T))
             phi = res.osmotic_coefficient
             if not np.all(np.isfinite(res.log10_gamma)) or (phi is not None and not (np.isfinite(phi) and phi > 0)):
-                self.fail("finite on the declared domain", f"{comp} at {T:.2f} K gives log10 γ "
-                          f"{res.log10_gamma.tolist()}, φ {phi}")
+                self.fail(
+                    "finite on the declared domain",
+                    f"{comp} at {T:.2f} K gives log10 γ {res.log10_gamma.tolist()}, φ {phi}",
+                )
 
     def gibbs_duhem(self) -> bool:
         from scipy.integrate import quad
@@ -172,7 +182,7 @@ class _Checker:
             cation, anion = list(SALTS[salt])
             m = 0.9 * min(1.0, _max_I(self.model) / Solution(_compose([(salt, 1.0)])).ionic_strength)
 
-            def integrand(x: float) -> float:
+            def integrand(x: float, salt: str = salt) -> float:
                 return (_quiet(self.model.osmotic_coefficient, Solution(_compose([(salt, x)]))) - 1.0) / x
 
             integral, _ = quad(integrand, 0.0, m, epsabs=1e-12, epsrel=1e-10, limit=200)
@@ -180,8 +190,9 @@ class _Checker:
             phi = _quiet(self.model.osmotic_coefficient, sol)
             ln_gpm = float(np.log(_quiet(mean_activity_coefficient, sol, cation, anion, self.model)))
             if abs(ln_gpm - (phi - 1.0 + integral)) > 1e-5:
-                self.fail("Gibbs–Duhem", f"{salt} at {m:.4g} mol/kg: ln γ± = {ln_gpm:.8f}, from φ "
-                          f"{phi - 1.0 + integral:.8f}")
+                self.fail(
+                    "Gibbs–Duhem", f"{salt} at {m:.4g} mol/kg: ln γ± = {ln_gpm:.8f}, from φ {phi - 1.0 + integral:.8f}"
+                )
         return True
 
     def water_activity(self) -> bool:
@@ -229,11 +240,17 @@ def check_model(model: ActivityModel, *, examples: int = 20, seed: int = 0) -> C
         raise ConformanceError(f"{model!r} is not an ActivityModel")
     c = _Checker(model, examples, seed)
     passed, skipped = [], []
-    for name, law in [("declared validity", c.declared_validity), ("result is a mapping", c.result_is_a_mapping),
-                      ("limiting law", c.limiting_law), ("batch equals rows", c.batch_equals_rows),
-                      ("species order", c.order_invariance), ("finite on the domain", c.finite_on_domain),
-                      ("Gibbs–Duhem", c.gibbs_duhem), ("water activity", c.water_activity),
-                      ("constructor stores parameters", c.constructor_stores)]:
+    for name, law in [
+        ("declared validity", c.declared_validity),
+        ("result is a mapping", c.result_is_a_mapping),
+        ("limiting law", c.limiting_law),
+        ("batch equals rows", c.batch_equals_rows),
+        ("species order", c.order_invariance),
+        ("finite on the domain", c.finite_on_domain),
+        ("Gibbs–Duhem", c.gibbs_duhem),
+        ("water activity", c.water_activity),
+        ("constructor stores parameters", c.constructor_stores),
+    ]:
         ran = law()
         (skipped if ran is False else passed).append(name)
     return ConformanceReport(model.name, tuple(passed), tuple(skipped))

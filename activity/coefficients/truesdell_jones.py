@@ -1,4 +1,5 @@
 """Truesdell–Jones equation: extended Debye–Hückel plus an ion-specific linear term."""
+
 from __future__ import annotations
 
 import numpy as np

@@ -3,6 +3,7 @@
 A temporary file is written in the target's directory and renamed over the target, so a
 reader never sees half a file and an interrupted run leaves the old file in place.
 """
+
 from __future__ import annotations
 
 import os

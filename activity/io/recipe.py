@@ -18,10 +18,12 @@ All amounts must share one basis: per kg of water (mol/kg, mg/kg, …) or per li
 solution (mol/L, mg/L, …); per-litre amounts are converted with
 :meth:`activity.Solution.from_molarity`.
 """
+
 from __future__ import annotations
 
+from collections.abc import Iterable, Mapping
 from pathlib import Path
-from typing import Any, Iterable, Mapping
+from typing import Any
 
 from ..constants import P_ATM, T_REF
 from ..data import load_file
@@ -75,7 +77,9 @@ def solution_from_recipe(recipe: Mapping[str, Any], **kw: Any) -> Solution:
         raise InputError(f"unknown recipe key; allowed: {', '.join(RECIPE_KEYS)}", field="recipe", value=unknown[0])
     comp = recipe.get("composition")
     if not isinstance(comp, Mapping) or not comp:
-        raise InputError("composition must be a non-empty table of species = 'amount unit'", field="composition", value=comp)
+        raise InputError(
+            "composition must be a non-empty table of species = 'amount unit'", field="composition", value=comp
+        )
     T = parse_temperature(recipe["temperature"]) if "temperature" in recipe else T_REF
     P = parse_pressure(recipe["pressure"]) if "pressure" in recipe else P_ATM
     amounts = {}

@@ -15,6 +15,7 @@ Headers name a quantity and its unit in square brackets::
 Errors name the file, the row and the column. The whole file is read before anything is
 computed, so a bad row stops the batch before any output is written.
 """
+
 from __future__ import annotations
 
 import csv
@@ -131,7 +132,9 @@ def solution_from_table(table: TableInput, **kw: Any):
         amt = parse_amount(f"1 {unit}", field=f"column '{name} [{unit}]'")
         if np.any(arr < 0):
             row = int(np.flatnonzero(arr < 0)[0])
-            raise InputError("must not be negative", field=f"{table.labels[row]}, column '{name}'", value=float(arr[row]))
+            raise InputError(
+                "must not be negative", field=f"{table.labels[row]}, column '{name}'", value=float(arr[row])
+            )
         bases.add(amt.basis)
         amounts[sp.name] = arr * amt.moles(sp.molar_mass)
     if len(bases) > 1:

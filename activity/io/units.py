@@ -4,6 +4,7 @@ Inside the package everything is SI (K, Pa, V, mol/kg). These helpers turn text 
 ``"25 °C"``, ``"0.1 mol/L"``, ``"2.5 mmol/kg"``, ``"40 mg/L"``, ``"1 atm"`` or
 ``"-12.3 mV"`` into numbers once, on the way in, and refuse anything without a unit.
 """
+
 from __future__ import annotations
 
 import re
@@ -23,7 +24,13 @@ _PREFIX = {"": 1.0, "m": 1e-3, "u": 1e-6, "µ": 1e-6, "μ": 1e-6, "n": 1e-9}
 # amount units: unit text → (factor to mol or kg, basis, kind)
 _AMOUNT_RE = re.compile(r"^(?P<pre>[muµμn]?)(?P<num>mol|g)\s*/\s*(?P<den>kg|L|l|dm3|dm\^3)$")
 
-_TEMPERATURE = {"K": (1.0, 0.0), "°C": (1.0, ZERO_CELSIUS), "degC": (1.0, ZERO_CELSIUS), "C": (1.0, ZERO_CELSIUS), "℃": (1.0, ZERO_CELSIUS)}
+_TEMPERATURE = {
+    "K": (1.0, 0.0),
+    "°C": (1.0, ZERO_CELSIUS),
+    "degC": (1.0, ZERO_CELSIUS),
+    "C": (1.0, ZERO_CELSIUS),
+    "℃": (1.0, ZERO_CELSIUS),
+}
 _PRESSURE = {"Pa": 1.0, "kPa": 1e3, "MPa": 1e6, "bar": 1e5, "mbar": 1e2, "atm": P_ATM}
 _POTENTIAL = {"V": 1.0, "mV": 1e-3, "µV": 1e-6, "uV": 1e-6}
 _DENSITY = {"kg/L": 1.0, "g/cm3": 1.0, "g/cm^3": 1.0, "g/mL": 1.0, "kg/m3": 1e-3, "kg/m^3": 1e-3, "g/L": 1e-3}
@@ -77,7 +84,13 @@ def parse_amount(text: Any, field: str = "amount") -> Amount:
     value, unit = _split(text, field)
     if value < 0:
         raise InputError("must not be negative", field=field, value=text)
-    aliases = {"M": "mol/L", "mM": "mmol/L", "µM": "µmol/L", "uM": "umol/L", "m": "mol/kg"}  # "m": molal (common practice)
+    aliases = {
+        "M": "mol/L",
+        "mM": "mmol/L",
+        "µM": "µmol/L",
+        "uM": "umol/L",
+        "m": "mol/kg",
+    }  # "m": molal (common practice)
     unit = aliases.get(unit, unit)
     m = _AMOUNT_RE.match(unit)
     if not m:

@@ -8,22 +8,23 @@ transference); with two different compartment solutions the junction term
 E_j = φ(right solution) − φ(left solution) is computed by the Henderson equation, given
 as a number, or left out — and reported separately either way.
 """
+
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Any, Mapping
+from typing import Any
 
 import numpy as np
 
 from .. import _checks
 from ..coefficients import resolve_model
 from ..errors import InputError, warn_alerts
+from ..solution import Solution
 from .junction import henderson_potential
 from .protocol import Electrode, ElectrodeResult
-from ..solution import Solution
 
 __all__ = ["CellResult", "Cell"]
-
 
 
 @dataclass(frozen=True)
@@ -86,7 +87,11 @@ class Cell:
     def __init__(self, left: Any, right: Any, junction: Any = None):
         for side, e in (("left", left), ("right", right)):
             if not isinstance(e, Electrode):
-                raise InputError("expected a HalfReaction, ReferenceElectrode or IonSelectiveElectrode", field=side, value=type(e).__name__)
+                raise InputError(
+                    "expected a HalfReaction, ReferenceElectrode or IonSelectiveElectrode",
+                    field=side,
+                    value=type(e).__name__,
+                )
         if not (junction is None or junction == "henderson" or isinstance(junction, (int, float))):
             raise InputError("must be None, 'henderson' or a number in V", field="junction", value=junction)
         self.left, self.right, self.junction = left, right, junction
@@ -121,7 +126,9 @@ class Cell:
         for side, e, given in (("left", self.left, left_solution), ("right", self.right, right_solution)):
             if e.own_compartment:
                 if given is not None:
-                    raise InputError("a reference electrode's compartment is its own filling", field=f"{side}_solution", value=None)
+                    raise InputError(
+                        "a reference electrode's compartment is its own filling", field=f"{side}_solution", value=None
+                    )
                 comp[side] = None
             else:
                 comp[side] = given if given is not None else sol
@@ -160,7 +167,9 @@ class Cell:
         alerts = tuple(dict.fromkeys(left.alerts + right.alerts))
         if warn:
             warn_alerts(alerts)
-        return CellResult(_checks.scalar_or_array(emf), right, left, ej, model.name, tuple(dict.fromkeys(notes)), alerts)
+        return CellResult(
+            _checks.scalar_or_array(emf), right, left, ej, model.name, tuple(dict.fromkeys(notes)), alerts
+        )
 
     def emf(self, sol: Solution | None = None, model: Any = "davies", **kw: Any) -> Any:
         """EMF = E(right) − E(left) + E_j in V (shorthand for ``evaluate(...).emf``)."""

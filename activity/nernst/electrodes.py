@@ -8,22 +8,24 @@ recorded), and applies the Nernst equation of the AgCl/Ag or Hg2Cl2/Hg couple.
 
 An :class:`IonSelectiveElectrode` follows the Nikolsky–Eisenman equation.
 """
+
 from __future__ import annotations
 
-from typing import Any, Mapping
+from collections.abc import Mapping
+from typing import Any
 
 import numpy as np
 
 from .. import _checks, data
 from ..coefficients import ActivityModel, resolve_model
-from ..constants import F, LN10, R, T_REF, ZERO_CELSIUS
-from .equations import nernst_slope
+from ..constants import LN10, T_REF, ZERO_CELSIUS, F, R
 from ..errors import InputError, warn_alerts
-from .membrane import nikolsky_eisenman_core
-from .half_reaction import HalfReaction, best_available_model, standard_couple
-from .protocol import Electrode, ElectrodeResult, LazyMapping
 from ..solution import Solution
 from ..species import parse_species
+from .equations import nernst_slope
+from .half_reaction import HalfReaction, best_available_model, standard_couple
+from .membrane import nikolsky_eisenman_core
+from .protocol import Electrode, ElectrodeResult, LazyMapping
 
 __all__ = [
     "kcl_saturation_molality",
@@ -52,7 +54,9 @@ def kcl_saturation_molality(T: Any = T_REF) -> Any:
     t = _checks.finite_array(T, "T", positive=True) - ZERO_CELSIUS
     lo, hi = tab["temperature"][0], tab["temperature"][-1]
     if np.any(t < lo) or np.any(t > hi):
-        raise InputError(f"KCl solubility is tabulated for {lo:g}–{hi:g} °C only", field="T", value=float(np.max(t) + ZERO_CELSIUS))
+        raise InputError(
+            f"KCl solubility is tabulated for {lo:g}–{hi:g} °C only", field="T", value=float(np.max(t) + ZERO_CELSIUS)
+        )
     return _checks.scalar_or_array(np.interp(t, tab["temperature"], tab["molality"]))
 
 
@@ -79,10 +83,20 @@ class ReferenceElectrode(Electrode):
     0.196
     """
 
-    def __init__(self, couple: HalfReaction | str, filling: Any = "saturated", *, basis: str = "mol/L", model: Any = None, name: str | None = None):
+    def __init__(
+        self,
+        couple: HalfReaction | str,
+        filling: Any = "saturated",
+        *,
+        basis: str = "mol/L",
+        model: Any = None,
+        name: str | None = None,
+    ):
         self.couple = couple if isinstance(couple, HalfReaction) else standard_couple(couple)
         if "Cl-" not in self.couple.species:
-            raise InputError("a KCl-filled reference electrode needs a chloride couple", field="couple", value=self.couple.name)
+            raise InputError(
+                "a KCl-filled reference electrode needs a chloride couple", field="couple", value=self.couple.name
+            )
         if isinstance(filling, str):
             if filling.strip().lower() != "saturated":
                 raise InputError("give 'saturated' or a number with basis=", field="filling", value=filling)
@@ -111,8 +125,9 @@ class ReferenceElectrode(Electrode):
         """E° of the chloride couple at 298.15 K, V."""
         return self.couple.E0
 
-    def evaluate_in(self, sol: Solution, coefficients: Any, *,
-                    pressures: Mapping[str, Any] | None = None) -> ElectrodeResult:
+    def evaluate_in(
+        self, sol: Solution, coefficients: Any, *, pressures: Mapping[str, Any] | None = None
+    ) -> ElectrodeResult:
         """The potential at the temperature of ``sol``; the electrode sits in its own filling."""
         return self.evaluate(sol.T_compact, warn=False)
 
@@ -135,8 +150,16 @@ class ReferenceElectrode(Electrode):
             + res.notes
             + ("single-ion activity of Cl- as given by the model (not measurable on its own)",)
         )
-        out = ElectrodeResult(res.potential, res.standard_potential, res.log10_activity, res.T, res.model,
-                              tuple(dict.fromkeys(notes)), res.in_range, res.alerts)
+        out = ElectrodeResult(
+            res.potential,
+            res.standard_potential,
+            res.log10_activity,
+            res.T,
+            res.model,
+            tuple(dict.fromkeys(notes)),
+            res.in_range,
+            res.alerts,
+        )
         if warn:
             warn_alerts(out.alerts)
         return out
@@ -180,7 +203,11 @@ def common_practice_potential(kind: str, filling: Any) -> tuple[float, str] | No
     0.241
     """
     table = data.load("reference_electrodes")["common_practice"]
-    label = "saturated" if isinstance(filling, str) and filling.strip().lower() == "saturated" else f"{float(filling):g} mol/L"
+    label = (
+        "saturated"
+        if isinstance(filling, str) and filling.strip().lower() == "saturated"
+        else f"{float(filling):g} mol/L"
+    )
     for entry in table["values"]:
         if entry["electrode"] == kind and entry["filling"] == label:
             return float(entry["E"]), f"{table['source']} ({table['note']})"
@@ -219,7 +246,16 @@ class IonSelectiveElectrode(Electrode):
     [-287.3, -257.8]
     """
 
-    def __init__(self, ion: str, E0: float, *, selectivity: Mapping[str, float] | None = None, slope_factor: float = 1.0, dE0dT: float = 0.0, name: str | None = None):
+    def __init__(
+        self,
+        ion: str,
+        E0: float,
+        *,
+        selectivity: Mapping[str, float] | None = None,
+        slope_factor: float = 1.0,
+        dE0dT: float = 0.0,
+        name: str | None = None,
+    ):
         sp = parse_species(ion)
         if not sp.is_ion:
             raise InputError("the primary species of an ion-selective electrode must be an ion", field="ion", value=ion)
@@ -232,8 +268,12 @@ class IonSelectiveElectrode(Electrode):
         for k, v in (selectivity or {}).items():
             j = parse_species(k)
             if j.name == self.ion or not j.is_ion or np.sign(j.charge) != np.sign(self.z):
-                raise InputError("an interferent must be another ion of the primary ion's sign", field="selectivity", value=k)
-            self._selectivity[j.name] = _checks.scalar_or_array(_checks.finite_array(v, f"selectivity[{k!r}]", nonnegative=True))
+                raise InputError(
+                    "an interferent must be another ion of the primary ion's sign", field="selectivity", value=k
+                )
+            self._selectivity[j.name] = _checks.scalar_or_array(
+                _checks.finite_array(v, f"selectivity[{k!r}]", nonnegative=True)
+            )
         self.name = name or f"{self.ion} ion-selective electrode"
 
     @property
@@ -251,13 +291,14 @@ class IonSelectiveElectrode(Electrode):
         """E0 at 298.15 K, V (the mean, when E0 was given as an array)."""
         return float(np.mean(self.E0))
 
-    def with_selectivity(self, K: Mapping[str, Any]) -> "IonSelectiveElectrode":
+    def with_selectivity(self, K: Mapping[str, Any]) -> IonSelectiveElectrode:
         """A copy with the selectivity coefficients named in ``K`` replaced."""
         if not K:
             return self
         sel = {j: K.get(j, k) for j, k in self.selectivity.items()}
-        return IonSelectiveElectrode(self.ion, self.E0, selectivity=sel, slope_factor=self.slope_factor,
-                                     dE0dT=self.dE0dT, name=self.name)
+        return IonSelectiveElectrode(
+            self.ion, self.E0, selectivity=sel, slope_factor=self.slope_factor, dE0dT=self.dE0dT, name=self.name
+        )
 
     def slope(self, T: Any = T_REF) -> Any:
         """Response slope k·RT ln10/(zF), V per decade of the primary ion's activity."""
@@ -332,8 +373,19 @@ class IonSelectiveElectrode(Electrode):
             K = [self.selectivity[j] for j in present]
             E = nikolsky_eisenman_core(E0, ai, self.z, aj, [self.z / z for z in zj], K, T, self.slope_factor)
             lg = LazyMapping({j: (lambda a=a: _log10_or_nan(a)) for j, a in zip([self.ion] + present, [ai, *aj])})
-        absent = tuple(f"interferent {j} absent from the solution (activity 0)" for j in self.selectivity if j not in sol.species)
-        return ElectrodeResult(_checks.scalar_or_array(E), _checks.scalar_or_array(E0), lg, _checks.scalar_or_array(T), g.model, tuple(g.notes) + absent, g.in_range, g.alerts)
+        absent = tuple(
+            f"interferent {j} absent from the solution (activity 0)" for j in self.selectivity if j not in sol.species
+        )
+        return ElectrodeResult(
+            _checks.scalar_or_array(E),
+            _checks.scalar_or_array(E0),
+            lg,
+            _checks.scalar_or_array(T),
+            g.model,
+            tuple(g.notes) + absent,
+            g.in_range,
+            g.alerts,
+        )
 
     def potential(self, sol: Solution, model: Any = "davies") -> Any:
         """Electrode potential, V (shorthand for ``evaluate(...).potential``)."""

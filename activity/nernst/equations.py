@@ -11,6 +11,7 @@ then any batch shape.
 * a half-reaction written as a reduction, Ox + n e⁻ = Red, has
   E = −ΔrG/(nF) = E° − (RT/nF) Σ νᵢ ln aᵢ (the Nernst equation; electrons excluded)
 """
+
 from __future__ import annotations
 
 from typing import Any
@@ -18,7 +19,7 @@ from typing import Any
 import numpy as np
 
 from .. import _checks
-from ..constants import F, LN10, P_ATM, P_STANDARD, R, T_REF
+from ..constants import LN10, P_ATM, P_STANDARD, T_REF, F, R
 from ..errors import InputError
 
 __all__ = [
@@ -229,7 +230,9 @@ def standard_potential_at(E0: Any, dE0dT: Any = 0.0, d2E0dT2: Any = 0.0, T: Any 
     0.21416
     """
     dT = _temperature(T) - T0
-    return _checks.scalar_or_array(np.asarray(E0, float) + np.asarray(dE0dT, float) * dT + 0.5 * np.asarray(d2E0dT2, float) * dT**2)
+    return _checks.scalar_or_array(
+        np.asarray(E0, float) + np.asarray(dE0dT, float) * dT + 0.5 * np.asarray(d2E0dT2, float) * dT**2
+    )
 
 
 def gas_activity(partial_pressure: Any, standard_pressure: float = P_STANDARD) -> Any:

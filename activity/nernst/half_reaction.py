@@ -13,22 +13,23 @@ solution follows from the activities of the species taking part:
 Couples met in practice are tabulated in ``models/standard_potentials.toml`` and are
 obtained with :func:`standard_couple` (or :meth:`HalfReaction.from_table`).
 """
+
 from __future__ import annotations
 
-from collections.abc import Mapping
-from typing import Any, Sequence
+from collections.abc import Mapping, Sequence
+from typing import Any
 
 import numpy as np
 
 from .. import _checks, data
 from ..coefficients import ActivityModel, get_model, resolve_model
-from ..constants import F, LN10, P_STANDARD, R, T_REF
-from .equations import standard_potential_at
-from .protocol import Electrode, ElectrodeResult, LazyMapping
+from ..constants import LN10, P_STANDARD, T_REF, F, R
 from ..errors import InputError, warn_alerts
 from ..reactions import Reaction, parse_reaction
 from ..solution import Solution
 from ..species import parse_species
+from .equations import standard_potential_at
+from .protocol import Electrode, ElectrodeResult
 
 __all__ = [
     "ElectrodeResult",
@@ -42,7 +43,9 @@ __all__ = [
 MODEL_PREFERENCE = ("pitzer", "truesdell-jones", "extended-debye-huckel", "davies")
 
 
-def best_available_model(species: Sequence[str], preference: Sequence[str] = MODEL_PREFERENCE) -> tuple[ActivityModel, tuple[str, ...]]:
+def best_available_model(
+    species: Sequence[str], preference: Sequence[str] = MODEL_PREFERENCE
+) -> tuple[ActivityModel, tuple[str, ...]]:
     """The first model in ``preference`` that loads and covers ``species``.
 
     Models that cannot be loaded (for example ``pitzer`` before it is installed) or that
@@ -148,7 +151,9 @@ class HalfReaction(Electrode):
     @property
     def determinands(self) -> tuple[str, ...]:
         """Dissolved species whose activity the potential depends on (not water)."""
-        return tuple(s.name for s in self._species if s.phase == "aq" and s.formula != "H2O" and s.name not in self.fixed)
+        return tuple(
+            s.name for s in self._species if s.phase == "aq" and s.formula != "H2O" and s.name not in self.fixed
+        )
 
     @property
     def responds_to(self) -> tuple[str, ...]:
@@ -165,7 +170,7 @@ class HalfReaction(Electrode):
 
     # ------------------------------------------------------------ tables
     @classmethod
-    def from_table(cls, couple: str) -> "HalfReaction":
+    def from_table(cls, couple: str) -> HalfReaction:
         """The couple ``couple`` from ``models/standard_potentials.toml``.
 
         Examples
@@ -382,4 +387,3 @@ def standard_couple(name: str) -> HalfReaction:
         name=label,
         source=source,
     )
-

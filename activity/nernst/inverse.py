@@ -12,22 +12,24 @@ Two questions, two functions:
   below ``rtol`` (default 1e-10); rows that do not converge raise
   :class:`~activity.errors.ConvergenceError` naming them.
 """
+
 from __future__ import annotations
 
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
-from typing import Any, Callable, Mapping
+from typing import Any
 
 import numpy as np
 
 from .. import _checks
-from .cell import Cell
 from ..coefficients import resolve_model
 from ..constants import F, R
-from .protocol import Electrode
 from ..errors import ConvergenceError, InputError, warn_alerts
-from .half_reaction import HalfReaction
 from ..solution import Solution
 from ..species import parse_species
+from .cell import Cell
+from .half_reaction import HalfReaction
+from .protocol import Electrode
 
 __all__ = ["InverseResult", "activity_from_potential", "molality_from_potential", "molality_from_emf"]
 
@@ -76,12 +78,17 @@ class InverseResult:
 def _determinand(electrode: Any, species: str | None) -> str:
     """The determinand of a single electrode dipping into the sample."""
     if not isinstance(electrode, Electrode) or electrode.own_compartment:
-        raise InputError("expected an electrode that dips into the sample (a HalfReaction or an "
-                         "IonSelectiveElectrode)", field="electrode", value=type(electrode).__name__)
+        raise InputError(
+            "expected an electrode that dips into the sample (a HalfReaction or an IonSelectiveElectrode)",
+            field="electrode",
+            value=type(electrode).__name__,
+        )
     return electrode.determinand(species)
 
 
-def activity_from_potential(electrode: Any, E: Any, sol: Solution, model: Any = "davies", species: str | None = None, **kw: Any) -> Any:
+def activity_from_potential(
+    electrode: Any, E: Any, sol: Solution, model: Any = "davies", species: str | None = None, **kw: Any
+) -> Any:
     """Activity of the determinand that makes ``electrode`` read ``E`` in ``sol``.
 
     The other species' activities (and, for an ion-selective electrode, the interfering
@@ -125,7 +132,9 @@ def activity_from_potential(electrode: Any, E: Any, sol: Solution, model: Any = 
     a = total - interf
     if np.any(a <= 0):
         rows = np.flatnonzero(np.ravel(a <= 0))[:10].tolist()
-        raise InputError(f"potential at or below what the interfering ions alone give (rows {rows})", field="E", value=None)
+        raise InputError(
+            f"potential at or below what the interfering ions alone give (rows {rows})", field="E", value=None
+        )
     return _checks.scalar_or_array(a)
 
 
@@ -135,7 +144,9 @@ def _counter_amount(species: str, counter_ion: str | None) -> tuple[str | None, 
     zc = parse_species(counter_ion).charge
     zd = parse_species(species).charge
     if zc == 0 or zd == 0 or np.sign(zc) == np.sign(zd):
-        raise InputError("the counter-ion must carry charge opposite to the determinand", field="counter_ion", value=counter_ion)
+        raise InputError(
+            "the counter-ion must carry charge opposite to the determinand", field="counter_ion", value=counter_ion
+        )
     return parse_species(counter_ion).name, abs(zd / zc)
 
 
@@ -151,12 +162,16 @@ def _solve(
     warn: bool,
 ) -> InverseResult:
     if not isinstance(matrix, Solution):
-        raise InputError("expected an activity.Solution for the sample matrix", field="matrix", value=type(matrix).__name__)
+        raise InputError(
+            "expected an activity.Solution for the sample matrix", field="matrix", value=type(matrix).__name__
+        )
     counter, ratio = _counter_amount(species, counter_ion)
     base_c = np.asarray(matrix.molality(counter), float) if counter else 0.0
     base_d = np.asarray(matrix.molality(species), float)
     if np.any(base_d > 0):
-        raise InputError("the matrix already holds the determinand; give the matrix without it", field="matrix", value=species)
+        raise InputError(
+            "the matrix already holds the determinand; give the matrix without it", field="matrix", value=species
+        )
     target = _checks.finite_array(target, "potential")
     shape = np.broadcast_shapes(matrix.shape, target.shape)
 
@@ -176,7 +191,7 @@ def _solve(
     f0, f1 = f(x0), f(x1)
     done = np.zeros(shape, bool)
     it = 0
-    for it in range(1, max_iter + 1):
+    for it in range(1, max_iter + 1):  # noqa: B007 - the count is reported after the loop
         df = f1 - f0
         ok = (df != 0) & ~done
         step = np.where(ok, -f1 * (x1 - x0) / np.where(ok, df, 1.0), 0.0)
@@ -203,7 +218,9 @@ def _solve(
     gamma = 10.0 ** g.log10_gamma[j]
     notes = list(g.notes)
     if counter is None:
-        notes.append(f"{species} added without a counter-ion (counter_ion=None): the sample's charge balance ignores it")
+        notes.append(
+            f"{species} added without a counter-ion (counter_ion=None): the sample's charge balance ignores it"
+        )
     return InverseResult(
         species,
         _checks.scalar_or_array(sol.m[j].copy()),

@@ -14,15 +14,17 @@ Lewis–Sargent form E_j = (RT/F) ln(Λ(α)/Λ(β)) (1:1 electrolytes, common an
 Limiting conductivities at 25 °C come from ``models/ionic_conductivities.toml``;
 molalities stand in for concentrations.
 """
+
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Any, Mapping
+from typing import Any
 
 import numpy as np
 
 from .. import _checks, data
-from ..constants import F, R, T_REF
+from ..constants import T_REF, F, R
 from ..errors import InputError
 from ..solution import Solution
 from ..species import parse_species
@@ -57,7 +59,9 @@ def limiting_conductivity(species: str, table: Mapping[str, float] | None = None
     return float(values[name])
 
 
-def henderson_potential(left: Solution, right: Solution, conductivities: Mapping[str, float] | None = None) -> JunctionResult:
+def henderson_potential(
+    left: Solution, right: Solution, conductivities: Mapping[str, float] | None = None
+) -> JunctionResult:
     """Henderson liquid-junction potential φ(right) − φ(left), V.
 
     Parameters
@@ -97,7 +101,10 @@ def henderson_potential(left: Solution, right: Solution, conductivities: Mapping
     near = np.abs(d) <= 1e-12 * (ka + kb)
     ratio = np.where(near, -2.0 / (ka + kb), np.log(ka / kb) / np.where(near, 1.0, d))
     T = np.asarray(right.T_compact, float)
-    notes = ["Henderson equation with limiting conductivities at 25 °C (models/ionic_conductivities.toml); molalities for concentrations"]
+    notes = [
+        "Henderson equation with limiting conductivities at 25 °C (models/ionic_conductivities.toml); "
+        "molalities for concentrations"
+    ]
     if np.any(np.asarray(left.T_compact) != T):
         notes.append("the two solutions differ in temperature; the right one's is used")
     return JunctionResult(_checks.scalar_or_array(R * T / F * num * ratio), tuple(notes))

@@ -8,6 +8,7 @@ Sign conventions: membrane and Donnan potentials are φ(inside) − φ(outside);
 Nikolsky–Eisenman potential is that of the ion-selective electrode in the cell, rising
 with the activity of a cation.
 """
+
 from __future__ import annotations
 
 from dataclasses import dataclass
@@ -16,7 +17,7 @@ from typing import Any
 import numpy as np
 
 from .. import _checks
-from ..constants import F, R, T_REF
+from ..constants import T_REF, F, R
 from ..errors import InputError
 
 __all__ = ["ghk_potential", "DonnanResult", "donnan_potential", "nikolsky_eisenman", "nikolsky_eisenman_core"]
@@ -220,13 +221,17 @@ def nikolsky_eisenman(
     if K.size:
         zj = _charges(z_interferents, K.size, "z_interferents")
         if np.any(np.sign(zj) != np.sign(zi)):
-            raise InputError("interferents must carry charge of the primary ion's sign", field="z_interferents", value=z_interferents)
+            raise InputError(
+                "interferents must carry charge of the primary ion's sign", field="z_interferents", value=z_interferents
+            )
         aj = _leading(a_interferents, K.size, "a_interferents")
     Tk = _checks.finite_array(T, "T", positive=True)
     return _checks.scalar_or_array(nikolsky_eisenman_core(E0, ai, zi, aj, zi / zj, K, Tk, slope_factor))
 
 
-def nikolsky_eisenman_core(E0: Any, ai: np.ndarray, zi: float, aj: Any, ratio: Any, K: Any, T: Any, slope_factor: Any = 1.0) -> np.ndarray:
+def nikolsky_eisenman_core(
+    E0: Any, ai: np.ndarray, zi: float, aj: Any, ratio: Any, K: Any, T: Any, slope_factor: Any = 1.0
+) -> np.ndarray:
     """Nikolsky–Eisenman potential from checked arrays (no validation; internal fast path).
 
     ``aj`` is a sequence of interferent activities, ``ratio`` the exponents zᵢ/zⱼ.

@@ -14,12 +14,13 @@ reference electrode with its own filling — answers the same questions:
 
 The result of every evaluation is an :class:`ElectrodeResult`.
 """
+
 from __future__ import annotations
 
 import abc
-from collections.abc import Mapping
+from collections.abc import Callable, Iterator, Mapping
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING, Any, Callable, ClassVar, Iterator
+from typing import TYPE_CHECKING, Any, ClassVar
 
 from ..constants import T_REF
 from ..errors import InputError
@@ -120,8 +121,7 @@ class Electrode(abc.ABC):
         """
         options = self.responds_to
         if not options:
-            raise InputError(f"{self.name} responds to no species of the sample", field="electrode",
-                             value=self.name)
+            raise InputError(f"{self.name} responds to no species of the sample", field="electrode", value=self.name)
         if species is None:
             if len(options) != 1:
                 raise InputError(f"say which species to solve for: one of {options}", field="species", value=None)
@@ -131,11 +131,12 @@ class Electrode(abc.ABC):
             raise InputError(f"{self.name} responds to {', '.join(options)}", field="species", value=species)
         return name
 
-    def with_selectivity(self, K: Mapping[str, Any]) -> "Electrode":
+    def with_selectivity(self, K: Mapping[str, Any]) -> Electrode:
         """A copy with the selectivity coefficients in ``K`` replaced (itself if it has none)."""
         return self
 
     @abc.abstractmethod
-    def evaluate_in(self, sol: "Solution", coefficients: "CoefficientResult", *,
-                    pressures: Mapping[str, Any] | None = None) -> ElectrodeResult:
+    def evaluate_in(
+        self, sol: Solution, coefficients: CoefficientResult, *, pressures: Mapping[str, Any] | None = None
+    ) -> ElectrodeResult:
         """The potential in ``sol``, given the activity model's result for ``sol``."""

@@ -23,8 +23,7 @@ Examples
 ['k', 'a']
 """
 
-from .distributions import (Distribution, Normal, Rectangular, StudentT, Triangular,
-                            measured)
+from .distributions import Distribution, Normal, Rectangular, StudentT, Triangular, measured
 from .propagation import ValidationResult, propagate, validate_gum
 from .result import BudgetRow, PropagationResult
 

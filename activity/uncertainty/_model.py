@@ -35,20 +35,20 @@ class Model:
 
     def __init__(self, f, inputs, correlation=None):
         if not callable(f):
-            raise InputError(f"f must be callable, got {type(f).__name__}",
-                             field="f", value=f)
+            raise InputError(f"f must be callable, got {type(f).__name__}", field="f", value=f)
         if not hasattr(inputs, "items"):
-            raise InputError("inputs must be a mapping of name to distribution or "
-                             f"constant, got {type(inputs).__name__}",
-                             field="inputs", value=inputs)
+            raise InputError(
+                f"inputs must be a mapping of name to distribution or constant, got {type(inputs).__name__}",
+                field="inputs",
+                value=inputs,
+            )
         self.f = f
         self.names = []
         self.distributions = []
         self.constants = {}
         for name, item in inputs.items():
             if not isinstance(name, str) or not name.isidentifier():
-                raise InputError(f"input names must be Python identifiers, got {name!r}",
-                                 field="inputs", value=name)
+                raise InputError(f"input names must be Python identifiers, got {name!r}", field="inputs", value=name)
             if isinstance(item, Distribution):
                 self.names.append(name)
                 self.distributions.append(item)
@@ -57,8 +57,7 @@ class Model:
             else:
                 self.constants[name] = item
         self.means = np.array([d.mean for d in self.distributions], dtype=float)
-        self.uncertainties = np.array([d.standard_uncertainty for d in self.distributions],
-                                      dtype=float)
+        self.uncertainties = np.array([d.standard_uncertainty for d in self.distributions], dtype=float)
         self.dofs = np.array([d.dof for d in self.distributions], dtype=float)
         self.correlation = correlation_matrix(self.names, correlation, self.constants)
         self._copula = self._copula_plan()
@@ -86,8 +85,9 @@ class Model:
             return y
         if y.ndim == 0:
             return np.full(n, float(y))
-        raise InputError(f"f must return one value per row: expected shape ({n},), "
-                         f"got {y.shape}", field="f", value=y.shape)
+        raise InputError(
+            f"f must return one value per row: expected shape ({n},), got {y.shape}", field="f", value=y.shape
+        )
 
     def draw(self, rng, n):
         """Draw ``n`` rows of the uncertain inputs.

@@ -24,20 +24,22 @@ _PSD_TOLERANCE = 1e-10
 
 def _pair(key, names, constants):
     """Validate one key of the correlation mapping; return its two indices."""
-    if not (isinstance(key, tuple) and len(key) == 2
-            and all(isinstance(name, str) for name in key)):
-        raise InputError(f"correlation keys must be pairs of input names, got {key!r}",
-                         field="correlation", value=key)
+    if not (isinstance(key, tuple) and len(key) == 2 and all(isinstance(name, str) for name in key)):
+        raise InputError(f"correlation keys must be pairs of input names, got {key!r}", field="correlation", value=key)
     for name in key:
         if name in constants:
-            raise InputError(f"correlation {key!r}: input {name!r} is a constant, "
-                             "only uncertain inputs can be correlated",
-                             field="correlation", value=key)
+            raise InputError(
+                f"correlation {key!r}: input {name!r} is a constant, only uncertain inputs can be correlated",
+                field="correlation",
+                value=key,
+            )
         if name not in names:
             known = ", ".join(repr(n) for n in names) or "none"
-            raise InputError(f"correlation {key!r} names unknown input {name!r} "
-                             f"(uncertain inputs: {known})",
-                             field="correlation", value=key)
+            raise InputError(
+                f"correlation {key!r} names unknown input {name!r} (uncertain inputs: {known})",
+                field="correlation",
+                value=key,
+            )
     return names.index(key[0]), names.index(key[1])
 
 
@@ -76,9 +78,11 @@ def correlation_matrix(names, correlation, constants=()):
     if not correlation:
         return None
     if not hasattr(correlation, "items"):
-        raise InputError("correlation must be a mapping {(name, name): r}, "
-                         f"got {type(correlation).__name__}",
-                         field="correlation", value=correlation)
+        raise InputError(
+            f"correlation must be a mapping {{(name, name): r}}, got {type(correlation).__name__}",
+            field="correlation",
+            value=correlation,
+        )
     names = list(names)
     matrix = np.eye(len(names))
     given = {}
@@ -87,21 +91,25 @@ def correlation_matrix(names, correlation, constants=()):
         try:
             r = float(r)
         except (TypeError, ValueError):
-            raise InputError(f"correlation {key!r} must be a number, got {r!r}",
-                             field="correlation", value=key) from None
+            raise InputError(
+                f"correlation {key!r} must be a number, got {r!r}", field="correlation", value=key
+            ) from None
         if not (math.isfinite(r) and -1.0 <= r <= 1.0):
-            raise InputError(f"correlation {key!r} = {r!r} is outside [-1, 1]",
-                             field="correlation", value=key)
+            raise InputError(f"correlation {key!r} = {r!r} is outside [-1, 1]", field="correlation", value=key)
         if i == j:
             if r != 1.0:
-                raise InputError(f"correlation {key!r} of an input with itself must be 1, "
-                                 f"got {r!r}", field="correlation", value=key)
+                raise InputError(
+                    f"correlation {key!r} of an input with itself must be 1, got {r!r}", field="correlation", value=key
+                )
             continue
         pair = (min(i, j), max(i, j))
         if pair in given and given[pair] != r:
-            raise InputError(f"correlation {key!r} is given twice with different values "
-                             f"({given[pair]!r} and {r!r}); the matrix must be symmetric",
-                             field="correlation", value=key)
+            raise InputError(
+                f"correlation {key!r} is given twice with different values "
+                f"({given[pair]!r} and {r!r}); the matrix must be symmetric",
+                field="correlation",
+                value=key,
+            )
         given[pair] = r
         matrix[i, j] = matrix[j, i] = r
     if not np.any(matrix != np.eye(len(names))):
@@ -126,7 +134,9 @@ def _check_psd(matrix, names):
         "correlation matrix is not positive semi-definite (smallest eigenvalue "
         f"{eigenvalues[0]:.3g}); the coefficients among {involved} are mutually "
         f"inconsistent, check the pair {pair!r} first",
-        field="correlation", value=pair)
+        field="correlation",
+        value=pair,
+    )
 
 
 def correlation_factor(matrix):

@@ -34,11 +34,9 @@ def real_number(value, field):
     try:
         number = float(value)
     except (TypeError, ValueError):
-        raise InputError(f"{field} must be a real number, got {value!r}",
-                         field=field, value=value) from None
+        raise InputError(f"{field} must be a real number, got {value!r}", field=field, value=value) from None
     if not math.isfinite(number):
-        raise InputError(f"{field} must be finite, got {value!r}",
-                         field=field, value=value)
+        raise InputError(f"{field} must be finite, got {value!r}", field=field, value=value)
     return number
 
 
@@ -46,8 +44,7 @@ def _width(value, field):
     """Return a finite, non-negative float (a standard deviation or half-width)."""
     number = real_number(value, field)
     if number < 0:
-        raise InputError(f"{field} must not be negative, got {value!r}",
-                         field=field, value=value)
+        raise InputError(f"{field} must not be negative, got {value!r}", field=field, value=value)
     return number
 
 
@@ -56,12 +53,10 @@ def _dof(value, field="dof", finite=False):
     try:
         number = float(value)
     except (TypeError, ValueError):
-        raise InputError(f"{field} must be a positive number, got {value!r}",
-                         field=field, value=value) from None
+        raise InputError(f"{field} must be a positive number, got {value!r}", field=field, value=value) from None
     if math.isnan(number) or number <= 0 or (finite and math.isinf(number)):
         kind = "a finite positive number" if finite else "positive (inf allowed)"
-        raise InputError(f"{field} must be {kind}, got {value!r}",
-                         field=field, value=value)
+        raise InputError(f"{field} must be {kind}, got {value!r}", field=field, value=value)
     return number
 
 

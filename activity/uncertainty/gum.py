@@ -35,8 +35,7 @@ def _steps(means, uncertainties, step):
     """Small steps h_i and wide steps u_i (fallbacks for u_i = 0)."""
     scale = np.abs(means)
     fallback = 1e-6 * np.maximum(scale, 1.0)
-    small = np.where(uncertainties > 0,
-                     np.maximum(step * uncertainties, 1e-8 * scale), fallback)
+    small = np.where(uncertainties > 0, np.maximum(step * uncertainties, 1e-8 * scale), fallback)
     wide = np.where(uncertainties > 0, uncertainties, fallback)
     return small, wide
 
@@ -76,8 +75,7 @@ def linearise(model, step=1e-3):
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         y = model.evaluate(columns, 4 * k + 1)
     if not np.isfinite(y[0]):
-        raise InputError(f"f is not finite at the input estimates ({y[0]!r})",
-                         field="f", value=float(y[0]))
+        raise InputError(f"f is not finite at the input estimates ({y[0]!r})", field="f", value=float(y[0]))
 
     def difference(offset):
         # Divide by the step actually represented in floating point.
@@ -95,9 +93,11 @@ def linearise(model, step=1e-3):
     bad = ~np.isfinite(sensitivities) & (model.uncertainties > 0)
     if np.any(bad):
         i = int(np.flatnonzero(bad)[0])
-        raise InputError(f"f is not finite within ±{small[i]:.3g} of input "
-                         f"{model.names[i]!r}; the sensitivity cannot be computed",
-                         field=model.names[i], value=float(means[i]))
+        raise InputError(
+            f"f is not finite within ±{small[i]:.3g} of input {model.names[i]!r}; the sensitivity cannot be computed",
+            field=model.names[i],
+            value=float(means[i]),
+        )
     return float(y[0]), sensitivities
 
 
@@ -144,23 +144,28 @@ def welch_satterthwaite(contributions, dofs, combined):
     denominator = float(np.sum(contributions[finite] ** 4 / dofs[finite]))
     if denominator == 0.0 or combined == 0.0:
         return math.inf
-    return float(combined ** 4 / denominator)
+    return float(combined**4 / denominator)
 
 
 def budget_rows(model, sensitivities, variance):
     """Budget rows from the linearisation (shares of the linearised variance)."""
     rows = []
     with np.errstate(invalid="ignore"):
-        contributions = np.where(model.uncertainties > 0,
-                                 np.abs(sensitivities) * model.uncertainties, 0.0)
+        contributions = np.where(model.uncertainties > 0, np.abs(sensitivities) * model.uncertainties, 0.0)
     for i, (name, dist) in enumerate(zip(model.names, model.distributions)):
         share = contributions[i] ** 2 / variance if variance > 0 else 0.0
-        rows.append(BudgetRow(name=name, distribution=dist.kind,
-                              value=float(model.means[i]),
-                              standard_uncertainty=float(model.uncertainties[i]),
-                              dof=float(model.dofs[i]),
-                              sensitivity=float(sensitivities[i]),
-                              contribution=float(contributions[i]), share=float(share)))
+        rows.append(
+            BudgetRow(
+                name=name,
+                distribution=dist.kind,
+                value=float(model.means[i]),
+                standard_uncertainty=float(model.uncertainties[i]),
+                dof=float(model.dofs[i]),
+                sensitivity=float(sensitivities[i]),
+                contribution=float(contributions[i]),
+                share=float(share),
+            )
+        )
     return tuple(rows), contributions
 
 
@@ -184,7 +189,11 @@ def gum(model, coverage=0.95, step=1e-3):
     rows, contributions = budget_rows(model, sensitivities, variance)
     u_c = math.sqrt(variance)
     return PropagationResult(
-        value=value, standard_uncertainty=u_c,
+        value=value,
+        standard_uncertainty=u_c,
         dof=welch_satterthwaite(contributions, model.dofs, u_c),
-        method="gum", coverage=coverage, budget=rows,
-        correlation_share=cross / variance if variance > 0 else 0.0)
+        method="gum",
+        coverage=coverage,
+        budget=rows,
+        correlation_share=cross / variance if variance > 0 else 0.0,
+    )

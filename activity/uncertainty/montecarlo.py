@@ -61,9 +61,9 @@ def numerical_tolerance(u, digits):
         return 0.0
     exponent = math.floor(math.log10(u)) - digits + 1
     # Guard against log10 rounding just below a power of ten.
-    if round(u / 10.0 ** exponent) >= 10 ** digits:
+    if round(u / 10.0**exponent) >= 10**digits:
         exponent += 1
-    return 0.5 * 10.0 ** exponent
+    return 0.5 * 10.0**exponent
 
 
 class _Moments:
@@ -94,7 +94,9 @@ def _simulate(model, rng, n):
             f"f gave {bad} non-finite values in {n} Monte Carlo trials, e.g. at "
             f"{model.first_bad_row(columns, y)}; the input distributions reach outside "
             "the model's domain (consider a bounded distribution such as Rectangular)",
-            field="f", value=bad)
+            field="f",
+            value=bad,
+        )
     return y
 
 
@@ -117,7 +119,7 @@ def run_fixed(model, rng, trials, chunk):
         if reference is None:
             reference = mean
         moments.add(n, mean, float(np.sum((y - mean) ** 2)))
-        store[done:done + n] = y - reference
+        store[done : done + n] = y - reference
         done += n
     store.sort()
     return moments.mean, moments.sd, SortedSample(reference, store)
@@ -196,7 +198,10 @@ def run_adaptive(model, rng, p, kind, tolerance, digits, chunk, max_trials):
         warnings.warn(
             f"adaptive Monte Carlo stopped at max_trials={max_trials} before reaching "
             f"the numerical tolerance (delta = {delta:.3g}); the result has fewer "
-            "significant digits than asked", ActivityWarning, stacklevel=3)
+            "significant digits than asked",
+            ActivityWarning,
+            stacklevel=3,
+        )
     values = np.concatenate(stored)
     del stored
     values.sort()

@@ -22,30 +22,39 @@ METHODS = ("gum", "monte-carlo")
 
 def _count(value, field, minimum=1):
     if isinstance(value, bool):
-        raise InputError(f"{field} must be an integer, got {value!r}", field=field,
-                         value=value)
+        raise InputError(f"{field} must be an integer, got {value!r}", field=field, value=value)
     try:
         number = float(value)
     except (TypeError, ValueError):
-        raise InputError(f"{field} must be an integer, got {value!r}", field=field,
-                         value=value) from None
+        raise InputError(f"{field} must be an integer, got {value!r}", field=field, value=value) from None
     if not (math.isfinite(number) and number.is_integer() and number >= minimum):
-        raise InputError(f"{field} must be an integer >= {minimum}, got {value!r}",
-                         field=field, value=value)
+        raise InputError(f"{field} must be an integer >= {minimum}, got {value!r}", field=field, value=value)
     return int(number)
 
 
 def _positive(value, field):
     number = real_number(value, field)
     if number <= 0:
-        raise InputError(f"{field} must be a positive number, got {value!r}",
-                         field=field, value=value)
+        raise InputError(f"{field} must be a positive number, got {value!r}", field=field, value=value)
     return number
 
 
-def propagate(f, inputs, method="gum", *, trials=None, seed=None, correlation=None,
-              coverage=0.95, tolerance=None, digits=2, interval="symmetric", step=1e-3,
-              chunk_size=100_000, max_trials=10_000_000):
+def propagate(
+    f,
+    inputs,
+    method="gum",
+    *,
+    trials=None,
+    seed=None,
+    correlation=None,
+    coverage=0.95,
+    tolerance=None,
+    digits=2,
+    interval="symmetric",
+    step=1e-3,
+    chunk_size=100_000,
+    max_trials=10_000_000,
+):
     """Propagate input uncertainties through a vectorised function.
 
     Parameters
@@ -122,16 +131,14 @@ def propagate(f, inputs, method="gum", *, trials=None, seed=None, correlation=No
     True
     """
     if method not in METHODS:
-        raise InputError(f"method must be one of {METHODS}, got {method!r}",
-                         field="method", value=method)
+        raise InputError(f"method must be one of {METHODS}, got {method!r}", field="method", value=method)
     coverage = coverage_probability(coverage, "coverage")
     step = _positive(step, "step")
     model = Model(f, inputs, correlation)
     if method == "gum":
         for name, given in (("trials", trials), ("tolerance", tolerance)):
             if given is not None:
-                raise InputError(f"{name} applies to method='monte-carlo' only",
-                                 field=name, value=given)
+                raise InputError(f"{name} applies to method='monte-carlo' only", field=name, value=given)
         return gum(model, coverage, step)
     coverage_kind(interval, "interval")
     digits = _count(digits, "digits")
@@ -139,8 +146,9 @@ def propagate(f, inputs, method="gum", *, trials=None, seed=None, correlation=No
     rng = np.random.default_rng(seed)
     if trials is not None:
         if tolerance is not None:
-            raise InputError("give either trials (fixed) or tolerance (adaptive), not both",
-                             field="tolerance", value=tolerance)
+            raise InputError(
+                "give either trials (fixed) or tolerance (adaptive), not both", field="tolerance", value=tolerance
+            )
         trials = _count(trials, "trials", 2)
         mean, sd, sample = run_fixed(model, rng, trials, chunk_size)
         delta, converged = None, None
@@ -149,13 +157,22 @@ def propagate(f, inputs, method="gum", *, trials=None, seed=None, correlation=No
             tolerance = _positive(tolerance, "tolerance")
         max_trials = _count(max_trials, "max_trials", 2 * block_size(coverage))
         mean, sd, sample, trials, delta, converged = run_adaptive(
-            model, rng, coverage, interval, tolerance, digits, chunk_size, max_trials)
-    linear = gum(model, coverage, step)     # the budget: GUM sensitivities at the estimates
+            model, rng, coverage, interval, tolerance, digits, chunk_size, max_trials
+        )
+    linear = gum(model, coverage, step)  # the budget: GUM sensitivities at the estimates
     return PropagationResult(
-        value=mean, standard_uncertainty=sd, dof=None, method="monte-carlo",
-        coverage=coverage, budget=linear.budget,
+        value=mean,
+        standard_uncertainty=sd,
+        dof=None,
+        method="monte-carlo",
+        coverage=coverage,
+        budget=linear.budget,
         correlation_share=linear.correlation_share,
-        trials=trials, tolerance=delta, converged=converged, samples=sample)
+        trials=trials,
+        tolerance=delta,
+        converged=converged,
+        samples=sample,
+    )
 
 
 @dataclass(frozen=True, repr=False)
@@ -188,27 +205,40 @@ class ValidationResult:
 
     def __repr__(self):
         verdict = "passed" if self.passed else "failed"
-        return (f"ValidationResult({verdict}: d_low={self.d_low:.3g}, "
-                f"d_high={self.d_high:.3g}, delta={self.delta:.3g}, "
-                f"p={self.coverage:g}, trials={self.monte_carlo.trials})")
+        return (
+            f"ValidationResult({verdict}: d_low={self.d_low:.3g}, "
+            f"d_high={self.d_high:.3g}, delta={self.delta:.3g}, "
+            f"p={self.coverage:g}, trials={self.monte_carlo.trials})"
+        )
 
     def summary(self):
         """Text lines: both intervals, d_low, d_high, δ and the verdict."""
         g_low, g_high = self.gum.coverage_interval()
         m_low, m_high = self.monte_carlo.coverage_interval()
         verdict = "PASSED" if self.passed else "FAILED"
-        return "\n".join([
-            f"GUM interval         [{g_low:.6g}, {g_high:.6g}] (p = {self.coverage:g})",
-            f"Monte Carlo interval [{m_low:.6g}, {m_high:.6g}] "
-            f"({self.monte_carlo.trials} trials)",
-            f"d_low = {self.d_low:.3g}, d_high = {self.d_high:.3g}, "
-            f"delta = {self.delta:.3g}: GUM validation {verdict}",
-        ])
+        return "\n".join(
+            [
+                f"GUM interval         [{g_low:.6g}, {g_high:.6g}] (p = {self.coverage:g})",
+                f"Monte Carlo interval [{m_low:.6g}, {m_high:.6g}] ({self.monte_carlo.trials} trials)",
+                f"d_low = {self.d_low:.3g}, d_high = {self.d_high:.3g}, "
+                f"delta = {self.delta:.3g}: GUM validation {verdict}",
+            ]
+        )
 
 
-def validate_gum(f, inputs, *, correlation=None, coverage=0.95, digits=2, seed=None,
-                 mc_tolerance=None, step=1e-3, chunk_size=100_000,
-                 max_trials=10_000_000):
+def validate_gum(
+    f,
+    inputs,
+    *,
+    correlation=None,
+    coverage=0.95,
+    digits=2,
+    seed=None,
+    mc_tolerance=None,
+    step=1e-3,
+    chunk_size=100_000,
+    max_trials=10_000_000,
+):
     """Validate the GUM result against Monte Carlo (JCGM 101:2008 clause 8).
 
     The GUM interval y ± U_p is compared with the probabilistically
@@ -246,13 +276,29 @@ def validate_gum(f, inputs, *, correlation=None, coverage=0.95, digits=2, seed=N
     delta = numerical_tolerance(g.standard_uncertainty, digits)
     if mc_tolerance is None:
         mc_tolerance = delta / 5.0 if delta > 0 else None
-    mc = propagate(f, inputs, "monte-carlo", seed=seed, correlation=correlation,
-                   coverage=coverage, tolerance=mc_tolerance, digits=digits, step=step,
-                   chunk_size=chunk_size, max_trials=max_trials)
+    mc = propagate(
+        f,
+        inputs,
+        "monte-carlo",
+        seed=seed,
+        correlation=correlation,
+        coverage=coverage,
+        tolerance=mc_tolerance,
+        digits=digits,
+        step=step,
+        chunk_size=chunk_size,
+        max_trials=max_trials,
+    )
     expanded = g.expanded_uncertainty()
     low, high = mc.coverage_interval(kind="symmetric")
     d_low = abs(g.value - expanded - low)
     d_high = abs(g.value + expanded - high)
-    return ValidationResult(passed=bool(d_low <= delta and d_high <= delta),
-                            d_low=d_low, d_high=d_high, delta=delta, coverage=coverage,
-                            gum=g, monte_carlo=mc)
+    return ValidationResult(
+        passed=bool(d_low <= delta and d_high <= delta),
+        d_low=d_low,
+        d_high=d_high,
+        delta=delta,
+        coverage=coverage,
+        gum=g,
+        monte_carlo=mc,
+    )

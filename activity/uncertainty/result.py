@@ -11,8 +11,14 @@ from scipy import stats
 from activity.errors import InputError
 from activity.formatting import fmt, table
 
-__all__ = ["BudgetRow", "PropagationResult", "SortedSample", "interval_indices",
-           "coverage_probability", "coverage_kind"]
+__all__ = [
+    "BudgetRow",
+    "PropagationResult",
+    "SortedSample",
+    "interval_indices",
+    "coverage_probability",
+    "coverage_kind",
+]
 
 _KINDS = ("symmetric", "shortest")
 
@@ -22,19 +28,16 @@ def coverage_probability(p, field="p"):
     try:
         value = float(p)
     except (TypeError, ValueError):
-        raise InputError(f"{field} must be a probability, got {p!r}",
-                         field=field, value=p) from None
+        raise InputError(f"{field} must be a probability, got {p!r}", field=field, value=p) from None
     if not 0.0 < value < 1.0:
-        raise InputError(f"{field} must lie strictly between 0 and 1, got {p!r}",
-                         field=field, value=p)
+        raise InputError(f"{field} must lie strictly between 0 and 1, got {p!r}", field=field, value=p)
     return value
 
 
 def coverage_kind(kind, field="kind"):
     """Validate the kind of coverage interval."""
     if kind not in _KINDS:
-        raise InputError(f"{field} must be one of {_KINDS}, got {kind!r}",
-                         field=field, value=kind)
+        raise InputError(f"{field} must be one of {_KINDS}, got {kind!r}", field=field, value=kind)
     return kind
 
 
@@ -58,9 +61,12 @@ def interval_indices(m, p):
     q = math.floor(p * m + 0.5)
     r = (m - q + 1) // 2
     if q >= m or r < 1:
-        raise InputError(f"{m} Monte Carlo trials are too few for a coverage interval "
-                         f"with p = {p}; use at least {math.ceil(100 / (1 - p))}",
-                         field="p", value=p)
+        raise InputError(
+            f"{m} Monte Carlo trials are too few for a coverage interval "
+            f"with p = {p}; use at least {math.ceil(100 / (1 - p))}",
+            field="p",
+            value=p,
+        )
     return q, r - 1
 
 
@@ -78,7 +84,7 @@ def shortest_start(ordered, q, block=1 << 20):
     best, best_width = 0, math.inf
     for begin in range(0, count, block):
         end = min(begin + block, count)
-        widths = ordered[begin + q:end + q] - ordered[begin:end]
+        widths = ordered[begin + q : end + q] - ordered[begin:end]
         local = int(np.argmin(widths))
         if widths[local] < best_width:
             best, best_width = begin + local, float(widths[local])
@@ -260,9 +266,18 @@ class PropagationResult:
         """
         rows = [asdict(row) for row in self.budget]
         if self.correlation_share:
-            rows.append({"name": "(correlation)", "distribution": "-", "value": None,
-                         "standard_uncertainty": None, "dof": None, "sensitivity": None,
-                         "contribution": None, "share": self.correlation_share})
+            rows.append(
+                {
+                    "name": "(correlation)",
+                    "distribution": "-",
+                    "value": None,
+                    "standard_uncertainty": None,
+                    "dof": None,
+                    "sensitivity": None,
+                    "contribution": None,
+                    "share": self.correlation_share,
+                }
+            )
         return rows
 
     def format_budget(self, spread=None):
@@ -278,15 +293,23 @@ class PropagationResult:
         -------
         str
         """
-        header = ["input", "distribution", "value", "u(x)", "dof", "sensitivity",
-                  "|c|*u(x)", "share"]
-        rows = [[r["name"], r["distribution"], r["value"], r["standard_uncertainty"],
-                 r["dof"], r["sensitivity"], r["contribution"],
-                 f"{100 * r['share']:.1f} %"] for r in self.budget_table()]
+        header = ["input", "distribution", "value", "u(x)", "dof", "sensitivity", "|c|*u(x)", "share"]
+        rows = [
+            [
+                r["name"],
+                r["distribution"],
+                r["value"],
+                r["standard_uncertainty"],
+                r["dof"],
+                r["sensitivity"],
+                r["contribution"],
+                f"{100 * r['share']:.1f} %",
+            ]
+            for r in self.budget_table()
+        ]
         text = [table(header, rows, digits=6), self._result_line()]
         if self.method == "monte-carlo" and self.budget:
-            text.append("(budget: GUM sensitivities at the input estimates; shares of "
-                        "the linearised variance)")
+            text.append("(budget: GUM sensitivities at the input estimates; shares of the linearised variance)")
         if spread is not None:
             text.append(spread.format_line(self.standard_uncertainty))
         return "\n".join(text)
@@ -294,8 +317,7 @@ class PropagationResult:
     def _result_line(self):
         low, high = self.coverage_interval()
         percent = f"{100 * self.coverage:g} %"
-        line = (f"output ({self.method}): {fmt(self.value, 6)}, u = "
-                f"{fmt(self.standard_uncertainty, 6)}")
+        line = f"output ({self.method}): {fmt(self.value, 6)}, u = {fmt(self.standard_uncertainty, 6)}"
         if self.method == "gum":
             line += f", dof = {fmt(self.dof, 6)}, k = {fmt(self.coverage_factor(), 6)}"
         else:
@@ -307,15 +329,17 @@ class PropagationResult:
         return self.format_budget()
 
     def __repr__(self):
-        parts = [f"method={self.method!r}", f"value={self.value:.10g}",
-                 f"standard_uncertainty={self.standard_uncertainty:.6g}"]
+        parts = [
+            f"method={self.method!r}",
+            f"value={self.value:.10g}",
+            f"standard_uncertainty={self.standard_uncertainty:.6g}",
+        ]
         if self.method == "gum":
             parts.append(f"dof={self.dof:.6g}")
         else:
             parts.append(f"trials={self.trials}")
             if self.converged is not None:
                 parts.append(f"converged={self.converged}")
-        parts.append(f"expanded_uncertainty({self.coverage:g})="
-                     f"{self.expanded_uncertainty():.6g}")
+        parts.append(f"expanded_uncertainty({self.coverage:g})={self.expanded_uncertainty():.6g}")
         parts.append(f"inputs={[row.name for row in self.budget]}")
         return "PropagationResult(" + ", ".join(parts) + ")"

@@ -13,15 +13,16 @@ with the Nernst slope at the demo temperature. The electrode constant (E0 = 50.0
 the selectivity coefficient K(Ca, K) = 10⁻⁴ are invented demo values of a plausible order
 of magnitude; the reference potential is computed from its KCl filling.
 """
+
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Any, Sequence
+from typing import Any
 
 import numpy as np
 
 from ..coefficients.compare import run_models
-
 from ..solution import Solution
 
 __all__ = ["SCENARIO", "calcium_standards", "demo_cell", "ModelColumn", "DemoResult", "run_demo"]
@@ -77,7 +78,9 @@ def demo_cell():
     from ..nernst.cell import Cell
     from ..nernst.electrodes import IonSelectiveElectrode, silver_chloride_electrode
 
-    ise = IonSelectiveElectrode("Ca^2+", E0=SCENARIO["ise_E0"], selectivity=SCENARIO["ise_selectivity"], name="demo calcium ISE")
+    ise = IonSelectiveElectrode(
+        "Ca^2+", E0=SCENARIO["ise_E0"], selectivity=SCENARIO["ise_selectivity"], name="demo calcium ISE"
+    )
     return Cell(left=silver_chloride_electrode(SCENARIO["reference_filling"]), right=ise)
 
 
@@ -99,7 +102,16 @@ def run_demo(models: Sequence[str] | None = None) -> DemoResult:
         # one evaluation gives the EMF and, through the ISE's record, the calcium activity
         activity = 10.0 ** np.asarray(res.right.log10_activity["Ca^2+"])
         notes = tuple(dict.fromkeys(res.right.notes))
-        columns.append(ModelColumn(name, activity / sol.m[i], activity, np.broadcast_to(res.right.in_range, sol.shape), np.asarray(res.emf), notes))
+        columns.append(
+            ModelColumn(
+                name,
+                activity / sol.m[i],
+                activity,
+                np.broadcast_to(res.right.in_range, sol.shape),
+                np.asarray(res.emf),
+                notes,
+            )
+        )
         ref = res.left  # the reference electrode uses its own model, the same for every column
     if ref is None:
         ref = cell.left.evaluate(SCENARIO["temperature"], warn=False)

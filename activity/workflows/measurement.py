@@ -24,19 +24,21 @@ Conventions shared by the three functions:
   them (``u_e0``).
 * The sample is one solution (not a batch): its rows are made by the propagation.
 """
+
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
-from typing import Any, Callable, Mapping
+from typing import Any
 
 import numpy as np
 
 from .. import _checks
-from ..nernst.cell import Cell
 from ..coefficients import available_models, resolve_model
-from ..nernst.electrodes import IonSelectiveElectrode
 from ..errors import ActivityError, InputError, warn_alerts
+from ..nernst.cell import Cell
+from ..nernst.electrodes import IonSelectiveElectrode
 from ..nernst.inverse import molality_from_emf, molality_from_potential
 from ..nernst.protocol import Electrode
 from ..solution import Solution
@@ -98,9 +100,11 @@ class ChainResult:
         return self.propagation.format_budget(spread=self.spread)
 
     def __repr__(self) -> str:
-        return (f"ChainResult({self.quantity} = {self.value:.6g} {self.unit}, "
-                f"u = {self.standard_uncertainty:.3g}, method={self.propagation.method!r}, "
-                f"inputs={[r.name for r in self.propagation.budget]})")
+        return (
+            f"ChainResult({self.quantity} = {self.value:.6g} {self.unit}, "
+            f"u = {self.standard_uncertainty:.3g}, method={self.propagation.method!r}, "
+            f"inputs={[r.name for r in self.propagation.budget]})"
+        )
 
 
 # ------------------------------------------------------------------ inputs
@@ -117,7 +121,9 @@ def _one_sample(sample: Any, field: str = "sample") -> Solution:
     if not isinstance(sample, Solution):
         raise InputError("expected an activity.Solution", field=field, value=type(sample).__name__)
     if sample.shape != ():
-        raise InputError("give one solution, not a batch: the propagation makes its own rows", field=field, value=sample.shape)
+        raise InputError(
+            "give one solution, not a batch: the propagation makes its own rows", field=field, value=sample.shape
+        )
     return sample
 
 
@@ -160,8 +166,14 @@ def _e0_inputs(u_e0: Any, sides: Mapping[str, Any]) -> list[_Input]:
     else:
         u = _nonnegative(u_e0 or 0.0, "u_e0")
         given = {k: u for k in sides}
-    label = (lambda k: f"E°({sides[k].name}) [V]") if list(sides) == ["electrode"] else (lambda k: f"E°({k}: {sides[k].name}) [V]")
-    return [_Input(f"E0_{k}", label(k), "e0", k, Normal(sides[k].electrode_constant, u)) for k, u in given.items() if u > 0]
+    label = (
+        (lambda k: f"E°({sides[k].name}) [V]")
+        if list(sides) == ["electrode"]
+        else (lambda k: f"E°({k}: {sides[k].name}) [V]")
+    )
+    return [
+        _Input(f"E0_{k}", label(k), "e0", k, Normal(sides[k].electrode_constant, u)) for k, u in given.items() if u > 0
+    ]
 
 
 def _selectivity_inputs(electrodes: list[Any], u_selectivity: Mapping[str, Any] | None) -> list[_Input]:
@@ -172,8 +184,11 @@ def _selectivity_inputs(electrodes: list[Any], u_selectivity: Mapping[str, Any] 
     for i, (name, u) in enumerate((u_selectivity or {}).items()):
         j = parse_species(name).name
         if j not in known:
-            raise InputError(f"no selectivity coefficient given for this ion (known: {', '.join(known) or 'none'})",
-                             field="u_selectivity", value=name)
+            raise InputError(
+                f"no selectivity coefficient given for this ion (known: {', '.join(known) or 'none'})",
+                field="u_selectivity",
+                value=name,
+            )
         u = _nonnegative(u, f"u_selectivity[{name!r}]")
         if u > 0:
             out.append(_Input(f"K_{i}", f"K({j})", "K", j, Normal(float(known[j]), u)))
@@ -230,7 +245,7 @@ Quantity = Callable[[_Point, Any, list], Any]
 def _spread(quantity: Quantity, point: _Point, names: Any) -> tuple[ModelSpread | None, list[str]]:
     """The quantity at the estimates by each model; notes for the models not counted."""
     values, notes = {}, []
-    for item in (available_models() if names is None else names):
+    for item in available_models() if names is None else names:
         name = getattr(item, "name", item)
         alerts: list[str] = []
         try:
@@ -247,9 +262,21 @@ def _spread(quantity: Quantity, point: _Point, names: Any) -> tuple[ModelSpread 
     return (model_spread(values) if values else None), notes
 
 
-def _run(quantity: Quantity, sample: Solution, model: Any, inputs: list[_Input], reading: Any,
-         label: str, unit: str, *, method: str = "gum", trials: int | None = None, seed: Any = None,
-         coverage: float = 0.95, spread_models: Any = None) -> ChainResult:
+def _run(
+    quantity: Quantity,
+    sample: Solution,
+    model: Any,
+    inputs: list[_Input],
+    reading: Any,
+    label: str,
+    unit: str,
+    *,
+    method: str = "gum",
+    trials: int | None = None,
+    seed: Any = None,
+    coverage: float = 0.95,
+    spread_models: Any = None,
+) -> ChainResult:
     if not inputs:
         raise InputError("no uncertain input: state at least one non-zero uncertainty", field="uncertainty", value=None)
     model = resolve_model(model)
@@ -262,12 +289,15 @@ def _run(quantity: Quantity, sample: Solution, model: Any, inputs: list[_Input],
     dists = {i.key: i.dist for i in inputs}
     result = propagate(f, dists, method, trials=trials, seed=seed, coverage=coverage)
     labels = {i.key: i.label for i in inputs}
-    result = dataclasses.replace(result, budget=tuple(dataclasses.replace(r, name=labels[r.name]) for r in result.budget))
+    result = dataclasses.replace(
+        result, budget=tuple(dataclasses.replace(r, name=labels[r.name]) for r in result.budget)
+    )
     kinds: dict[str, list] = {}
     for message in alerts:  # Monte Carlo chunks repeat an excursion with other numbers: one note per kind
         kinds.setdefault(message.split(":")[0], []).append(message)
-    notes = [f"during the propagation ({len(m)} batch call(s) outside a validity; the first): {m[0]}"
-             for m in kinds.values()]
+    notes = [
+        f"during the propagation ({len(m)} batch call(s) outside a validity; the first): {m[0]}" for m in kinds.values()
+    ]
     warn_alerts(notes, stacklevel=3)
     spread, spread_notes = _spread(quantity, build({i.key: i.dist.mean for i in inputs}), spread_models)
     return ChainResult(label, unit, model.name, result, spread, tuple(notes) + tuple(spread_notes))
@@ -294,10 +324,19 @@ _OPTIONS_DOC = """
 """
 
 
-def potential_with_uncertainty(electrode: Any, sample: Solution, model: Any = "davies", *, u_e0: Any = 0.0,
-                               pressures: Mapping[str, Any] | None = None, u_amount: Any = None,
-                               u_molality: Mapping[str, Any] | None = None, u_temperature: Any = 0.0,
-                               u_selectivity: Mapping[str, Any] | None = None, **options: Any) -> ChainResult:
+def potential_with_uncertainty(
+    electrode: Any,
+    sample: Solution,
+    model: Any = "davies",
+    *,
+    u_e0: Any = 0.0,
+    pressures: Mapping[str, Any] | None = None,
+    u_amount: Any = None,
+    u_molality: Mapping[str, Any] | None = None,
+    u_temperature: Any = 0.0,
+    u_selectivity: Mapping[str, Any] | None = None,
+    **options: Any,
+) -> ChainResult:
     """Electrode potential in a sample, with its uncertainty budget and the model spread.
 
     Parameters
@@ -329,9 +368,15 @@ def potential_with_uncertainty(electrode: Any, sample: Solution, model: Any = "d
     ['m(K+) [mol/kg]', 'm(Cl-) [mol/kg]', 'E°(AgCl/Ag) [V]']
     """
     if not isinstance(electrode, Electrode) or electrode.own_compartment:
-        raise InputError("expected a HalfReaction or an IonSelectiveElectrode", field="electrode", value=type(electrode).__name__)
-    inputs = (_amount_inputs(_one_sample(sample), u_amount, u_molality) + _temperature_input(sample, u_temperature)
-              + _e0_inputs(u_e0, {"electrode": electrode}) + _selectivity_inputs([electrode], u_selectivity))
+        raise InputError(
+            "expected a HalfReaction or an IonSelectiveElectrode", field="electrode", value=type(electrode).__name__
+        )
+    inputs = (
+        _amount_inputs(_one_sample(sample), u_amount, u_molality)
+        + _temperature_input(sample, u_temperature)
+        + _e0_inputs(u_e0, {"electrode": electrode})
+        + _selectivity_inputs([electrode], u_selectivity)
+    )
 
     def quantity(p: _Point, m: Any, alerts: list) -> Any:
         at = electrode.with_selectivity(p.selectivity)
@@ -342,10 +387,19 @@ def potential_with_uncertainty(electrode: Any, sample: Solution, model: Any = "d
     return _run(quantity, sample, model, inputs, None, "E", "V", **options)
 
 
-def emf_with_uncertainty(cell: Cell, sample: Solution, model: Any = "davies", *, u_e0: Any = 0.0,
-                         pressures: Mapping[str, Any] | None = None, u_amount: Any = None,
-                         u_molality: Mapping[str, Any] | None = None, u_temperature: Any = 0.0,
-                         u_selectivity: Mapping[str, Any] | None = None, **options: Any) -> ChainResult:
+def emf_with_uncertainty(
+    cell: Cell,
+    sample: Solution,
+    model: Any = "davies",
+    *,
+    u_e0: Any = 0.0,
+    pressures: Mapping[str, Any] | None = None,
+    u_amount: Any = None,
+    u_molality: Mapping[str, Any] | None = None,
+    u_temperature: Any = 0.0,
+    u_selectivity: Mapping[str, Any] | None = None,
+    **options: Any,
+) -> ChainResult:
     """Cell EMF for a sample, with its uncertainty budget and the model spread.
 
     Parameters
@@ -377,9 +431,12 @@ def emf_with_uncertainty(cell: Cell, sample: Solution, model: Any = "davies", *,
     """
     if not isinstance(cell, Cell):
         raise InputError("expected an activity.Cell", field="cell", value=type(cell).__name__)
-    inputs = (_amount_inputs(_one_sample(sample), u_amount, u_molality) + _temperature_input(sample, u_temperature)
-              + _e0_inputs(u_e0, {"left": cell.left, "right": cell.right})
-              + _selectivity_inputs([cell.left, cell.right], u_selectivity))
+    inputs = (
+        _amount_inputs(_one_sample(sample), u_amount, u_molality)
+        + _temperature_input(sample, u_temperature)
+        + _e0_inputs(u_e0, {"left": cell.left, "right": cell.right})
+        + _selectivity_inputs([cell.left, cell.right], u_selectivity)
+    )
 
     def quantity(p: _Point, m: Any, alerts: list) -> Any:
         res = _cell_at(cell, p.selectivity).evaluate(p.sol, m, pressures=pressures, warn=False)
@@ -389,11 +446,23 @@ def emf_with_uncertainty(cell: Cell, sample: Solution, model: Any = "davies", *,
     return _run(quantity, sample, model, inputs, None, "EMF", "V", **options)
 
 
-def molality_with_uncertainty(electrode: Any, reading: float, matrix: Solution, model: Any = "davies", *,
-                              species: str | None = None, counter_ion: str | None = None, u_reading: Any = 0.0,
-                              u_e0: Any = 0.0, pressures: Mapping[str, Any] | None = None, u_amount: Any = None,
-                              u_molality: Mapping[str, Any] | None = None, u_temperature: Any = 0.0,
-                              u_selectivity: Mapping[str, Any] | None = None, **options: Any) -> ChainResult:
+def molality_with_uncertainty(
+    electrode: Any,
+    reading: float,
+    matrix: Solution,
+    model: Any = "davies",
+    *,
+    species: str | None = None,
+    counter_ion: str | None = None,
+    u_reading: Any = 0.0,
+    u_e0: Any = 0.0,
+    pressures: Mapping[str, Any] | None = None,
+    u_amount: Any = None,
+    u_molality: Mapping[str, Any] | None = None,
+    u_temperature: Any = 0.0,
+    u_selectivity: Mapping[str, Any] | None = None,
+    **options: Any,
+) -> ChainResult:
     """Molality of the determinand from a reading, with its uncertainty budget and the model spread.
 
     Each row of the propagation solves the inverse (see :mod:`activity.nernst.inverse`); all rows
@@ -446,8 +515,16 @@ def molality_with_uncertainty(electrode: Any, reading: float, matrix: Solution, 
 
         def quantity(p: _Point, m: Any, alerts: list) -> Any:
             target = np.broadcast_to(p.reading - p.shift("right") + p.shift("left"), p.shape)
-            res = molality_from_emf(_cell_at(electrode, p.selectivity), target, p.sol, m, species=name,
-                                    counter_ion=counter_ion, pressures=pressures, warn=False)
+            res = molality_from_emf(
+                _cell_at(electrode, p.selectivity),
+                target,
+                p.sol,
+                m,
+                species=name,
+                counter_ion=counter_ion,
+                pressures=pressures,
+                warn=False,
+            )
             alerts.extend(res.alerts)
             return res.molality
     elif isinstance(electrode, Electrode) and not electrode.own_compartment:
@@ -456,16 +533,30 @@ def molality_with_uncertainty(electrode: Any, reading: float, matrix: Solution, 
 
         def quantity(p: _Point, m: Any, alerts: list) -> Any:
             target = np.broadcast_to(p.reading - p.shift("electrode"), p.shape)  # rows even when only K varies
-            res = molality_from_potential(electrode.with_selectivity(p.selectivity), target, p.sol, m, species=species,
-                                          counter_ion=counter_ion, pressures=pressures, warn=False)
+            res = molality_from_potential(
+                electrode.with_selectivity(p.selectivity),
+                target,
+                p.sol,
+                m,
+                species=species,
+                counter_ion=counter_ion,
+                pressures=pressures,
+                warn=False,
+            )
             alerts.extend(res.alerts)
             return res.molality
     else:
-        raise InputError("expected a HalfReaction, IonSelectiveElectrode or Cell", field="electrode", value=type(electrode).__name__)
+        raise InputError(
+            "expected a HalfReaction, IonSelectiveElectrode or Cell", field="electrode", value=type(electrode).__name__
+        )
     u_read = _nonnegative(u_reading or 0.0, "u_reading")
-    inputs = (_amount_inputs(_one_sample(matrix, "matrix"), u_amount, u_molality) + _temperature_input(matrix, u_temperature)
-              + _e0_inputs(u_e0, sides) + _selectivity_inputs(parts, u_selectivity)
-              + ([_Input("reading", "reading [V]", "reading", "reading", Normal(reading, u_read))] if u_read > 0 else []))
+    inputs = (
+        _amount_inputs(_one_sample(matrix, "matrix"), u_amount, u_molality)
+        + _temperature_input(matrix, u_temperature)
+        + _e0_inputs(u_e0, sides)
+        + _selectivity_inputs(parts, u_selectivity)
+        + ([_Input("reading", "reading [V]", "reading", "reading", Normal(reading, u_read))] if u_read > 0 else [])
+    )
     return _run(quantity, matrix, model, inputs, reading, f"m({name})", "mol/kg", **options)
 
 

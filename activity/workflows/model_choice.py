@@ -13,7 +13,6 @@ import math
 from dataclasses import dataclass
 
 from ..errors import InputError
-
 from ..uncertainty.distributions import Distribution
 
 __all__ = ["ModelSpread", "model_spread"]
@@ -50,13 +49,14 @@ class ModelSpread:
 
     def format_line(self, reference_u=None):
         """One line of text for a report; compares with ``reference_u`` if given."""
-        line = (f"model choice: {len(self.values)} models, {self.minimum:.6g} "
-                f"({self.lowest}) to {self.maximum:.6g} ({self.highest}), spread "
-                f"{self.spread:.6g}, u = spread/sqrt(12) = {self.standard_uncertainty:.6g}")
+        line = (
+            f"model choice: {len(self.values)} models, {self.minimum:.6g} "
+            f"({self.lowest}) to {self.maximum:.6g} ({self.highest}), spread "
+            f"{self.spread:.6g}, u = spread/sqrt(12) = {self.standard_uncertainty:.6g}"
+        )
         if reference_u is not None and reference_u > 0:
             ratio = self.standard_uncertainty / reference_u
-            verdict = ("model choice dominates" if ratio > 1
-                       else "measurement dominates")
+            verdict = "model choice dominates" if ratio > 1 else "measurement dominates"
             line += f"; {ratio:.3g} x the measurement u ({verdict})"
         return line
 
@@ -93,8 +93,7 @@ def model_spread(models, inputs=None):
     0.001155
     """
     if not hasattr(models, "items") or not models:
-        raise InputError("models must be a non-empty mapping of model name to value",
-                         field="models", value=models)
+        raise InputError("models must be a non-empty mapping of model name to value", field="models", value=models)
     point = {}
     for name, item in (inputs or {}).items():
         point[name] = item.mean if isinstance(item, Distribution) else item
@@ -104,15 +103,19 @@ def model_spread(models, inputs=None):
         try:
             number = float(raw)
         except (TypeError, ValueError):
-            raise InputError(f"model {name!r} gave {raw!r}, not a single number",
-                             field="models", value=name) from None
+            raise InputError(f"model {name!r} gave {raw!r}, not a single number", field="models", value=name) from None
         if not math.isfinite(number):
-            raise InputError(f"model {name!r} gave a non-finite value {number!r}",
-                             field="models", value=name)
+            raise InputError(f"model {name!r} gave a non-finite value {number!r}", field="models", value=name)
         values[name] = number
     lowest = min(values, key=values.get)
     highest = max(values, key=values.get)
     spread = values[highest] - values[lowest]
-    return ModelSpread(values=values, minimum=values[lowest], maximum=values[highest],
-                       lowest=lowest, highest=highest, spread=spread,
-                       standard_uncertainty=spread / math.sqrt(12.0))
+    return ModelSpread(
+        values=values,
+        minimum=values[lowest],
+        maximum=values[highest],
+        lowest=lowest,
+        highest=highest,
+        spread=spread,
+        standard_uncertainty=spread / math.sqrt(12.0),
+    )

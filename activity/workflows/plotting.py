@@ -5,6 +5,7 @@ Nothing here is chemistry: a workflow draws its figure with :func:`pyplot` and h
 :func:`save_figure` (PNG, SVG or PDF by the file's suffix) or :func:`figure_svg` (inline SVG
 for an HTML record).
 """
+
 from __future__ import annotations
 
 import io
@@ -29,8 +30,7 @@ def pyplot() -> Any:
     try:
         import matplotlib
     except ImportError:  # pragma: no cover - matplotlib is a declared dependency
-        raise InputError("plots need matplotlib: pip install matplotlib", field="plot",
-                         value="matplotlib") from None
+        raise InputError("plots need matplotlib: pip install matplotlib", field="plot", value="matplotlib") from None
     matplotlib.use("Agg", force=True)
     import matplotlib.pyplot as plt
 

@@ -15,12 +15,14 @@ Examples
 >>> html.startswith("<!DOCTYPE html>") and "29.1" in html and "pass" in html
 True
 """
+
 from __future__ import annotations
 
 import html
 import platform
+from collections.abc import Iterable, Sequence
 from datetime import datetime, timezone
-from typing import Any, Iterable, Sequence
+from typing import Any
 
 from ..formatting import fmt
 
@@ -91,8 +93,9 @@ class Record:
         """A paragraph of plain text."""
         self._parts.append(f"<p>{_esc(text)}</p>")
 
-    def table(self, headers: Sequence[str], rows: Iterable[Sequence[Any]], *,
-              caption: str | None = None, digits: int = 6) -> None:
+    def table(
+        self, headers: Sequence[str], rows: Iterable[Sequence[Any]], *, caption: str | None = None, digits: int = 6
+    ) -> None:
         """A table; numbers are right-aligned and shown with ``digits`` significant figures."""
         out = ["<table>"]
         if caption:
@@ -110,8 +113,9 @@ class Record:
         out = ["<table><thead><tr><th>criterion</th><th>verdict</th><th>detail</th></tr></thead><tbody>"]
         for criterion, passed, detail in items:
             word, cls = {True: ("pass", "pass"), False: ("FAIL", "fail")}.get(passed, ("not judged", "none"))
-            out.append(f"<tr><td>{_esc(criterion)}</td><td class=\"verdict-{cls}\">{word}</td>"
-                       f"<td>{_esc(detail)}</td></tr>")
+            out.append(
+                f'<tr><td>{_esc(criterion)}</td><td class="verdict-{cls}">{word}</td><td>{_esc(detail)}</td></tr>'
+            )
         out.append("</tbody></table>")
         self._parts.append("".join(out))
 
@@ -142,17 +146,21 @@ class Record:
 
     def to_html(self, *, generated: str | None = None) -> str:
         """The complete HTML document. ``generated`` overrides the timestamp (for tests)."""
-        from .. import __version__
         import numpy
         import scipy
 
+        from .. import __version__
+
         when = generated or datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
         sub = f'<p class="subtitle">{_esc(self.subtitle)}</p>' if self.subtitle else ""
-        footer = (f"<footer>activity {_esc(__version__)} · Python {_esc(platform.python_version())}, "
-                  f"numpy {_esc(numpy.__version__)}, scipy {_esc(scipy.__version__)} · "
-                  f"generated {_esc(when)}</footer>")
-        return ("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
-                f"<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">"
-                f"<title>{_esc(self.title)}</title><style>{_STYLE}</style></head><body>"
-                f"<h1>{_esc(self.title)}</h1>{sub}" + "\n".join(self._parts) + footer
-                + "</body></html>\n")
+        footer = (
+            f"<footer>activity {_esc(__version__)} · Python {_esc(platform.python_version())}, "
+            f"numpy {_esc(numpy.__version__)}, scipy {_esc(scipy.__version__)} · "
+            f"generated {_esc(when)}</footer>"
+        )
+        return (
+            '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
+            f'<meta name="viewport" content="width=device-width, initial-scale=1">'
+            f"<title>{_esc(self.title)}</title><style>{_STYLE}</style></head><body>"
+            f"<h1>{_esc(self.title)}</h1>{sub}" + "\n".join(self._parts) + footer + "</body></html>\n"
+        )

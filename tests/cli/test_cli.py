@@ -1,4 +1,5 @@
 """The command line: exit codes, formats, one-line errors, whole-or-nothing output."""
+
 import json
 import subprocess
 import sys
@@ -15,7 +16,10 @@ def run(*args):
 
 def test_help_does_not_import_numpy():
     # `activity --help` must start fast: building the parser imports no numerical modules.
-    code = "import sys, activity.cli as c; c.build_parser(); print(sorted(m for m in ('numpy', 'scipy', 'sympy') if m in sys.modules))"
+    code = (
+        "import sys, activity.cli as c; c.build_parser(); "
+        "print(sorted(m for m in ('numpy', 'scipy', 'sympy') if m in sys.modules))"
+    )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.strip()
     assert out == "[]"
 
@@ -37,14 +41,16 @@ def test_solution_json_all_models(capsys):
     # Davies (1938) written out: log10 γ = −A z² (√I/(1+√I) − 0.3 I), I = 0.003 mol/kg
     from activity import debye_huckel_A
 
-    s = 0.003 ** 0.5
+    s = 0.003**0.5
     expected = 10 ** (-debye_huckel_A(298.15) * 4 * (s / (1 + s) - 0.3 * 0.003))
     assert davies["gamma"]["Ca^2+"] == pytest.approx(expected, rel=1e-9)
 
 
 def test_solution_csv_from_recipe(tmp_path, capsys):
     recipe = tmp_path / "r.toml"
-    recipe.write_text('temperature = "37 °C"\n[composition]\n"K+" = "5 mmol/kg"\n"Cl-" = "5 mmol/kg"\n', encoding="utf-8")
+    recipe.write_text(
+        'temperature = "37 °C"\n[composition]\n"K+" = "5 mmol/kg"\n"Cl-" = "5 mmol/kg"\n', encoding="utf-8"
+    )
     assert main(["solution", "--recipe", str(recipe), "--csv", "-m", "extended-debye-huckel"]) == 0
     lines = capsys.readouterr().out.strip().splitlines()
     assert lines[0] == "model,species,molality_mol_per_kg,gamma,activity"
@@ -53,7 +59,7 @@ def test_solution_csv_from_recipe(tmp_path, capsys):
     # 37 °C, Kielland (1937) å = 3 Å for K+ and Cl- (from memory); A, B checked in test_water.py
     from activity import debye_huckel_A, debye_huckel_B
 
-    s = 0.005 ** 0.5
+    s = 0.005**0.5
     gamma = 10 ** (-debye_huckel_A(310.15) * s / (1 + debye_huckel_B(310.15) * 3.0 * s))
     for line, ion in zip(lines[1:], ["K+", "Cl-"]):
         model, species, m, g, a = line.split(",")
@@ -192,7 +198,17 @@ def test_bad_tables_fail_whole(tmp_path, body, text):
 def test_invert_table_equals_single_readings(tmp_path, capsys):
     path = tmp_path / "readings.csv"
     path.write_text("label,reading [mV],K+ [mol/L],Cl- [mol/L]\nA,-255.3,0.1,0.1\nB,-270.1,0.1,0.1\n", encoding="utf-8")
-    common = ["invert", "--ise", "Ca2+", "--e0", "52.1 mV", "--against", "silver-chloride:3 mol/L", "--counter-ion", "Cl-"]
+    common = [
+        "invert",
+        "--ise",
+        "Ca2+",
+        "--e0",
+        "52.1 mV",
+        "--against",
+        "silver-chloride:3 mol/L",
+        "--counter-ion",
+        "Cl-",
+    ]
     assert main(common + ["--table", str(path), "--json"]) == 0
     rows = json.loads(capsys.readouterr().out)["rows"]
     assert [r["label"] for r in rows] == ["A", "B"]

@@ -9,7 +9,8 @@ import warnings
 
 import numpy as np
 import pytest
-from hypothesis import given, strategies as st
+from hypothesis import given
+from hypothesis import strategies as st
 from scipy.integrate import quad
 
 import activity as act
@@ -150,7 +151,10 @@ def test_batch_equals_row_by_row(model, parts, T, n):
     assert np.allclose(lg, rows, rtol=1e-12, atol=1e-14)
 
 
-@given(parts=st.lists(st.tuples(st.sampled_from(list(SALTS)), st.floats(1e-6, 0.5)), min_size=1, max_size=4), seed=st.integers(0, 2**16))
+@given(
+    parts=st.lists(st.tuples(st.sampled_from(list(SALTS)), st.floats(1e-6, 0.5)), min_size=1, max_size=4),
+    seed=st.integers(0, 2**16),
+)
 def test_species_order_invariance(model, parts, seed):
     comp = compose(parts)
     names = list(comp)

@@ -4,9 +4,9 @@ import importlib.metadata
 import pytest
 
 import activity as act
+import activity.coefficients as registry
 from activity import InputError
 from activity.coefficients import ENTRY_POINT_GROUP
-import activity.coefficients as registry
 from activity.coefficients.davies import DaviesModel
 
 

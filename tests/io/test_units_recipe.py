@@ -1,4 +1,5 @@
 """Units at the edges and recipe files."""
+
 import pytest
 
 from activity import InputError
@@ -8,7 +9,13 @@ from activity.io.units import parse_amount, parse_density, parse_potential, pars
 
 @pytest.mark.parametrize(
     "text, value, basis",
-    [("0.1 mol/kg", 0.1, "kg"), ("2.5 mmol/kg", 2.5e-3, "kg"), ("10 µmol/L", 1e-5, "L"), ("1 M", 1.0, "L"), ("5 mM", 5e-3, "L")],
+    [
+        ("0.1 mol/kg", 0.1, "kg"),
+        ("2.5 mmol/kg", 2.5e-3, "kg"),
+        ("10 µmol/L", 1e-5, "L"),
+        ("1 M", 1.0, "L"),
+        ("5 mM", 5e-3, "L"),
+    ],
 )
 def test_amounts(text, value, basis):
     a = parse_amount(text)

@@ -1,12 +1,13 @@
 """HalfReaction, the standard-potential table, reference electrodes and cells."""
+
 import warnings
 
 import numpy as np
 import pytest
 
 import activity as act
-from activity.nernst.equations import nernst_slope
 from activity.errors import InputError
+from activity.nernst.equations import nernst_slope
 from activity.nernst.half_reaction import HalfReaction, available_couples, best_available_model, standard_couple
 
 S25 = nernst_slope(298.15)
@@ -82,8 +83,12 @@ def test_temperature_coefficients_used():
     # 0.23659 − 4.8564e-4·25 − 3.4205e-6·25² + 5.869e-9·25³ ≈ 0.2224 V (E° = 0.22233 V from the
     # Harned cell), −4.8564e-4 − 2·3.4205e-6·25 + 3·5.869e-9·25² = −6.457e-4 V/K,
     # −2·3.4205e-6 + 6·5.869e-9·25 = −5.96e-6 V/K² (derivatives by hand).
-    assert np.allclose(hr.standard_potential(T), 0.22233 + -6.457e-4 * (T - 298.15) + 0.5 * -5.96e-6 * (T - 298.15) ** 2,
-                       rtol=0, atol=1e-12)
+    assert np.allclose(
+        hr.standard_potential(T),
+        0.22233 + -6.457e-4 * (T - 298.15) + 0.5 * -5.96e-6 * (T - 298.15) ** 2,
+        rtol=0,
+        atol=1e-12,
+    )
     # Bates & Bower (1954) polynomial at 45 °C (from memory): 0.23659 − 4.8564e-4·45 − 3.4205e-6·45² + 5.869e-9·45³
     t = 45.0
     bb = 0.23659 - 4.8564e-4 * t - 3.4205e-6 * t**2 + 5.869e-9 * t**3
@@ -192,7 +197,9 @@ def test_cell_junction_reported_separately():
     ref = silver_chloride_electrode("saturated")
     sample = act.Solution({"H+": 0.001, "Cl-": 0.001})
     plain = Cell(left=ref, right=standard_couple("H+/H2")).evaluate(sample, "davies", pressures=H2)
-    with_j = Cell(left=ref, right=standard_couple("H+/H2"), junction="henderson").evaluate(sample, "davies", pressures=H2)
+    with_j = Cell(left=ref, right=standard_couple("H+/H2"), junction="henderson").evaluate(
+        sample, "davies", pressures=H2
+    )
     assert plain.junction_potential == 0.0
     assert with_j.emf - plain.emf == pytest.approx(with_j.junction_potential, abs=1e-15)
     # a saturated-KCl bridge against a dilute sample: a few mV at most
@@ -296,7 +303,9 @@ def test_ise_nernstian_and_selectivity():
 
 def test_ise_calibration_against_reference():
     # the demo's pattern: expected EMF of Ca standards against Ag/AgCl, per model
-    std = act.Solution.from_molarity({"Ca^2+": np.array([1e-5, 1e-3, 1e-1]), "K+": 0.1, "Cl-": 0.1 + 2 * np.array([1e-5, 1e-3, 1e-1])})
+    std = act.Solution.from_molarity(
+        {"Ca^2+": np.array([1e-5, 1e-3, 1e-1]), "K+": 0.1, "Cl-": 0.1 + 2 * np.array([1e-5, 1e-3, 1e-1])}
+    )
     cell = Cell(left=silver_chloride_electrode(3.0), right=IonSelectiveElectrode("Ca^2+", E0=0.0))
     res = cell.evaluate(std, "davies")
     a_ca = act.activities(std, "davies")["Ca^2+"]
@@ -320,7 +329,9 @@ def test_cli_potential_and_cell(capsys):
     doc = json.loads(out)
     sol = act.Solution({"K+": 0.01, "Cl-": 0.01})
     assert doc["results"]["E"]["value"] == pytest.approx(standard_couple("AgCl/Ag").potential(sol, "davies"), abs=1e-15)
-    rc, out, _ = _run_cli(capsys, "cell", "--left", "H+/H2", "--right", "AgCl/Ag", "H+=0.01 mol/kg", "Cl-=0.01 mol/kg", "--csv")
+    rc, out, _ = _run_cli(
+        capsys, "cell", "--left", "H+/H2", "--right", "AgCl/Ag", "H+=0.01 mol/kg", "Cl-=0.01 mol/kg", "--csv"
+    )
     assert rc == 0
     emf = float([line for line in out.splitlines() if line.startswith("EMF,")][0].split(",")[1])
     assert emf == pytest.approx(harned_cell().emf(HCL, "davies"), abs=1e-15)
@@ -329,12 +340,16 @@ def test_cli_potential_and_cell(capsys):
 def test_cli_reference_and_invert(capsys):
     rc, out, _ = _run_cli(capsys, "reference", "calomel")
     assert rc == 0 and "common practice" in out
-    rc, out, _ = _run_cli(capsys, "invert", "--couple", "Ag+/Ag", "--reading", "500 mV", "K+=0.1 mol/kg", "NO3-=0.1 mol/kg", "--json")
+    rc, out, _ = _run_cli(
+        capsys, "invert", "--couple", "Ag+/Ag", "--reading", "500 mV", "K+=0.1 mol/kg", "NO3-=0.1 mol/kg", "--json"
+    )
     assert rc == 0
     import json
 
     m = json.loads(out)["results"]["molality"]["value"]
-    back = standard_couple("Ag+/Ag").potential(act.Solution({"K+": 0.1, "NO3-": 0.1, "Ag+": m}, neutrality="ignore"), "davies")
+    back = standard_couple("Ag+/Ag").potential(
+        act.Solution({"K+": 0.1, "NO3-": 0.1, "Ag+": m}, neutrality="ignore"), "davies"
+    )
     assert back == pytest.approx(0.5, abs=1e-12)
 
 
@@ -346,8 +361,20 @@ def test_cli_reference_and_invert(capsys):
         (("invert", "--reading", "0.5 V", "K+=0.1 mol/kg", "Cl-=0.1 mol/kg"), "electrode"),
         (("invert", "--ise", "Ca2+", "--reading", "0.5", "K+=0.1 mol/kg", "Cl-=0.1 mol/kg"), "e0"),
         # a reference electrode named as the measuring couple: one line, not a traceback
-        (("invert", "--couple", "calomel", "--against", "silver-chloride", "--reading", "0.1 V", "K+=0.1 mol/kg",
-          "Cl-=0.1 mol/kg"), "couple"),
+        (
+            (
+                "invert",
+                "--couple",
+                "calomel",
+                "--against",
+                "silver-chloride",
+                "--reading",
+                "0.1 V",
+                "K+=0.1 mol/kg",
+                "Cl-=0.1 mol/kg",
+            ),
+            "couple",
+        ),
     ],
 )
 def test_cli_errors_are_one_line_exit_2(capsys, argv, field):

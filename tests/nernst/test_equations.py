@@ -1,12 +1,13 @@
 """Electrochemical thermodynamics: μ̃, ΔrG̃, E and the Nernst slope."""
+
 import numpy as np
 import pytest
 import scipy.constants as sc
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from activity.nernst import equations as ec
 from activity.errors import InputError
+from activity.nernst import equations as ec
 
 FARADAY = sc.physical_constants["Faraday constant"][0]
 

@@ -1,15 +1,16 @@
 """Potential → activity → molality, and round trips."""
+
 import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import activity as act
+from activity.errors import ConvergenceError, InputError
 from activity.nernst.cell import Cell
 from activity.nernst.electrodes import IonSelectiveElectrode, silver_chloride_electrode
-from activity.errors import ConvergenceError, InputError
-from activity.nernst.inverse import activity_from_potential, molality_from_emf, molality_from_potential
 from activity.nernst.half_reaction import standard_couple
+from activity.nernst.inverse import activity_from_potential, molality_from_emf, molality_from_potential
 
 pytestmark = pytest.mark.filterwarnings("ignore::activity.errors.ValidityWarning")
 
@@ -26,7 +27,9 @@ def test_activity_from_potential_ise_with_interference():
     ise = IonSelectiveElectrode("Ca^2+", E0=0.02, selectivity={"Mg^2+": 0.05})
     sol = act.Solution({"Ca^2+": 1e-4, "Mg^2+": 2e-3, "Cl-": 4.2e-3})
     E = ise.potential(sol, "davies")
-    assert activity_from_potential(ise, E, sol, "davies") == pytest.approx(act.activities(sol, "davies")["Ca^2+"], rel=1e-10)
+    assert activity_from_potential(ise, E, sol, "davies") == pytest.approx(
+        act.activities(sol, "davies")["Ca^2+"], rel=1e-10
+    )
     floor = ise.potential(sol.replace({"Ca^2+": 0.0}), "davies")
     with pytest.raises(InputError, match="interfering"):
         activity_from_potential(ise, floor - 0.001, sol, "davies")
@@ -34,9 +37,13 @@ def test_activity_from_potential_ise_with_interference():
 
 def test_determinand_choice():
     with pytest.raises(InputError, match="which species"):
-        activity_from_potential(standard_couple("Fe3+/Fe2+"), 0.7, act.Solution({"Fe^3+": 1e-3, "Fe^2+": 1e-3, "Cl-": 5e-3}))
+        activity_from_potential(
+            standard_couple("Fe3+/Fe2+"), 0.7, act.Solution({"Fe^3+": 1e-3, "Fe^2+": 1e-3, "Cl-": 5e-3})
+        )
     with pytest.raises(InputError, match="responds to"):
-        molality_from_potential(IonSelectiveElectrode("Ca^2+", 0.0), 0.0, act.Solution({"K+": 0.1, "Cl-": 0.1}), species="K+")
+        molality_from_potential(
+            IonSelectiveElectrode("Ca^2+", 0.0), 0.0, act.Solution({"K+": 0.1, "Cl-": 0.1}), species="K+"
+        )
 
 
 @settings(max_examples=40, deadline=None)
@@ -84,10 +91,14 @@ def test_round_trip_batch_vectorised():
 @given(m=st.floats(1e-4, 0.05))
 def test_round_trip_cell_with_junction(m):
     # the Henderson term depends on the unknown too; it is recomputed at every step
-    cell = Cell(left=silver_chloride_electrode(3.0), right=IonSelectiveElectrode("Ca^2+", E0=0.05), junction="henderson")
+    cell = Cell(
+        left=silver_chloride_electrode(3.0), right=IonSelectiveElectrode("Ca^2+", E0=0.05), junction="henderson"
+    )
     full = act.Solution({"Ca^2+": m, "K+": 0.01, "Cl-": 0.01 + 2 * m})
     emf = cell.emf(full, "davies")
-    res = molality_from_emf(cell, emf, act.Solution({"K+": 0.01, "Cl-": 0.01}), "davies", species="Ca^2+", counter_ion="Cl-")
+    res = molality_from_emf(
+        cell, emf, act.Solution({"K+": 0.01, "Cl-": 0.01}), "davies", species="Ca^2+", counter_ion="Cl-"
+    )
     assert res.molality == pytest.approx(m, rel=1e-9)
 
 
@@ -95,7 +106,15 @@ def test_harned_cell_inverse():
     # both electrodes see HCl; solve for H+ with Cl- as its counter-ion
     cell = Cell(left=standard_couple("H+/H2"), right=standard_couple("AgCl/Ag"))
     emf = cell.emf(act.Solution({"H+": 0.01, "Cl-": 0.01}), "davies", pressures={"H2(g)": 1e5})
-    res = molality_from_emf(cell, emf, act.Solution({"Na+": 1e-9, "Cl-": 1e-9}), "davies", species="H+", counter_ion="Cl-", pressures={"H2(g)": 1e5})
+    res = molality_from_emf(
+        cell,
+        emf,
+        act.Solution({"Na+": 1e-9, "Cl-": 1e-9}),
+        "davies",
+        species="H+",
+        counter_ion="Cl-",
+        pressures={"H2(g)": 1e5},
+    )
     assert res.molality == pytest.approx(0.01, rel=1e-6)
 
 
@@ -134,6 +153,7 @@ def test_model_named_once_is_parsed_once(monkeypatch):
     monkeypatch.setattr(_params, "parse_parameters", counting)
     if hasattr(_model, "parse_parameters"):
         monkeypatch.setattr(_model, "parse_parameters", counting)
-    res = molality_from_emf(cell, -0.2, act.Solution({"K+": 0.1, "Cl-": 0.1}), "pitzer", species="Ca2+",
-                            counter_ion="Cl-")
+    res = molality_from_emf(
+        cell, -0.2, act.Solution({"K+": 0.1, "Cl-": 0.1}), "pitzer", species="Ca2+", counter_ion="Cl-"
+    )
     assert res.iterations > 2 and len(calls) == 1

@@ -1,7 +1,9 @@
 """The ion-selective electrode's fast path (shared γ) equals the general Nikolsky–Eisenman form."""
+
 import numpy as np
 import pytest
-from hypothesis import given, strategies as st
+from hypothesis import given
+from hypothesis import strategies as st
 
 import activity as act
 

@@ -1,4 +1,5 @@
 """Henderson liquid-junction potentials; Lewis–Sargent check."""
+
 import numpy as np
 import pytest
 

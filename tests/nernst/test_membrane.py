@@ -1,4 +1,5 @@
 """Membrane potentials: each reduces to the Nernst equation for a single ion."""
+
 import numpy as np
 import pytest
 from hypothesis import given, settings

@@ -18,9 +18,14 @@ def test_standard_uncertainties_of_type_b_distributions():
     assert Rectangular(1.0, 0.6, dof=12).dof == 12.0
 
 
-@pytest.mark.parametrize("dist", [
-    Normal(2.0, 0.3), Rectangular(-1.0, 0.5), Triangular(4.0, 1.2),
-])
+@pytest.mark.parametrize(
+    "dist",
+    [
+        Normal(2.0, 0.3),
+        Rectangular(-1.0, 0.5),
+        Triangular(4.0, 1.2),
+    ],
+)
 def test_sample_moments_match_stated_mean_and_u(dist):
     # Sample mean and sd of 200 000 draws agree with the stated mean and u
     # (standard error of the mean u/sqrt(n) = 0.0022 u; of the sd < 0.2 %).
@@ -31,9 +36,15 @@ def test_sample_moments_match_stated_mean_and_u(dist):
     assert x.std(ddof=1) == pytest.approx(u, rel=0.01)
 
 
-@pytest.mark.parametrize("dist", [
-    Normal(2.0, 0.3), Rectangular(-1.0, 0.5), Triangular(4.0, 1.2), StudentT(1.0, 0.2, 4),
-])
+@pytest.mark.parametrize(
+    "dist",
+    [
+        Normal(2.0, 0.3),
+        Rectangular(-1.0, 0.5),
+        Triangular(4.0, 1.2),
+        StudentT(1.0, 0.2, 4),
+    ],
+)
 def test_ppf_is_inverse_of_sampling_distribution(dist):
     # Empirical quantiles of draws match ppf at the same probabilities. The standard error
     # of a sample quantile is √(p(1−p)/n)/f(x_p) (common practice): at p = 0.05, n = 2e5 it
@@ -41,8 +52,7 @@ def test_ppf_is_inverse_of_sampling_distribution(dist):
     # than 4 standard errors for every case here.
     q = np.array([0.05, 0.25, 0.5, 0.75, 0.95])
     draws = dist.sample(np.random.default_rng(3), 200_000)
-    assert np.allclose(np.quantile(draws, q), dist.ppf(q), rtol=0,
-                       atol=0.04 * dist.standard_uncertainty)
+    assert np.allclose(np.quantile(draws, q), dist.ppf(q), rtol=0, atol=0.04 * dist.standard_uncertainty)
 
 
 def test_triangular_ppf_exact_points():
@@ -66,16 +76,19 @@ def test_measured_picks_normal_or_student_t():
     assert isinstance(t, StudentT) and t.dof == 7.0 and t.standard_uncertainty == 0.1
 
 
-@pytest.mark.parametrize("make, field", [
-    (lambda: Normal(1.0, -0.1), "sd"),
-    (lambda: Normal(float("nan"), 0.1), "mean"),
-    (lambda: Rectangular(0.0, -1.0), "half_width"),
-    (lambda: Triangular("a", 1.0), "centre"),
-    (lambda: StudentT(0.0, 1.0, 0), "dof"),
-    (lambda: StudentT(0.0, 1.0, math.inf), "dof"),
-    (lambda: Normal(0.0, 1.0, dof=-2), "dof"),
-    (lambda: measured(0.0, -1.0), "sd"),
-])
+@pytest.mark.parametrize(
+    "make, field",
+    [
+        (lambda: Normal(1.0, -0.1), "sd"),
+        (lambda: Normal(float("nan"), 0.1), "mean"),
+        (lambda: Rectangular(0.0, -1.0), "half_width"),
+        (lambda: Triangular("a", 1.0), "centre"),
+        (lambda: StudentT(0.0, 1.0, 0), "dof"),
+        (lambda: StudentT(0.0, 1.0, math.inf), "dof"),
+        (lambda: Normal(0.0, 1.0, dof=-2), "dof"),
+        (lambda: measured(0.0, -1.0), "sd"),
+    ],
+)
 def test_bad_parameters_raise_input_error_naming_field(make, field):
     with pytest.raises(InputError) as info:
         make()

@@ -9,8 +9,7 @@ from hypothesis import strategies as st
 from scipy import constants, optimize, special
 
 from activity.errors import ActivityWarning, InputError
-from activity.uncertainty import (Normal, Rectangular, StudentT, Triangular, propagate,
-                                  validate_gum)
+from activity.uncertainty import Normal, Rectangular, StudentT, Triangular, propagate, validate_gum
 from activity.uncertainty.montecarlo import block_size, numerical_tolerance
 
 R = constants.R  # CODATA via scipy.constants
@@ -27,9 +26,11 @@ def irwin_hall_quantile(p, n=4):
 
     CDF F(x) = (1/n!) Σ_{k=0}^{floor x} (-1)^k C(n,k) (x-k)^n (common practice).
     """
+
     def cdf(x):
         k = np.arange(math.floor(x) + 1)
         return np.sum((-1.0) ** k * special.comb(n, k) * (x - k) ** n) / math.factorial(n)
+
     return optimize.brentq(lambda x: cdf(x) - p, 0.0, float(n), xtol=1e-12)
 
 
@@ -79,8 +80,8 @@ def test_monte_carlo_agrees_with_gum_for_near_linear_nernst():
     # linear, so MC and GUM agree (JCGM 101:2008 clause 8 logic; common practice).
     def nernst(E0, T, a):
         return E0 + R * T * np.log(10) / F * np.log10(a)
-    inputs = {"E0": Normal(0.22233, 0.0003), "T": Triangular(298.15, 0.5),
-              "a": Normal(0.01, 0.0001)}
+
+    inputs = {"E0": Normal(0.22233, 0.0003), "T": Triangular(298.15, 0.5), "a": Normal(0.01, 0.0001)}
     gum = propagate(nernst, inputs)
     mc = propagate(nernst, inputs, "monte-carlo", trials=200_000, seed=5)
     assert mc.value == pytest.approx(gum.value, abs=3e-6)
@@ -96,8 +97,7 @@ def test_skewed_output_shortest_interval_is_shorter():
     # Y = exp(X), X ~ N(0, 0.5²): lognormal, symmetric 95 % interval
     # exp(±1.95996·0.5) = [0.3753, 2.6645] (lognormal quantiles, common practice);
     # for a right-skewed density the shortest interval is shorter and lies lower.
-    mc = propagate(lambda x: np.exp(x), {"x": Normal(0.0, 0.5)}, "monte-carlo",
-                   trials=400_000, seed=8)
+    mc = propagate(lambda x: np.exp(x), {"x": Normal(0.0, 0.5)}, "monte-carlo", trials=400_000, seed=8)
     low, high = mc.coverage_interval(kind="symmetric")
     assert low == pytest.approx(0.3753, rel=0.01)
     assert high == pytest.approx(2.6645, rel=0.01)
@@ -111,10 +111,8 @@ def test_correlated_inputs_monte_carlo():
     # (JCGM 100:2008 eq. 16, hand-computed).
     inputs = {"x1": Normal(1.0, 1.0), "x2": Normal(2.0, 1.0)}
     f = lambda x1, x2: x1 + x2  # noqa: E731
-    plus = propagate(f, inputs, "monte-carlo", trials=100_000, seed=1,
-                     correlation={("x1", "x2"): 1.0})
-    minus = propagate(f, inputs, "monte-carlo", trials=100_000, seed=1,
-                      correlation={("x1", "x2"): -1.0})
+    plus = propagate(f, inputs, "monte-carlo", trials=100_000, seed=1, correlation={("x1", "x2"): 1.0})
+    minus = propagate(f, inputs, "monte-carlo", trials=100_000, seed=1, correlation={("x1", "x2"): -1.0})
     assert plus.standard_uncertainty == pytest.approx(2.0, rel=0.01)
     assert minus.standard_uncertainty == pytest.approx(0.0, abs=1e-9)
     assert minus.value == pytest.approx(3.0, abs=1e-9)
@@ -126,8 +124,9 @@ def test_gaussian_copula_with_rectangular_marginals():
     # so u(x1 + x2)² = 2 + 2·0.4826 for unit u, i.e. 1.7219, slightly below
     # the GUM 1.7321.
     inputs = {"x1": Rectangular(0.0, math.sqrt(3)), "x2": Rectangular(0.0, math.sqrt(3))}
-    mc = propagate(lambda x1, x2: x1 + x2, inputs, "monte-carlo", trials=1_000_000,
-                   seed=2, correlation={("x1", "x2"): 0.5})
+    mc = propagate(
+        lambda x1, x2: x1 + x2, inputs, "monte-carlo", trials=1_000_000, seed=2, correlation={("x1", "x2"): 0.5}
+    )
     rho = 6 / math.pi * math.asin(0.25)
     assert mc.standard_uncertainty == pytest.approx(math.sqrt(2 + 2 * rho), abs=0.004)
     # Each marginal keeps its bounds: |x1 + x2| <= 2√3.
@@ -167,8 +166,7 @@ def test_chunks_are_batched_calls():
         sizes.append(np.size(x))
         return 2 * x
 
-    result = propagate(f, {"x": Normal(0.0, 1.0)}, "monte-carlo", trials=25_000,
-                       chunk_size=10_000, seed=0)
+    result = propagate(f, {"x": Normal(0.0, 1.0)}, "monte-carlo", trials=25_000, chunk_size=10_000, seed=0)
     # Three Monte Carlo chunks, then one GUM call (5 rows) for the budget.
     assert sizes == [10_000, 10_000, 5_000, 5]
     assert result.trials == 25_000
@@ -180,7 +178,7 @@ def test_adaptive_procedure_meets_its_tolerance():
     assert block_size(0.95) == 10_000
     assert numerical_tolerance(2.0, 2) == 0.05
     assert numerical_tolerance(0.0123, 2) == pytest.approx(0.0005)
-    assert numerical_tolerance(9.97, 2) == pytest.approx(0.5)   # 9.97 -> "10"
+    assert numerical_tolerance(9.97, 2) == pytest.approx(0.5)  # 9.97 -> "10"
     mc = propagate(additive, RECTANGULAR_INPUTS, "monte-carlo", seed=3)
     assert mc.converged is True
     assert mc.trials % 10_000 == 0 and mc.trials >= 20_000
@@ -199,8 +197,7 @@ def test_adaptive_procedure_meets_its_tolerance():
 
 def test_adaptive_procedure_warns_when_limit_reached():
     with pytest.warns(ActivityWarning, match="max_trials"):
-        mc = propagate(additive, NORMAL_INPUTS, "monte-carlo", seed=1, tolerance=1e-5,
-                       max_trials=40_000)
+        mc = propagate(additive, NORMAL_INPUTS, "monte-carlo", seed=1, tolerance=1e-5, max_trials=40_000)
     assert mc.converged is False and mc.trials == 40_000
 
 
@@ -217,8 +214,7 @@ def test_validate_gum_fails_for_strongly_nonlinear_model():
     # Y = X², X ~ N(0, 1): the first-order GUM gives u = 0 while Y follows
     # chi-squared with 1 dof, 97.5 % quantile 5.024 (chi-squared table, common
     # practice); the GUM is not validated.
-    v = validate_gum(lambda x: x**2, {"x": Normal(0.0, 1.0)}, seed=1, digits=1,
-                     mc_tolerance=0.05)
+    v = validate_gum(lambda x: x**2, {"x": Normal(0.0, 1.0)}, seed=1, digits=1, mc_tolerance=0.05)
     assert not v.passed
     assert v.gum.standard_uncertainty == pytest.approx(0.0, abs=1e-9)
     assert v.monte_carlo.coverage_interval()[1] == pytest.approx(5.024, abs=0.1)
@@ -228,12 +224,10 @@ def test_validate_gum_fails_for_strongly_nonlinear_model():
 
 def test_monte_carlo_errors():
     with pytest.raises(InputError) as info, np.errstate(all="ignore"):
-        propagate(lambda x: np.log(x), {"x": Normal(0.01, 0.01)}, "monte-carlo",
-                  trials=10_000, seed=0)
+        propagate(lambda x: np.log(x), {"x": Normal(0.01, 0.01)}, "monte-carlo", trials=10_000, seed=0)
     assert info.value.field == "f" and "non-finite" in str(info.value)
     with pytest.raises(InputError) as info:
-        propagate(lambda x: x, {"x": Normal(0, 1)}, "monte-carlo", trials=10,
-                  seed=0).coverage_interval(0.95)
+        propagate(lambda x: x, {"x": Normal(0, 1)}, "monte-carlo", trials=10, seed=0).coverage_interval(0.95)
     assert info.value.field == "p"
     with pytest.raises(InputError) as info:
         propagate(lambda x: x, {"x": Normal(0, 1)}, "monte-carlo", max_trials=100)
@@ -241,13 +235,11 @@ def test_monte_carlo_errors():
 
 
 @settings(max_examples=25, deadline=None)
-@given(mean=st.floats(-100, 100), u=st.floats(0.01, 10), a=st.floats(-10, 10),
-       seed=st.integers(0, 2**32 - 1))
+@given(mean=st.floats(-100, 100), u=st.floats(0.01, 10), a=st.floats(-10, 10), seed=st.integers(0, 2**32 - 1))
 def test_monte_carlo_mean_converges(mean, u, a, seed):
     # For Y = aX the Monte Carlo mean has standard error |a| u / sqrt(M); a
     # 5-sigma bound fails with probability below 1e-6 per example (common practice).
     trials = 20_000
-    mc = propagate(lambda x: a * x, {"x": Rectangular(mean, u * math.sqrt(3))},
-                   "monte-carlo", trials=trials, seed=seed)
+    mc = propagate(lambda x: a * x, {"x": Rectangular(mean, u * math.sqrt(3))}, "monte-carlo", trials=trials, seed=seed)
     assert abs(mc.value - a * mean) <= 5 * abs(a) * u / math.sqrt(trials) + 1e-9 * abs(a * mean)
     assert mc.standard_uncertainty == pytest.approx(abs(a) * u, rel=0.05, abs=1e-12)

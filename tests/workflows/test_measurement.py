@@ -1,4 +1,6 @@
-"""Uncertainty through the chain Solution → model → Nernst → inverse (activity.workflows.measurement) and its CLI options."""
+"""Uncertainty through the chain Solution → model → Nernst → inverse (activity.workflows.measurement)
+and its CLI options."""
+
 import json
 import math
 
@@ -6,14 +8,14 @@ import numpy as np
 import pytest
 
 from activity import Solution, debye_huckel_A
-from activity.nernst.cell import Cell
-from activity.workflows.measurement import emf_with_uncertainty, molality_with_uncertainty, potential_with_uncertainty
 from activity.cli.main import main
 from activity.constants import LN10, F, R
-from activity.nernst.equations import nernst_slope
-from activity.nernst.electrodes import IonSelectiveElectrode, silver_chloride_electrode
 from activity.errors import InputError
+from activity.nernst.cell import Cell
+from activity.nernst.electrodes import IonSelectiveElectrode, silver_chloride_electrode
+from activity.nernst.equations import nernst_slope
 from activity.nernst.half_reaction import standard_couple
+from activity.workflows.measurement import emf_with_uncertainty, molality_with_uncertainty, potential_with_uncertainty
 
 
 def kcl(m, T=298.15):
@@ -100,8 +102,9 @@ def test_inverse_uncertainty_equals_analytic_propagation_ideal_model():
     # the secant solve (rtol 1e-10): 1e-5 relative.
     ise = IonSelectiveElectrode("Ca^2+", E0=0.1)
     u_E = 3e-4
-    res = molality_with_uncertainty(ise, -0.05, kcl(1e-5), "ideal", counter_ion="Cl-", u_reading=u_E,
-                                    spread_models=["ideal"])
+    res = molality_with_uncertainty(
+        ise, -0.05, kcl(1e-5), "ideal", counter_ion="Cl-", u_reading=u_E, spread_models=["ideal"]
+    )
     s = nernst_slope(298.15, 2)
     m = 10 ** ((-0.05 - 0.1) / s)
     assert res.value == pytest.approx(m, rel=1e-9)
@@ -116,8 +119,9 @@ def test_inverse_uncertainty_dilute_davies_close_to_analytic():
     ise = IonSelectiveElectrode("Ca^2+", E0=0.1)
     u_E = 2e-4
     s = nernst_slope(298.15, 2)
-    res = molality_with_uncertainty(ise, 0.1 - 6 * s, kcl(1e-6), "davies", counter_ion="Cl-", u_reading=u_E,
-                                    spread_models=["davies"])
+    res = molality_with_uncertainty(
+        ise, 0.1 - 6 * s, kcl(1e-6), "davies", counter_ion="Cl-", u_reading=u_E, spread_models=["davies"]
+    )
     analytic = res.value * LN10 * u_E / s
     assert 1.0 < res.standard_uncertainty / analytic < 1.01
 
@@ -125,27 +129,47 @@ def test_inverse_uncertainty_dilute_davies_close_to_analytic():
 def test_inverse_through_a_cell_recovers_the_standard_and_budget_names():
     # Round trip: the EMF of a 2 mmol/kg standard, inverted, gives 2 mmol/kg back (the
     # inverse's own docstring example); every stated input appears in the budget.
-    cell = Cell(left=silver_chloride_electrode(3.0), right=IonSelectiveElectrode("Ca^2+", E0=0.05, selectivity={"Mg2+": 0.01}))
+    cell = Cell(
+        left=silver_chloride_electrode(3.0), right=IonSelectiveElectrode("Ca^2+", E0=0.05, selectivity={"Mg2+": 0.01})
+    )
     matrix = Solution({"K+": 0.1, "Cl-": 0.1, "Mg2+": 1e-3}, neutrality="ignore")
     emf = cell.emf(Solution({"Ca^2+": 0.002, "K+": 0.1, "Cl-": 0.104, "Mg2+": 1e-3}, neutrality="ignore"))
-    res = molality_with_uncertainty(cell, emf, matrix, counter_ion="Cl-", u_reading=3e-4, u_e0=5e-4,
-                                    u_amount={"K+": 0.01}, u_temperature=0.2, u_selectivity={"Mg2+": 0.002},
-                                    spread_models=["davies"])
+    res = molality_with_uncertainty(
+        cell,
+        emf,
+        matrix,
+        counter_ion="Cl-",
+        u_reading=3e-4,
+        u_e0=5e-4,
+        u_amount={"K+": 0.01},
+        u_temperature=0.2,
+        u_selectivity={"Mg2+": 0.002},
+        spread_models=["davies"],
+    )
     assert res.value == pytest.approx(0.002, rel=1e-8)
     names = [row.name for row in res.propagation.budget]
-    assert names == ["m(K+) [mol/kg]", "T [K]", "E°(left: AgCl/Ag in 3 mol/L KCl) [V]",
-                     "E°(right: Ca^2+ ion-selective electrode) [V]", "K(Mg^2+)", "reading [V]"]
+    assert names == [
+        "m(K+) [mol/kg]",
+        "T [K]",
+        "E°(left: AgCl/Ag in 3 mol/L KCl) [V]",
+        "E°(right: Ca^2+ ion-selective electrode) [V]",
+        "K(Mg^2+)",
+        "reading [V]",
+    ]
     rows = dict(zip(names, res.propagation.budget))
     # a larger K means more of the EMF is explained by Mg²⁺: less calcium
     assert rows["K(Mg^2+)"].sensitivity < 0
     # the reading and E°(right) enter as E − E°: equal and opposite sensitivities
-    assert rows["reading [V]"].sensitivity == pytest.approx(-rows["E°(right: Ca^2+ ion-selective electrode) [V]"].sensitivity, rel=1e-6)
+    assert rows["reading [V]"].sensitivity == pytest.approx(
+        -rows["E°(right: Ca^2+ ion-selective electrode) [V]"].sensitivity, rel=1e-6
+    )
 
 
 # ------------------------------------------------------------ model choice
 def test_model_spread_is_zero_for_one_model():
-    res = potential_with_uncertainty(standard_couple("AgCl/Ag"), kcl(0.1), "davies", u_amount=0.01,
-                                     spread_models=["davies"])
+    res = potential_with_uncertainty(
+        standard_couple("AgCl/Ag"), kcl(0.1), "davies", u_amount=0.01, spread_models=["davies"]
+    )
     assert list(res.spread.values) == ["davies"]
     assert res.spread.spread == 0.0
     assert res.spread.values["davies"] == pytest.approx(res.value, abs=1e-15)
@@ -174,8 +198,16 @@ def test_validity_warnings_during_monte_carlo_become_one_note():
     from activity.errors import ValidityWarning
 
     with pytest.warns(ValidityWarning, match=r"4 batch call\(s\) outside a validity") as seen:
-        res = potential_with_uncertainty(standard_couple("AgCl/Ag"), kcl(0.1), "extended-debye-huckel", u_amount=0.05,
-                                         method="monte-carlo", trials=300_000, seed=1, spread_models=["davies"])
+        res = potential_with_uncertainty(
+            standard_couple("AgCl/Ag"),
+            kcl(0.1),
+            "extended-debye-huckel",
+            u_amount=0.05,
+            method="monte-carlo",
+            trials=300_000,
+            seed=1,
+            spread_models=["davies"],
+        )
     assert len([w for w in seen if issubclass(w.category, ValidityWarning)]) == 1
     assert [n for n in res.notes if n.startswith("during the propagation")] == [str(seen[0].message)]
 
@@ -199,8 +231,21 @@ def test_library_input_errors_name_the_field():
 
 # ------------------------------------------------------------ command line
 CELL = ["cell", "--left", "silver-chloride:3 mol/L", "--right", "AgCl/Ag", "K+=0.1 mol/L", "Cl-=0.1 mol/L"]
-INVERT = ["invert", "--ise", "Ca2+", "--e0", "50 mV", "--reading", "-260 mV", "--against", "silver-chloride:3 mol/L",
-          "--counter-ion", "Cl-", "K+=0.1 mol/L", "Cl-=0.1 mol/L"]
+INVERT = [
+    "invert",
+    "--ise",
+    "Ca2+",
+    "--e0",
+    "50 mV",
+    "--reading",
+    "-260 mV",
+    "--against",
+    "silver-chloride:3 mol/L",
+    "--counter-ion",
+    "Cl-",
+    "K+=0.1 mol/L",
+    "Cl-=0.1 mol/L",
+]
 
 
 def test_cli_cell_prints_budget_and_model_choice(capsys):
@@ -228,7 +273,10 @@ def test_cli_invert_json_has_budget_and_spread(capsys):
 
 
 def test_cli_monte_carlo_and_csv(capsys):
-    assert main(INVERT + ["--u-reading", "0.3 mV", "--method", "monte-carlo", "--trials", "20000", "--seed", "3", "--csv"]) == 0
+    assert (
+        main(INVERT + ["--u-reading", "0.3 mV", "--method", "monte-carlo", "--trials", "20000", "--seed", "3", "--csv"])
+        == 0
+    )
     lines = capsys.readouterr().out.strip().splitlines()
     assert lines[0] == "name,distribution,value,standard_uncertainty,dof,sensitivity,contribution,share"
     assert lines[1].startswith("reading [V],normal,-0.26,0.0003,")
@@ -237,8 +285,25 @@ def test_cli_monte_carlo_and_csv(capsys):
 
 def test_cli_relative_selectivity_uncertainty(capsys):
     # '20%' of K = 0.01 is u(K) = 0.002; the ion may be spelt 'Mg2+' in one option and 'Mg^2+' in the other
-    args = ["invert", "--ise", "Ca2+", "--e0", "52.1 mV", "--selectivity", "Mg^2+=0.01", "--reading", "-50 mV",
-            "K+=0.1 mol/L", "Cl-=0.102 mol/L", "Mg2+=1 mmol/L", "--counter-ion", "Cl-", "--u-selectivity", "Mg2+=20%", "--csv"]
+    args = [
+        "invert",
+        "--ise",
+        "Ca2+",
+        "--e0",
+        "52.1 mV",
+        "--selectivity",
+        "Mg^2+=0.01",
+        "--reading",
+        "-50 mV",
+        "K+=0.1 mol/L",
+        "Cl-=0.102 mol/L",
+        "Mg2+=1 mmol/L",
+        "--counter-ion",
+        "Cl-",
+        "--u-selectivity",
+        "Mg2+=20%",
+        "--csv",
+    ]
     assert main(args) == 0
     lines = capsys.readouterr().out.strip().splitlines()
     name, dist, value, u = lines[1].split(",")[:4]
@@ -246,15 +311,18 @@ def test_cli_relative_selectivity_uncertainty(capsys):
     assert float(value) == 0.01 and float(u) == pytest.approx(0.002, rel=1e-12)
 
 
-@pytest.mark.parametrize("extra, field", [
-    (["--u-amount", "1"], "--u-amount"),            # no % sign
-    (["--u-amount=-1%"], "--u-amount"),              # negative
-    (["--u-e0", "-0.3 mV"], "--u-e0"),               # negative
-    (["--u-temperature", "0.2"], "--u-temperature"),  # no unit
-    (["--u", "Cl-=0.1"], "--u Cl-"),                 # no unit
-    (["--u", "Cl-=-1%"], "--u Cl-"),                 # negative
-    (["--seed", "3"], "--seed"),                     # nothing uncertain stated
-])
+@pytest.mark.parametrize(
+    "extra, field",
+    [
+        (["--u-amount", "1"], "--u-amount"),  # no % sign
+        (["--u-amount=-1%"], "--u-amount"),  # negative
+        (["--u-e0", "-0.3 mV"], "--u-e0"),  # negative
+        (["--u-temperature", "0.2"], "--u-temperature"),  # no unit
+        (["--u", "Cl-=0.1"], "--u Cl-"),  # no unit
+        (["--u", "Cl-=-1%"], "--u Cl-"),  # negative
+        (["--seed", "3"], "--seed"),  # nothing uncertain stated
+    ],
+)
 def test_cli_bad_uncertainty_text_exits_2_with_one_line(capsys, extra, field):
     assert main(CELL + extra) == 2
     captured = capsys.readouterr()

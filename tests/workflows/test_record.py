@@ -1,4 +1,5 @@
 """HTML records and plot files: escaping, self-containment, whole-or-nothing writes."""
+
 from __future__ import annotations
 
 import pytest
@@ -35,7 +36,7 @@ def test_figure_is_inline_svg_and_files_written_by_suffix(tmp_path):
     rec = Record("r")
     rec.figure(fig, caption="line")
     html = rec.to_html(generated="t")
-    assert "<svg" in html and "<?xml" not in html and "src=\"http" not in html
+    assert "<svg" in html and "<?xml" not in html and 'src="http' not in html
     fig, ax = plt.subplots()
     ax.plot([0, 1], [1, 0])
     out = save_figure(fig, tmp_path / "p.png")

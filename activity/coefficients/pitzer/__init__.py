@@ -4,6 +4,7 @@ Modules: ``_params`` (file layout, validation, temperature functions), ``_bindin
 (species-set binding), ``_kernel`` (the equations), ``_unsym`` (J, Eθ), ``_model``
 (the :class:`PitzerModel` class).
 """
+
 from ._model import PitzerModel
 from ._params import ParameterSet, load_parameters
 from ._unsym import e_theta, j_pitzer1975

@@ -5,6 +5,7 @@ Everything here depends on the species set only. Coefficients are kept as basis 
 temperature or at an array of temperatures is a single matrix product
 (:meth:`Bound.at`).
 """
+
 from __future__ import annotations
 
 from dataclasses import dataclass, field
@@ -15,6 +16,7 @@ import numpy as np
 from ._params import ParameterSet, basis
 
 __all__ = ["Bound", "bind"]
+
 
 def default_alpha(zc: int, za: int) -> tuple[float, float]:
     """(α1, α2) in (kg/mol)^½ by charge type (Pitzer 1991, ch. 3; common practice).
@@ -188,6 +190,18 @@ def bind(params: ParameterSet, species: tuple, charges: np.ndarray) -> Bound:
     if missing:
         notes = (f"pitzer: no parameters for {', '.join(missing)}; those terms are absent",)
     return Bound(
-        tuple(species), z, cat, an, neu, alphas, blocks, flags, etc, eta, tuple(checks), check_arrays,
-        tuple(missing), notes,
+        tuple(species),
+        z,
+        cat,
+        an,
+        neu,
+        alphas,
+        blocks,
+        flags,
+        etc,
+        eta,
+        tuple(checks),
+        check_arrays,
+        tuple(missing),
+        notes,
     )

@@ -18,6 +18,7 @@ published expressions evaluated here, and the osmotic coefficient follows as
 
 Bφ = β0 + β1 e^(−α1√I) + β2 e^(−α2√I), Φφ = Φ + I Φ′.
 """
+
 from __future__ import annotations
 
 import numpy as np
@@ -151,7 +152,5 @@ def evaluate(bound, P: dict, rowwise: bool, m: np.ndarray, I: np.ndarray, Aphi, 
         with np.errstate(divide="ignore", invalid="ignore"):
             out["phi"] = 1.0 + np.where(total > 0, acc / np.where(total > 0, total, 1.0), 0.0)
     if "gex" in want:
-        out["gex"] = (
-            -Aphi * (4.0 * I / B_CONST) * ln1 + 2.0 * (SB0 + Sg) + Z * SC + sPhi + 0.5 * sPsi + lam_q + zeta_q
-        )
+        out["gex"] = -Aphi * (4.0 * I / B_CONST) * ln1 + 2.0 * (SB0 + Sg) + Z * SC + sPhi + 0.5 * sPsi + lam_q + zeta_q
     return out

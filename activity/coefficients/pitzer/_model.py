@@ -1,4 +1,5 @@
 """The Pitzer ion-interaction model as an :class:`~activity.coefficients.base.ActivityModel`."""
+
 from __future__ import annotations
 
 import warnings

@@ -23,11 +23,13 @@ for P(T) = a1 + a2 (1/T − 1/Tr) + a3 ln(T/Tr) + a4 (T − Tr) with Tr = 298.15
 common form of Pitzer 1991, ch. 3). Entries of a later file replace entries of an earlier
 one with the same interaction key, whatever the order of the ions in the key.
 """
+
 from __future__ import annotations
 
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Iterable, Mapping
+from typing import Any
 
 import numpy as np
 
@@ -44,7 +46,13 @@ _COEFFS = {
     ("neutral", 2): ("lambda",),
     ("neutral", 3): ("zeta",),
 }
-_KIND = {("salt", 2): "salt", ("mixing", 2): "theta", ("mixing", 3): "psi", ("neutral", 2): "lambda", ("neutral", 3): "zeta"}
+_KIND = {
+    ("salt", 2): "salt",
+    ("mixing", 2): "theta",
+    ("mixing", 3): "psi",
+    ("neutral", 2): "lambda",
+    ("neutral", 3): "zeta",
+}
 _COMMON = {"source", "note", "celsius", "max_molality"}
 _SALT_ONLY = {"alpha1", "alpha2", "max_ionic_strength"}
 
@@ -102,7 +110,7 @@ class ParameterSet(Mapping):
     def __len__(self) -> int:
         return len(self._entries)
 
-    def overlay(self, other: "ParameterSet") -> "ParameterSet":
+    def overlay(self, other: ParameterSet) -> ParameterSet:
         """A new set: these entries, replaced or extended by those of ``other``."""
         return ParameterSet({**self._entries, **other._entries})
 
@@ -198,9 +206,7 @@ def _entry(section: str, raw: str, body: Any, origin: str) -> Entry:
         raise _fail(origin, f"{where}.max_molality", "must be positive", mmax)
     alpha: tuple = ()
     if key[0] == "salt":
-        alpha = tuple(
-            _number(body[a], origin, f"{where}.{a}") if a in body else None for a in ("alpha1", "alpha2")
-        )
+        alpha = tuple(_number(body[a], origin, f"{where}.{a}") if a in body else None for a in ("alpha1", "alpha2"))
         for a, v in zip(("alpha1", "alpha2"), alpha):
             if v is not None and v <= 0:
                 raise _fail(origin, f"{where}.{a}", "must be positive", v)

@@ -15,6 +15,7 @@ cubic spline in ln x (:func:`j_exact`; agreement with adaptive quadrature to abo
 checked in the tests). The closed approximation of Pitzer (1975), eq. 47, with a
 relative error of about 1 %, is kept as :func:`j_pitzer1975` for comparison.
 """
+
 from __future__ import annotations
 
 import functools
@@ -96,6 +97,7 @@ def j_exact(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         J = np.where(high, J + (x - _X_MAX) / 4.0, J)
         dJ = np.where(high, 0.25, dJ)
     return J, dJ
+
 
 _C1, _C2, _C3, _C4 = 4.581, 0.7237, 0.0120, 0.528
 
