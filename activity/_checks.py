@@ -5,6 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .constants import ZERO_CELSIUS
 from .errors import InputError
@@ -31,7 +32,7 @@ def finite_array(value: Any, field: str, *, nonnegative: bool = False, positive:
     return arr
 
 
-def temperature(T: Any, field: str = "T", t_min: float = T_MIN, t_max: float = T_MAX) -> np.ndarray:
+def temperature(T: ArrayLike, field: str = "T", t_min: float = T_MIN, t_max: float = T_MAX) -> np.ndarray:
     """Validate a thermodynamic temperature in kelvin.
 
     A value below 273.15 K that would be a plausible Celsius temperature gets a hint.

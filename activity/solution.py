@@ -12,6 +12,7 @@ from collections.abc import Iterable, Mapping
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from . import _checks, data
 from .constants import P_ATM, T_REF
@@ -75,8 +76,8 @@ class Solution:
     def __init__(
         self,
         composition: Mapping[str, Any],
-        T: Any = T_REF,
-        P: Any = P_ATM,
+        T: ArrayLike = T_REF,
+        P: ArrayLike = P_ATM,
         *,
         neutrality: str = "warn",
         neutrality_tol: float = 1e-3,
@@ -290,7 +291,7 @@ class Solution:
         return Solution._from_arrays(species, charges, m, self._T, self._P)
 
     def replace(
-        self, composition: Mapping[str, Any] | None = None, *, T: Any = None, P: Any = None, **kw
+        self, composition: Mapping[str, Any] | None = None, *, T: ArrayLike = None, P: ArrayLike = None, **kw
     ) -> Solution:
         """Return a new solution with some molalities, ``T`` or ``P`` replaced.
 
@@ -329,8 +330,8 @@ class Solution:
     def from_molarity(
         cls,
         composition: Mapping[str, Any],
-        T: Any = T_REF,
-        P: Any = P_ATM,
+        T: ArrayLike = T_REF,
+        P: ArrayLike = P_ATM,
         *,
         density: Any = None,
         **kw,

@@ -21,6 +21,7 @@ from __future__ import annotations
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from . import _checks
 from .constants import E_CHARGE, EPSILON_0, K_B, LN10, N_A, P_ATM, ZERO_CELSIUS
@@ -60,13 +61,13 @@ def _bradley_pitzer(T: np.ndarray, p_bar: np.ndarray) -> np.ndarray:
     return eps1000 + c * np.log((b + p_bar) / (b + 1000.0))
 
 
-def _pressure(P: Any) -> np.ndarray:
+def _pressure(P: ArrayLike) -> np.ndarray:
     if P is None:
         return np.asarray(P_ATM)
     return _checks.finite_array(P, "P", positive=True)
 
 
-def density(T: Any, P: Any = None) -> Any:
+def density(T: ArrayLike, P: ArrayLike = None) -> Any:
     """Density of liquid water in kg/m³ (Kell 1975; 1 atm).
 
     Parameters
@@ -87,7 +88,7 @@ def density(T: Any, P: Any = None) -> Any:
     return _checks.scalar_or_array(_kell(T - ZERO_CELSIUS))
 
 
-def permittivity(T: Any, P: Any = None) -> Any:
+def permittivity(T: ArrayLike, P: ArrayLike = None) -> Any:
     """Static relative permittivity of water (Bradley & Pitzer 1979).
 
     Examples
@@ -99,14 +100,14 @@ def permittivity(T: Any, P: Any = None) -> Any:
     return _checks.scalar_or_array(_bradley_pitzer(T, _pressure(P) / 1e5))
 
 
-def _kappa_terms(T: Any, P: Any) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def _kappa_terms(T: ArrayLike, P: ArrayLike) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     T = _checks.temperature(T)
     rho = _kell(T - ZERO_CELSIUS)
     eps = _bradley_pitzer(T, _pressure(P) / 1e5)
     return T, rho, eps
 
 
-def debye_huckel_Aphi(T: Any, P: Any = None) -> Any:
+def debye_huckel_Aphi(T: ArrayLike, P: ArrayLike = None) -> Any:
     """Debye–Hückel osmotic-coefficient parameter Aφ in (kg/mol)^½ (natural log basis).
 
     Examples
@@ -119,7 +120,7 @@ def debye_huckel_Aphi(T: Any, P: Any = None) -> Any:
     return _checks.scalar_or_array(np.sqrt(2.0 * np.pi * N_A * rho) * lb**1.5 / 3.0)
 
 
-def debye_huckel_A(T: Any, P: Any = None) -> Any:
+def debye_huckel_A(T: ArrayLike, P: ArrayLike = None) -> Any:
     """Debye–Hückel A for log10 γ on the molal scale, in (kg/mol)^½.
 
     ``log10 γ_i = −A z_i² √I`` in the limit of low ionic strength.
@@ -133,7 +134,7 @@ def debye_huckel_A(T: Any, P: Any = None) -> Any:
     return 3.0 * aphi / LN10
 
 
-def debye_huckel_B(T: Any, P: Any = None) -> Any:
+def debye_huckel_B(T: ArrayLike, P: ArrayLike = None) -> Any:
     """Debye–Hückel B in (kg/mol)^½ per Å (so that ``B·å`` is dimensionless for å in Å).
 
     Examples

@@ -12,6 +12,7 @@ import importlib
 from collections.abc import Callable
 from typing import Any
 
+from ..coefficients.base import ModelLike
 from ..errors import InputError
 from .base import ActivityModel, CoefficientResult, Validity
 
@@ -108,7 +109,7 @@ def get_model(name: str, **params: Any) -> ActivityModel:
     return model
 
 
-def resolve_model(model: Any) -> ActivityModel:
+def resolve_model(model: ModelLike) -> ActivityModel:
     """Accept a model instance or a registered name."""
     if isinstance(model, ActivityModel):
         return model

@@ -10,16 +10,17 @@ from ..errors import InputError
 from ..solution import Solution
 from ..species import parse_species
 from . import resolve_model
+from .base import ModelLike
 
 __all__ = ["activity_coefficients", "activities", "mean_activity_coefficient", "salt_stoichiometry"]
 
 
-def activity_coefficients(sol: Solution, model: Any = "davies"):
+def activity_coefficients(sol: Solution, model: ModelLike = "davies"):
     """Shorthand for ``get_model(model).activity_coefficients(sol)``."""
     return resolve_model(model).activity_coefficients(sol)
 
 
-def activities(sol: Solution, model: Any = "davies") -> dict[str, Any]:
+def activities(sol: Solution, model: ModelLike = "davies") -> dict[str, Any]:
     """Activities a_i = γ_i m_i / (1 mol/kg) of every species in ``sol``.
 
     Broadcasts like ``sol``: floats for one solution, arrays for a batch.
@@ -48,7 +49,7 @@ def salt_stoichiometry(cation: str, anion: str) -> tuple[int, int]:
     return -za // g, zc // g
 
 
-def mean_activity_coefficient(sol: Solution, cation: str, anion: str, model: Any = "davies") -> Any:
+def mean_activity_coefficient(sol: Solution, cation: str, anion: str, model: ModelLike = "davies") -> Any:
     """Mean ionic activity coefficient γ± = (γ+^ν+ γ−^ν−)^(1/(ν+ + ν−)).
 
     Examples

@@ -21,16 +21,17 @@ from dataclasses import dataclass, field
 from typing import Any, ClassVar
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .._checks import scalar_or_array
 from ..constants import LN10, M_WATER, ZERO_CELSIUS
 from ..errors import ModelError, ValidityWarning
 from ..solution import Solution
 
-__all__ = ["Validity", "CoefficientResult", "ActivityModel"]
+__all__ = ["Validity", "CoefficientResult", "ActivityModel", "ModelLike"]
 
 
-def _water_activity(phi: Any, total_molality: Any) -> Any:
+def _water_activity(phi: ArrayLike, total_molality: Any) -> Any:
     """ln a_w = −φ M_w Σm (definition of the molal osmotic coefficient)."""
     return scalar_or_array(np.exp(-np.asarray(phi) * M_WATER * np.asarray(total_molality)))
 
@@ -287,3 +288,7 @@ class ActivityModel:
     def water_activity(self, sol: Solution) -> Any:
         """Activity of water, ``exp(−φ M_w Σm)``; ModelError where φ is undefined."""
         return _water_activity(self.osmotic_coefficient(sol), sol.total_molality)
+
+
+#: A model object or the registered name of one (resolved once, at the entry point).
+ModelLike = str | ActivityModel

@@ -16,9 +16,11 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .. import _checks
 from ..coefficients import resolve_model
+from ..coefficients.base import ModelLike
 from ..errors import InputError, warn_alerts
 from ..solution import Solution
 from .junction import henderson_potential
@@ -46,7 +48,7 @@ class CellResult:
         The notes that call for a :class:`~activity.errors.ValidityWarning`.
     """
 
-    emf: Any
+    emf: ArrayLike
     right: ElectrodeResult
     left: ElectrodeResult
     junction_potential: Any
@@ -99,7 +101,7 @@ class Cell:
     def evaluate(
         self,
         sol: Solution | None = None,
-        model: Any = "davies",
+        model: ModelLike = "davies",
         *,
         left_solution: Solution | None = None,
         right_solution: Solution | None = None,
@@ -171,7 +173,7 @@ class Cell:
             _checks.scalar_or_array(emf), right, left, ej, model.name, tuple(dict.fromkeys(notes)), alerts
         )
 
-    def emf(self, sol: Solution | None = None, model: Any = "davies", **kw: Any) -> Any:
+    def emf(self, sol: Solution | None = None, model: ModelLike = "davies", **kw: Any) -> Any:
         """EMF = E(right) − E(left) + E_j in V (shorthand for ``evaluate(...).emf``)."""
         return self.evaluate(sol, model, **kw).emf
 

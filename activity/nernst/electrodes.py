@@ -15,9 +15,11 @@ from collections.abc import Mapping
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .. import _checks, data
 from ..coefficients import ActivityModel, resolve_model
+from ..coefficients.base import ModelLike
 from ..constants import LN10, T_REF, ZERO_CELSIUS, F, R
 from ..errors import InputError, warn_alerts
 from ..solution import Solution
@@ -42,7 +44,7 @@ def _log10_or_nan(a: np.ndarray) -> Any:
         return _checks.scalar_or_array(np.where(a > 0, np.log10(a), -np.inf))
 
 
-def kcl_saturation_molality(T: Any = T_REF) -> Any:
+def kcl_saturation_molality(T: ArrayLike = T_REF) -> Any:
     """Molality of saturated KCl at T (linear interpolation of the table), mol/kg.
 
     Examples
@@ -89,7 +91,7 @@ class ReferenceElectrode(Electrode):
         filling: Any = "saturated",
         *,
         basis: str = "mol/L",
-        model: Any = None,
+        model: ModelLike = None,
         name: str | None = None,
     ):
         self.couple = couple if isinstance(couple, HalfReaction) else standard_couple(couple)
@@ -131,7 +133,7 @@ class ReferenceElectrode(Electrode):
         """The potential at the temperature of ``sol``; the electrode sits in its own filling."""
         return self.evaluate(sol.T_compact, warn=False)
 
-    def filling_solution(self, T: Any = T_REF) -> Solution:
+    def filling_solution(self, T: ArrayLike = T_REF) -> Solution:
         """The KCl filling as a :class:`Solution` at temperature T."""
         if self.filling == "saturated":
             m = kcl_saturation_molality(T)
@@ -140,7 +142,7 @@ class ReferenceElectrode(Electrode):
             return Solution({"K+": self.filling, "Cl-": self.filling}, T=T)
         return Solution.from_molarity({"K+": self.filling, "Cl-": self.filling}, T=T)
 
-    def evaluate(self, T: Any = T_REF, *, warn: bool = True) -> ElectrodeResult:
+    def evaluate(self, T: ArrayLike = T_REF, *, warn: bool = True) -> ElectrodeResult:
         """Potential vs SHE at T with the model used and every assumption in the notes."""
         sol = self.filling_solution(T)
         res = self.couple.evaluate_in(sol, self._model.activity_coefficients(sol, warn=False))
@@ -164,7 +166,7 @@ class ReferenceElectrode(Electrode):
             warn_alerts(out.alerts)
         return out
 
-    def potential(self, T: Any = T_REF) -> Any:
+    def potential(self, T: ArrayLike = T_REF) -> Any:
         """Potential vs SHE at T, V."""
         return self.evaluate(T).potential
 
@@ -300,11 +302,11 @@ class IonSelectiveElectrode(Electrode):
             self.ion, self.E0, selectivity=sel, slope_factor=self.slope_factor, dE0dT=self.dE0dT, name=self.name
         )
 
-    def slope(self, T: Any = T_REF) -> Any:
+    def slope(self, T: ArrayLike = T_REF) -> Any:
         """Response slope k·RT ln10/(zF), V per decade of the primary ion's activity."""
         return self.slope_factor * nernst_slope(T, self.z)
 
-    def e0_at(self, T: Any) -> Any:
+    def e0_at(self, T: ArrayLike) -> Any:
         """E0 at temperature T from its value at 298.15 K and dE0dT, V."""
         return self.E0 + self.dE0dT * (np.asarray(T) - T_REF)
 
@@ -353,7 +355,7 @@ class IonSelectiveElectrode(Electrode):
         acts = {name: (lambda k=k: _log10_or_nan(sol.m[k] * 10.0 ** lg[k])) for name, k in [(self.ion, i)] + present}
         return ln_total, LazyMapping(acts)
 
-    def evaluate(self, sol: Solution, model: Any = "davies", *, warn: bool = True) -> ElectrodeResult:
+    def evaluate(self, sol: Solution, model: ModelLike = "davies", *, warn: bool = True) -> ElectrodeResult:
         """Electrode potential in ``sol`` (same scale as E0), with activities used."""
         res = self.evaluate_in(sol, resolve_model(model).activity_coefficients(sol, warn=False))
         if warn:
@@ -387,7 +389,7 @@ class IonSelectiveElectrode(Electrode):
             g.alerts,
         )
 
-    def potential(self, sol: Solution, model: Any = "davies") -> Any:
+    def potential(self, sol: Solution, model: ModelLike = "davies") -> Any:
         """Electrode potential, V (shorthand for ``evaluate(...).potential``)."""
         return self.evaluate(sol, model).potential
 

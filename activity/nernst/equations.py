@@ -17,6 +17,7 @@ from __future__ import annotations
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .. import _checks
 from ..constants import LN10, P_ATM, P_STANDARD, T_REF, F, R
@@ -36,18 +37,18 @@ __all__ = [
 ]
 
 
-def _temperature(T: Any) -> np.ndarray:
+def _temperature(T: ArrayLike) -> np.ndarray:
     return _checks.finite_array(T, "T", positive=True)
 
 
-def _n_electrons(n: Any) -> np.ndarray:
+def _n_electrons(n: ArrayLike) -> np.ndarray:
     arr = _checks.finite_array(n, "n")
     if np.any(arr == 0):
         raise InputError("the number of electrons must not be zero", field="n", value=n)
     return arr
 
 
-def nernst_slope(T: Any = T_REF, z: Any = 1) -> Any:
+def nernst_slope(T: ArrayLike = T_REF, z: ArrayLike = 1) -> Any:
     """Nernst slope RT ln10 / (zF) in V per decade of activity.
 
     Parameters
@@ -74,7 +75,9 @@ def nernst_slope(T: Any = T_REF, z: Any = 1) -> Any:
     return _checks.scalar_or_array(R * Tz * LN10 / (zz * F))
 
 
-def electrochemical_potential(mu0: Any, activity: Any, z: Any, phi: Any, T: Any = T_REF) -> Any:
+def electrochemical_potential(
+    mu0: ArrayLike, activity: ArrayLike, z: ArrayLike, phi: ArrayLike, T: ArrayLike = T_REF
+) -> Any:
     """Electrochemical potential μ̃ = μ° + RT ln a + zFφ in J/mol.
 
     Parameters
@@ -101,7 +104,7 @@ def electrochemical_potential(mu0: Any, activity: Any, z: Any, phi: Any, T: Any 
     )
 
 
-def reaction_gibbs(nu: Any, mu: Any) -> Any:
+def reaction_gibbs(nu: ArrayLike, mu: ArrayLike) -> Any:
     """Reaction Gibbs energy Σ νᵢ μᵢ over the leading (species) axis.
 
     Parameters
@@ -123,7 +126,7 @@ def reaction_gibbs(nu: Any, mu: Any) -> Any:
     return _checks.scalar_or_array(np.tensordot(nu, mu, axes=(0, 0)))
 
 
-def potential_from_gibbs(delta_G: Any, n: Any) -> Any:
+def potential_from_gibbs(delta_G: ArrayLike, n: ArrayLike) -> Any:
     """E = −ΔrG/(nF) for a reduction consuming n electrons.
 
     Examples
@@ -134,7 +137,7 @@ def potential_from_gibbs(delta_G: Any, n: Any) -> Any:
     return _checks.scalar_or_array(-np.asarray(delta_G, float) / (_n_electrons(n) * F))
 
 
-def gibbs_from_potential(E: Any, n: Any) -> Any:
+def gibbs_from_potential(E: ArrayLike, n: ArrayLike) -> Any:
     """ΔrG = −nFE in J/mol (the inverse of :func:`potential_from_gibbs`).
 
     Examples
@@ -145,7 +148,9 @@ def gibbs_from_potential(E: Any, n: Any) -> Any:
     return _checks.scalar_or_array(-_n_electrons(n) * F * np.asarray(E, float))
 
 
-def equilibrium_galvani_potential(nu: Any, mu0: Any, activity: Any, z: Any, in_electrode: Any, T: Any = T_REF) -> Any:
+def equilibrium_galvani_potential(
+    nu: ArrayLike, mu0: ArrayLike, activity: ArrayLike, z: ArrayLike, in_electrode: ArrayLike, T: ArrayLike = T_REF
+) -> Any:
     """Inner-potential difference φ(electrode) − φ(solution) at which ΔrG̃ = 0.
 
     The species split between two phases: those with ``in_electrode`` true sit in the
@@ -194,7 +199,7 @@ def equilibrium_galvani_potential(nu: Any, mu0: Any, activity: Any, z: Any, in_e
     return _checks.scalar_or_array(-dG / (F * q_m))
 
 
-def nernst_potential(E0: Any, nu: Any, activity: Any, n: Any, T: Any = T_REF) -> Any:
+def nernst_potential(E0: ArrayLike, nu: ArrayLike, activity: ArrayLike, n: ArrayLike, T: ArrayLike = T_REF) -> Any:
     """Nernst equation E = E° − (RT/nF) Σ νᵢ ln aᵢ (electrons left out of ν).
 
     Parameters
@@ -221,7 +226,9 @@ def nernst_potential(E0: Any, nu: Any, activity: Any, n: Any, T: Any = T_REF) ->
     return _checks.scalar_or_array(np.asarray(E0, float) - R * _temperature(T) / (_n_electrons(n) * F) * q)
 
 
-def standard_potential_at(E0: Any, dE0dT: Any = 0.0, d2E0dT2: Any = 0.0, T: Any = T_REF, T0: float = T_REF) -> Any:
+def standard_potential_at(
+    E0: ArrayLike, dE0dT: ArrayLike = 0.0, d2E0dT2: ArrayLike = 0.0, T: ArrayLike = T_REF, T0: float = T_REF
+) -> Any:
     """E°(T) = E°(T0) + (dE°/dT)(T − T0) + ½ (d²E°/dT²)(T − T0)².
 
     Examples
@@ -235,7 +242,7 @@ def standard_potential_at(E0: Any, dE0dT: Any = 0.0, d2E0dT2: Any = 0.0, T: Any 
     )
 
 
-def gas_activity(partial_pressure: Any, standard_pressure: float = P_STANDARD) -> Any:
+def gas_activity(partial_pressure: ArrayLike, standard_pressure: float = P_STANDARD) -> Any:
     """Activity of an ideal gas, p / p° (fugacity coefficient 1), p° = 1 bar by default.
 
     Examples
@@ -247,7 +254,7 @@ def gas_activity(partial_pressure: Any, standard_pressure: float = P_STANDARD) -
     return _checks.scalar_or_array(p / standard_pressure)
 
 
-def atm_to_bar_shift(nu_gas: Any, n: Any, T: Any = T_REF) -> Any:
+def atm_to_bar_shift(nu_gas: Any, n: ArrayLike, T: ArrayLike = T_REF) -> Any:
     """E°(1 bar) − E°(1 atm) for a reduction with net gas stoichiometry ``nu_gas``.
 
     Changing the standard pressure from 1 atm to 1 bar lowers each gas's standard

@@ -20,9 +20,11 @@ from collections.abc import Mapping, Sequence
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .. import _checks, data
 from ..coefficients import ActivityModel, get_model, resolve_model
+from ..coefficients.base import ModelLike
 from ..constants import LN10, P_STANDARD, T_REF, F, R
 from ..errors import InputError, warn_alerts
 from ..reactions import Reaction, parse_reaction
@@ -181,7 +183,7 @@ class HalfReaction(Electrode):
         return standard_couple(couple)
 
     # ------------------------------------------------------------ physics
-    def standard_potential(self, T: Any = T_REF) -> Any:
+    def standard_potential(self, T: ArrayLike = T_REF) -> Any:
         """E°(T) from E°(298.15 K) and the temperature coefficients, V."""
         return standard_potential_at(self.E0, self.dE0dT, self.d2E0dT2, T)
 
@@ -244,9 +246,9 @@ class HalfReaction(Electrode):
                 out[name] = la
         return out, tuple(notes)
 
-    def _from_log10_a(self, log10_a: Mapping[str, Any], T: np.ndarray, E0: Any) -> Any:
+    def _from_log10_a(self, log10_a: Mapping[str, Any], T: np.ndarray, E0: ArrayLike) -> Any:
         coef = -(R * LN10 / (self.n * F)) * T
-        E: Any = None
+        E: ArrayLike = None
         for nu, name in zip(self._nu, self.species):
             la = log10_a[name]
             if np.ndim(la) == 0 and la == 0.0:
@@ -263,7 +265,7 @@ class HalfReaction(Electrode):
     def evaluate(
         self,
         sol: Solution,
-        model: Any = "davies",
+        model: ModelLike = "davies",
         *,
         pressures: Mapping[str, Any] | None = None,
         activities: Mapping[str, Any] | None = None,
@@ -322,7 +324,7 @@ class HalfReaction(Electrode):
             g.alerts,
         )
 
-    def potential(self, sol: Solution, model: Any = "davies", **kw: Any) -> Any:
+    def potential(self, sol: Solution, model: ModelLike = "davies", **kw: Any) -> Any:
         """Activity-corrected potential in V vs SHE (shorthand for ``evaluate(...).potential``)."""
         return self.evaluate(sol, model, **kw).potential
 

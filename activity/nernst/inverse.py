@@ -20,9 +20,11 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .. import _checks
 from ..coefficients import resolve_model
+from ..coefficients.base import ModelLike
 from ..constants import F, R
 from ..errors import ConvergenceError, InputError, warn_alerts
 from ..solution import Solution
@@ -65,7 +67,7 @@ class InverseResult:
 
     species: str
     molality: Any
-    activity: Any
+    activity: ArrayLike
     gamma: Any
     ionic_strength: Any
     iterations: int
@@ -87,7 +89,7 @@ def _determinand(electrode: Any, species: str | None) -> str:
 
 
 def activity_from_potential(
-    electrode: Any, E: Any, sol: Solution, model: Any = "davies", species: str | None = None, **kw: Any
+    electrode: Any, E: ArrayLike, sol: Solution, model: ModelLike = "davies", species: str | None = None, **kw: Any
 ) -> Any:
     """Activity of the determinand that makes ``electrode`` read ``E`` in ``sol``.
 
@@ -156,7 +158,7 @@ def _solve(
     matrix: Solution,
     species: str,
     counter_ion: str | None,
-    model: Any,
+    model: ModelLike,
     rtol: float,
     max_iter: int,
     warn: bool,
@@ -237,9 +239,9 @@ def _solve(
 
 def molality_from_potential(
     electrode: Any,
-    E: Any,
+    E: ArrayLike,
     matrix: Solution,
-    model: Any = "davies",
+    model: ModelLike = "davies",
     *,
     species: str | None = None,
     counter_ion: str | None = None,
@@ -296,9 +298,9 @@ def molality_from_potential(
 
 def molality_from_emf(
     cell: Cell,
-    emf: Any,
+    emf: ArrayLike,
     matrix: Solution,
-    model: Any = "davies",
+    model: ModelLike = "davies",
     *,
     species: str,
     counter_ion: str | None = None,

@@ -22,6 +22,7 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .. import _checks, data
 from ..constants import T_REF, F, R
@@ -36,7 +37,7 @@ __all__ = ["JunctionResult", "limiting_conductivity", "henderson_potential", "le
 class JunctionResult:
     """A liquid-junction potential φ(right) − φ(left) in V, with notes."""
 
-    potential: Any
+    potential: ArrayLike
     notes: tuple = ()
 
 
@@ -110,7 +111,7 @@ def henderson_potential(
     return JunctionResult(_checks.scalar_or_array(R * T / F * num * ratio), tuple(notes))
 
 
-def lewis_sargent_potential(conductance_left: Any, conductance_right: Any, T: Any = T_REF) -> Any:
+def lewis_sargent_potential(conductance_left: Any, conductance_right: Any, T: ArrayLike = T_REF) -> Any:
     """Lewis–Sargent junction potential φ(right) − φ(left) = (RT/F) ln(Λ_left/Λ_right), V.
 
     For 1:1 electrolytes of equal concentration sharing an ion; Λ are the molar

@@ -15,6 +15,7 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .. import _checks
 from ..constants import T_REF, F, R
@@ -23,7 +24,7 @@ from ..errors import InputError
 __all__ = ["ghk_potential", "DonnanResult", "donnan_potential", "nikolsky_eisenman", "nikolsky_eisenman_core"]
 
 
-def _charges(z: Any, k: int, field: str = "z") -> np.ndarray:
+def _charges(z: ArrayLike, k: int, field: str = "z") -> np.ndarray:
     zz = np.asarray(z, dtype=float).reshape(-1)
     if zz.size != k:
         raise InputError(f"need one charge per ion ({k})", field=field, value=z)
@@ -43,7 +44,7 @@ def _expand(v: np.ndarray, ndim: int) -> np.ndarray:
     return v.reshape(v.shape + (1,) * (ndim - 1))
 
 
-def ghk_potential(permeability: Any, c_in: Any, c_out: Any, z: Any, T: Any = T_REF) -> Any:
+def ghk_potential(permeability: Any, c_in: Any, c_out: Any, z: ArrayLike, T: ArrayLike = T_REF) -> Any:
     """Goldman–Hodgkin–Katz zero-current membrane potential φ(in) − φ(out), V.
 
     For ions of one charge magnitude the closed form
@@ -118,12 +119,12 @@ class DonnanResult:
         Donnan ratio r with c_in = c_out · r^z.
     """
 
-    potential: Any
+    potential: ArrayLike
     c_in: np.ndarray
     ratio: Any
 
 
-def donnan_potential(c_out: Any, z: Any, fixed_charge: Any, T: Any = T_REF) -> DonnanResult:
+def donnan_potential(c_out: Any, z: ArrayLike, fixed_charge: Any, T: ArrayLike = T_REF) -> DonnanResult:
     """Donnan potential of a phase holding fixed charges (ideal: equal γ in both phases).
 
     Every mobile ion is distributed so that its electrochemical potential is the same in
@@ -179,13 +180,13 @@ def donnan_potential(c_out: Any, z: Any, fixed_charge: Any, T: Any = T_REF) -> D
 
 
 def nikolsky_eisenman(
-    E0: Any,
+    E0: ArrayLike,
     a_primary: Any,
     z_primary: int,
     a_interferents: Any = None,
     z_interferents: Any = (),
     selectivity: Any = (),
-    T: Any = T_REF,
+    T: ArrayLike = T_REF,
     slope_factor: Any = 1.0,
 ) -> Any:
     """Nikolsky–Eisenman response E = E0 + (s/zᵢ) log10(aᵢ + Σⱼ Kᵢⱼ aⱼ^(zᵢ/zⱼ)), V.
@@ -230,7 +231,7 @@ def nikolsky_eisenman(
 
 
 def nikolsky_eisenman_core(
-    E0: Any, ai: np.ndarray, zi: float, aj: Any, ratio: Any, K: Any, T: Any, slope_factor: Any = 1.0
+    E0: ArrayLike, ai: np.ndarray, zi: float, aj: Any, ratio: Any, K: Any, T: ArrayLike, slope_factor: Any = 1.0
 ) -> np.ndarray:
     """Nikolsky–Eisenman potential from checked arrays (no validation; internal fast path).
 

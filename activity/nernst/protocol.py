@@ -22,6 +22,8 @@ from collections.abc import Callable, Iterator, Mapping
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any, ClassVar
 
+from numpy.typing import ArrayLike
+
 from ..constants import T_REF
 from ..errors import InputError
 from ..species import parse_species
@@ -79,10 +81,10 @@ class ElectrodeResult:
         The notes that call for a :class:`~activity.errors.ValidityWarning`.
     """
 
-    potential: Any
+    potential: ArrayLike
     standard_potential: Any
     log10_activity: Mapping[str, Any] = field(default_factory=dict)
-    T: Any = T_REF
+    T: ArrayLike = T_REF
     model: str = ""
     notes: tuple = ()
     in_range: Any = True

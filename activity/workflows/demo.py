@@ -21,6 +21,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ..coefficients.compare import run_models
 from ..solution import Solution
@@ -51,9 +52,9 @@ class ModelColumn:
 
     model: str
     gamma: Any = None  # γ(Ca²⁺) per standard
-    activity: Any = None  # a(Ca²⁺) per standard
+    activity: ArrayLike = None  # a(Ca²⁺) per standard
     in_range: Any = None  # bool per standard
-    emf: Any = None  # expected EMF against the Ag/AgCl reference, V
+    emf: ArrayLike = None  # expected EMF against the Ag/AgCl reference, V
     notes: tuple = ()
     error: str | None = None
 

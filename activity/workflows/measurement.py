@@ -33,9 +33,11 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .. import _checks
 from ..coefficients import available_models, resolve_model
+from ..coefficients.base import ModelLike
 from ..errors import ActivityError, InputError, warn_alerts
 from ..nernst.cell import Cell
 from ..nernst.electrodes import IonSelectiveElectrode
@@ -208,14 +210,14 @@ class _Point:
     sol: Solution
     e0: dict  # side → E° − its tabulated value (E° enters every potential additively)
     selectivity: dict
-    reading: Any
+    reading: ArrayLike
     shape: tuple  # batch shape of the columns
 
     def shift(self, side: str) -> Any:
         return self.e0.get(side, 0.0)
 
 
-def _point_builder(sample: Solution, inputs: list[_Input], reading: Any) -> Callable[[Mapping[str, Any]], _Point]:
+def _point_builder(sample: Solution, inputs: list[_Input], reading: ArrayLike) -> Callable[[Mapping[str, Any]], _Point]:
     def build(cols: Mapping[str, Any]) -> _Point:
         amounts = {i.target: cols[i.key] for i in inputs if i.role == "amount"}
         T = next((cols[i.key] for i in inputs if i.role == "T"), None)
@@ -265,9 +267,9 @@ def _spread(quantity: Quantity, point: _Point, names: Any) -> tuple[ModelSpread 
 def _run(
     quantity: Quantity,
     sample: Solution,
-    model: Any,
+    model: ModelLike,
     inputs: list[_Input],
-    reading: Any,
+    reading: ArrayLike,
     label: str,
     unit: str,
     *,
@@ -327,7 +329,7 @@ _OPTIONS_DOC = """
 def potential_with_uncertainty(
     electrode: Any,
     sample: Solution,
-    model: Any = "davies",
+    model: ModelLike = "davies",
     *,
     u_e0: Any = 0.0,
     pressures: Mapping[str, Any] | None = None,
@@ -378,7 +380,7 @@ def potential_with_uncertainty(
         + _selectivity_inputs([electrode], u_selectivity)
     )
 
-    def quantity(p: _Point, m: Any, alerts: list) -> Any:
+    def quantity(p: _Point, m: ArrayLike, alerts: list) -> Any:
         at = electrode.with_selectivity(p.selectivity)
         res = at.evaluate_in(p.sol, m.activity_coefficients(p.sol, warn=False), pressures=pressures)
         alerts.extend(res.alerts)
@@ -390,7 +392,7 @@ def potential_with_uncertainty(
 def emf_with_uncertainty(
     cell: Cell,
     sample: Solution,
-    model: Any = "davies",
+    model: ModelLike = "davies",
     *,
     u_e0: Any = 0.0,
     pressures: Mapping[str, Any] | None = None,
@@ -438,7 +440,7 @@ def emf_with_uncertainty(
         + _selectivity_inputs([cell.left, cell.right], u_selectivity)
     )
 
-    def quantity(p: _Point, m: Any, alerts: list) -> Any:
+    def quantity(p: _Point, m: ArrayLike, alerts: list) -> Any:
         res = _cell_at(cell, p.selectivity).evaluate(p.sol, m, pressures=pressures, warn=False)
         alerts.extend(res.alerts)
         return res.emf + p.shift("right") - p.shift("left")
@@ -450,7 +452,7 @@ def molality_with_uncertainty(
     electrode: Any,
     reading: float,
     matrix: Solution,
-    model: Any = "davies",
+    model: ModelLike = "davies",
     *,
     species: str | None = None,
     counter_ion: str | None = None,
@@ -513,7 +515,7 @@ def molality_with_uncertainty(
             species = ions[0]
         name = parse_species(species).name
 
-        def quantity(p: _Point, m: Any, alerts: list) -> Any:
+        def quantity(p: _Point, m: ArrayLike, alerts: list) -> Any:
             target = np.broadcast_to(p.reading - p.shift("right") + p.shift("left"), p.shape)
             res = molality_from_emf(
                 _cell_at(electrode, p.selectivity),
@@ -531,7 +533,7 @@ def molality_with_uncertainty(
         sides, parts = {"electrode": electrode}, [electrode]
         name = electrode.determinand(species)
 
-        def quantity(p: _Point, m: Any, alerts: list) -> Any:
+        def quantity(p: _Point, m: ArrayLike, alerts: list) -> Any:
             target = np.broadcast_to(p.reading - p.shift("electrode"), p.shape)  # rows even when only K varies
             res = molality_from_potential(
                 electrode.with_selectivity(p.selectivity),

@@ -6,6 +6,7 @@ import warnings
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ..._checks import scalar_or_array
 from ...constants import LN10, ZERO_CELSIUS
@@ -77,7 +78,7 @@ class PitzerModel(ActivityModel):
 
     # ------------------------------------------------------------ parameters
     @staticmethod
-    def _as_list(x: Any) -> list:
+    def _as_list(x: ArrayLike) -> list:
         if x is None:
             return []
         if isinstance(x, (list, tuple)):

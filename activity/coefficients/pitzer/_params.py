@@ -32,6 +32,7 @@ from pathlib import Path
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ...constants import T_REF, ZERO_CELSIUS
 from ...errors import InputError
@@ -57,7 +58,7 @@ _COMMON = {"source", "note", "celsius", "max_molality"}
 _SALT_ONLY = {"alpha1", "alpha2", "max_ionic_strength"}
 
 
-def basis(T: Any) -> np.ndarray:
+def basis(T: ArrayLike) -> np.ndarray:
     """Temperature basis, shape ``(5,) + shape(T)``: 1, 1/T − 1/Tr, ln(T/Tr), T − Tr, (T − Tr)²."""
     T = np.asarray(T, dtype=float)
     d = T - T_REF
@@ -82,7 +83,7 @@ class Entry:
     note: str
     origin: str
 
-    def value(self, name: str, T: Any = T_REF) -> Any:
+    def value(self, name: str, T: ArrayLike = T_REF) -> Any:
         """Coefficient ``name`` at temperature ``T`` (K); 0 if the entry lacks it."""
         c = self.coeffs.get(name)
         if c is None:
@@ -119,7 +120,7 @@ def _fail(origin: str, where: str, message: str, value: Any) -> InputError:
     return InputError(message, field=f"{origin}: {where}", value=value)
 
 
-def _number(x: Any, origin: str, where: str) -> float:
+def _number(x: ArrayLike, origin: str, where: str) -> float:
     if isinstance(x, bool) or not isinstance(x, (int, float)) or not np.isfinite(x):
         raise _fail(origin, where, "must be a finite number", x)
     return float(x)
