@@ -37,7 +37,7 @@ from numpy.typing import ArrayLike
 
 from .. import _checks
 from ..coefficients import available_models, resolve_model
-from ..coefficients.base import ModelLike
+from ..coefficients.base import ActivityModel, ModelLike
 from ..errors import ActivityError, InputError, warn_alerts
 from ..nernst.cell import Cell
 from ..nernst.electrodes import IonSelectiveElectrode
@@ -380,7 +380,7 @@ def potential_with_uncertainty(
         + _selectivity_inputs([electrode], u_selectivity)
     )
 
-    def quantity(p: _Point, m: ArrayLike, alerts: list) -> Any:
+    def quantity(p: _Point, m: ActivityModel, alerts: list) -> Any:
         at = electrode.with_selectivity(p.selectivity)
         res = at.evaluate_in(p.sol, m.activity_coefficients(p.sol, warn=False), pressures=pressures)
         alerts.extend(res.alerts)
@@ -440,7 +440,7 @@ def emf_with_uncertainty(
         + _selectivity_inputs([cell.left, cell.right], u_selectivity)
     )
 
-    def quantity(p: _Point, m: ArrayLike, alerts: list) -> Any:
+    def quantity(p: _Point, m: ActivityModel, alerts: list) -> Any:
         res = _cell_at(cell, p.selectivity).evaluate(p.sol, m, pressures=pressures, warn=False)
         alerts.extend(res.alerts)
         return res.emf + p.shift("right") - p.shift("left")
@@ -515,7 +515,7 @@ def molality_with_uncertainty(
             species = ions[0]
         name = parse_species(species).name
 
-        def quantity(p: _Point, m: ArrayLike, alerts: list) -> Any:
+        def quantity(p: _Point, m: ActivityModel, alerts: list) -> Any:
             target = np.broadcast_to(p.reading - p.shift("right") + p.shift("left"), p.shape)
             res = molality_from_emf(
                 _cell_at(electrode, p.selectivity),
@@ -533,7 +533,7 @@ def molality_with_uncertainty(
         sides, parts = {"electrode": electrode}, [electrode]
         name = electrode.determinand(species)
 
-        def quantity(p: _Point, m: ArrayLike, alerts: list) -> Any:
+        def quantity(p: _Point, m: ActivityModel, alerts: list) -> Any:
             target = np.broadcast_to(p.reading - p.shift("electrode"), p.shape)  # rows even when only K varies
             res = molality_from_potential(
                 electrode.with_selectivity(p.selectivity),
