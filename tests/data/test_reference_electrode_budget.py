@@ -39,7 +39,11 @@ import pytest
 
 from activity.constants import T_REF
 from activity.electrochem import atm_to_bar_shift
-from activity.electrodes import calomel_electrode, common_practice_potential, silver_chloride_electrode
+from activity.electrodes import (
+    calomel_electrode,
+    common_practice_potential,
+    silver_chloride_electrode,
+)
 from activity.nernst import standard_couple
 from activity.water import density
 
@@ -53,6 +57,11 @@ def _quiet():
 
 def E(make, filling, **kw):
     return float(make(filling, **kw).potential(T_REF))
+
+
+def E_ag(m):
+    """Ag/AgCl in KCl of molality m (mol/kg)."""
+    return E(silver_chloride_electrode, m, basis="mol/kg")
 
 
 def practice(kind, filling):
@@ -72,18 +81,18 @@ def molality(c, phi_v):
 def test_excess_volume_part(c, shift_mV):
     m_model = molality(c, V0_KCL)
     # the library's conversion is exactly the infinite-dilution volume model
-    assert E(silver_chloride_electrode, m_model, basis="mol/kg") == pytest.approx(E(silver_chloride_electrode, c), abs=1e-9)
+    assert E_ag(m_model) == pytest.approx(E(silver_chloride_electrode, c), abs=1e-9)
     m_excess = molality(c, V0_KCL + S_V * np.sqrt(c))
-    d = E(silver_chloride_electrode, m_excess, basis="mol/kg") - E(silver_chloride_electrode, m_model, basis="mol/kg")
+    d = E_ag(m_excess) - E_ag(m_model)
     assert d * 1e3 == pytest.approx(shift_mV, abs=0.01)
     assert d < 0  # more molality, more chloride, lower potential: the gap widens
 
 
 def test_solubility_part():
     m = 4.81
-    dEdm = (E(silver_chloride_electrode, m + 0.01, basis="mol/kg") - E(silver_chloride_electrode, m - 0.01, basis="mol/kg")) / 0.02
+    dEdm = (E_ag(m + 0.01) - E_ag(m - 0.01)) / 0.02
     assert dEdm * 1e3 == pytest.approx(-6.1, abs=0.1)
-    assert E(silver_chloride_electrode, "saturated") == pytest.approx(E(silver_chloride_electrode, m, basis="mol/kg"), abs=1e-12)
+    assert E(silver_chloride_electrode, "saturated") == pytest.approx(E_ag(m), abs=1e-12)
 
 
 def test_standard_potential_part():
@@ -129,6 +138,7 @@ def test_the_same_offset_appears_in_one_compilation():
     # Hindawi 2010 Ag/AgCl at 0.1, 1 mol/L and saturation (read) minus the computed values:
     # a constant offset (1.3–1.4 mV, spread < 0.15 mV), i.e. a different E°, not a trend in
     # concentration that a filling-solution error would produce.
-    off = [v - E(silver_chloride_electrode, f) for f, v in [(0.1, 0.2895), (1.0, 0.2360), ("saturated", 0.1970)]]
+    hindawi = [(0.1, 0.2895), (1.0, 0.2360), ("saturated", 0.1970)]
+    off = [v - E(silver_chloride_electrode, f) for f, v in hindawi]
     assert np.ptp(off) < 0.15e-3
     assert 1.2e-3 < np.mean(off) < 1.5e-3

@@ -16,7 +16,8 @@ from activity.water import debye_huckel_A
 # Bates & Bower (1954), J. Res. NBS 53, 283, Table 1: E°(AgCl/Ag), molality scale, 1 atm H2,
 # V (read, PV 475-485; standard deviation 0.02 mV at 0 °C, 0.01 mV at 25 °C, PV 493).
 BB_T = np.array([0.0, 5.0, 10.0, 15.0, 20.0, 25.0, 30.0, 35.0, 40.0, 45.0, 50.0])
-BB_E = np.array([0.23665, 0.23413, 0.23142, 0.22857, 0.22557, 0.22234, 0.21904, 0.21566, 0.21208, 0.20835, 0.20449])
+BB_E = np.array([0.23665, 0.23413, 0.23142, 0.22857, 0.22557, 0.22234, 0.21904, 0.21566, 0.21208, 0.20835,
+                 0.20449])
 
 
 def test_silver_chloride_standard_potential_0_to_50_C():
