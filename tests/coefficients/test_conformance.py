@@ -5,6 +5,7 @@ plug-in package runs the same checks in its own CI); here it runs for every regi
 model, is shown to catch models that break each law, and the laws are searched further with
 hypothesis. Compositions are drawn from NaCl, KCl, CaCl2, Na2SO4 and MgSO4.
 """
+
 import warnings
 
 import numpy as np
@@ -85,8 +86,15 @@ class _BadOsmotic(DaviesModel):
         return super().compute_osmotic(sol, bound, I) + 0.01
 
 
-@pytest.mark.parametrize("broken, law", [(_Scaled, "limiting law"), (_RowCoupled, "batch equals row by row"),
-                                         (_OrderDependent, "species order"), (_BadOsmotic, "Gibbs–Duhem")])
+@pytest.mark.parametrize(
+    "broken, law",
+    [
+        (_Scaled, "limiting law"),
+        (_RowCoupled, "batch equals row by row"),
+        (_OrderDependent, "species order"),
+        (_BadOsmotic, "Gibbs–Duhem"),
+    ],
+)
 def test_check_model_catches_each_broken_law(broken, law):
     with pytest.raises(ConformanceError, match=law):
         check_model(broken())

@@ -1,4 +1,5 @@
 """Debye–Hückel family and Davies against published values and worked examples."""
+
 import numpy as np
 import pytest
 

@@ -1,4 +1,5 @@
 """Model registry: built-ins, run-time registration and the entry-point group."""
+
 import importlib.metadata
 
 import pytest

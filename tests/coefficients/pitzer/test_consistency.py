@@ -1,6 +1,7 @@
 """Thermodynamic consistency of the Pitzer model: the three outputs (ln γ, φ, Gex) are
 checked against each other, against the defining integral of J(x), and against the
 Debye–Hückel limiting law."""
+
 import warnings
 
 import numpy as np
@@ -24,8 +25,17 @@ DEMO = {
 }
 FULL = PitzerModel(extra=DEMO)
 MIX = {
-    "Na+": 0.52, "K+": 0.11, "Mg^2+": 0.053, "Ca^2+": 0.021, "H+": 0.004,
-    "Cl-": 0.61, "SO4^2-": 0.031, "HCO3-": 0.012, "CO3^2-": 0.004, "OH-": 0.001, "CO2": 0.015,
+    "Na+": 0.52,
+    "K+": 0.11,
+    "Mg^2+": 0.053,
+    "Ca^2+": 0.021,
+    "H+": 0.004,
+    "Cl-": 0.61,
+    "SO4^2-": 0.031,
+    "HCO3-": 0.012,
+    "CO3^2-": 0.004,
+    "OH-": 0.001,
+    "CO2": 0.015,
 }
 
 
@@ -127,8 +137,13 @@ def test_osmotic_coefficient_matches_excess_gibbs_energy():
     assert FULL.ln_gamma(sol)[sol.index("CO2")] != MODEL.ln_gamma(sol)[sol.index("CO2")]
 
 
-SALTS = {"NaCl": ("Na+", "Cl-", 1, 1), "CaCl2": ("Ca^2+", "Cl-", 1, 2), "Na2SO4": ("Na+", "SO4^2-", 2, 1),
-         "MgSO4": ("Mg^2+", "SO4^2-", 1, 1), "HCl": ("H+", "Cl-", 1, 1)}
+SALTS = {
+    "NaCl": ("Na+", "Cl-", 1, 1),
+    "CaCl2": ("Ca^2+", "Cl-", 1, 2),
+    "Na2SO4": ("Na+", "SO4^2-", 2, 1),
+    "MgSO4": ("Mg^2+", "SO4^2-", 1, 1),
+    "HCl": ("H+", "Cl-", 1, 1),
+}
 
 
 @pytest.mark.parametrize("salt, m", [("NaCl", 6.0), ("CaCl2", 2.5), ("Na2SO4", 3.0), ("MgSO4", 2.0), ("HCl", 4.0)])
@@ -145,9 +160,13 @@ def test_gibbs_duhem_binary(salt, m):
     assert ln_pm == pytest.approx(phi(m) - 1.0 + integral, abs=1e-5)
 
 
-COMPONENTS = {"NaCl": {"Na+": 1, "Cl-": 1}, "MgSO4": {"Mg^2+": 1, "SO4^2-": 1},
-              "CaCl2": {"Ca^2+": 1, "Cl-": 2}, "K2SO4": {"K+": 2, "SO4^2-": 1},
-              "Na2CO3": {"Na+": 2, "CO3^2-": 1}}
+COMPONENTS = {
+    "NaCl": {"Na+": 1, "Cl-": 1},
+    "MgSO4": {"Mg^2+": 1, "SO4^2-": 1},
+    "CaCl2": {"Ca^2+": 1, "Cl-": 2},
+    "K2SO4": {"K+": 2, "SO4^2-": 1},
+    "Na2CO3": {"Na+": 2, "CO3^2-": 1},
+}
 
 
 def nu_ln_gamma(amounts, salt):
@@ -161,7 +180,9 @@ def nu_ln_gamma(amounts, salt):
     return sum(nu * ln[sol.index(ion)] for ion, nu in COMPONENTS[salt].items())
 
 
-@given(st.lists(st.floats(0.01, 1.0), min_size=5, max_size=5), st.sampled_from([(0, 1), (0, 2), (1, 3), (2, 4), (3, 4)]))
+@given(
+    st.lists(st.floats(0.01, 1.0), min_size=5, max_size=5), st.sampled_from([(0, 1), (0, 2), (1, 3), (2, 4), (3, 4)])
+)
 def test_cross_differentiation_over_salt_components(x, pair):
     """∂(ν ln γ±)_1/∂m_2 = ∂(ν ln γ±)_2/∂m_1 at constant other salt molalities."""
     names = list(COMPONENTS)

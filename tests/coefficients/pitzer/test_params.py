@@ -1,4 +1,5 @@
 """Pitzer parameter files, overrides, coverage reporting and validity checks."""
+
 import warnings
 
 import numpy as np
@@ -53,7 +54,11 @@ def write(tmp_path, text, name="extra.toml"):
 
 
 def test_extra_file_overrides_an_entry(tmp_path):
-    p = write(tmp_path, '[salt."Cl- Na+"]\nbeta0 = 0.2\nbeta1 = 0.2664\ncphi = 0.00127\nmax_molality = 6.0\ncelsius = [0, 50]\nsource = "test"\n')
+    p = write(
+        tmp_path,
+        '[salt."Cl- Na+"]\nbeta0 = 0.2\nbeta1 = 0.2664\ncphi = 0.00127\nmax_molality = 6.0\n'
+        'celsius = [0, 50]\nsource = "test"\n',
+    )
     base = act.get_model("pitzer").activity_coefficients(NACL)["Na+"]
     for model in (act.get_model("pitzer", parameters=str(p)), PitzerModel(extra=[p])):
         g = model.activity_coefficients(NACL)["Na+"]
@@ -62,8 +67,19 @@ def test_extra_file_overrides_an_entry(tmp_path):
 
 
 def test_mapping_overlay_and_empty_base():
-    only = {"salt": {"Na+ Cl-": {"beta0": 0.0765, "beta1": 0.2664, "cphi": 0.00127, "max_molality": 6.0,
-                                 "celsius": [0, 50], "source": "Pitzer & Mayorga 1973, Table I", "note": "from memory"}}}
+    only = {
+        "salt": {
+            "Na+ Cl-": {
+                "beta0": 0.0765,
+                "beta1": 0.2664,
+                "cphi": 0.00127,
+                "max_molality": 6.0,
+                "celsius": [0, 50],
+                "source": "Pitzer & Mayorga 1973, Table I",
+                "note": "from memory",
+            }
+        }
+    }
     model = PitzerModel(only, base=None)
     g = model.activity_coefficients(NACL)
     ref = PitzerModel().activity_coefficients(NACL)
@@ -74,16 +90,36 @@ def test_mapping_overlay_and_empty_base():
 
 
 def test_temperature_forms_agree():
-    slope = {"salt": {"Na+ Cl-": {"beta0": {"at25": 0.0765, "slope": 7.159e-4}, "max_molality": 6.0,
-                                  "celsius": [0, 50], "source": "s"}}}
-    terms = {"salt": {"Na+ Cl-": {"beta0": {"terms": [0.0765, 0.0, 0.0, 7.159e-4]}, "max_molality": 6.0,
-                                  "celsius": [0, 50], "source": "s"}}}
+    slope = {
+        "salt": {
+            "Na+ Cl-": {
+                "beta0": {"at25": 0.0765, "slope": 7.159e-4},
+                "max_molality": 6.0,
+                "celsius": [0, 50],
+                "source": "s",
+            }
+        }
+    }
+    terms = {
+        "salt": {
+            "Na+ Cl-": {
+                "beta0": {"terms": [0.0765, 0.0, 0.0, 7.159e-4]},
+                "max_molality": 6.0,
+                "celsius": [0, 50],
+                "source": "s",
+            }
+        }
+    }
     a, b = load_parameters(slope)["salt", "Na+", "Cl-"], load_parameters(terms)["salt", "Na+", "Cl-"]
     T = np.array([273.15, 298.15, 323.15])
     assert np.allclose(a.value("beta0", T), b.value("beta0", T))
     assert a.value("beta0", 323.15) == pytest.approx(0.0765 + 25 * 7.159e-4)
     # the full form: a2 (1/T − 1/Tr) + a3 ln(T/Tr)
-    full = {"salt": {"Na+ Cl-": {"beta0": {"terms": [0.1, -10.0, 0.5]}, "max_molality": 1.0, "celsius": [0, 50], "source": "s"}}}
+    full = {
+        "salt": {
+            "Na+ Cl-": {"beta0": {"terms": [0.1, -10.0, 0.5]}, "max_molality": 1.0, "celsius": [0, 50], "source": "s"}
+        }
+    }
     e = load_parameters(full)["salt", "Na+", "Cl-"]
     assert e.value("beta0", 310.0) == pytest.approx(0.1 - 10 * (1 / 310 - 1 / 298.15) + 0.5 * np.log(310 / 298.15))
 
@@ -91,12 +127,21 @@ def test_temperature_forms_agree():
 @pytest.mark.parametrize(
     "text, where",
     [
-        ('[salt."Na+ Cl-"]\nbeta0 = "big"\nmax_molality = 1\ncelsius = [0, 50]\nsource = "s"\n', '[salt."Na+ Cl-"].beta0'),
+        (
+            '[salt."Na+ Cl-"]\nbeta0 = "big"\nmax_molality = 1\ncelsius = [0, 50]\nsource = "s"\n',
+            '[salt."Na+ Cl-"].beta0',
+        ),
         ('[salt."Na+ Cl-"]\nbeta0 = 0.1\nmax_molality = 1\ncelsius = [0, 50]\n', '[salt."Na+ Cl-"].source'),
         ('[salt."Na+ K+"]\nbeta0 = 0.1\nmax_molality = 1\ncelsius = [0, 50]\nsource = "s"\n', '[salt."Na+ K+"]'),
-        ('[salt."Na+ Cl-"]\nbeta9 = 0.1\nmax_molality = 1\ncelsius = [0, 50]\nsource = "s"\n', '[salt."Na+ Cl-"].beta9'),
+        (
+            '[salt."Na+ Cl-"]\nbeta9 = 0.1\nmax_molality = 1\ncelsius = [0, 50]\nsource = "s"\n',
+            '[salt."Na+ Cl-"].beta9',
+        ),
         ('[mixing."Na+ SO42-"]\ntheta = 0.1\ncelsius = [0, 50]\nsource = "s"\n', '[mixing."Na+ SO42-"]'),
-        ('[mixing."Na+ K+"]\ntheta = { at25 = 0.1, slop = 1 }\ncelsius = [0, 50]\nsource = "s"\n', '[mixing."Na+ K+"].theta'),
+        (
+            '[mixing."Na+ K+"]\ntheta = { at25 = 0.1, slop = 1 }\ncelsius = [0, 50]\nsource = "s"\n',
+            '[mixing."Na+ K+"].theta',
+        ),
         ('[salt."Na+ Cl-"]\nbeta0 = 0.1\ncelsius = [0, 50]\nsource = "s"\n', '[salt."Na+ Cl-"].max_molality'),
         ('[salts."Na+ Cl-"]\nbeta0 = 0.1\n', "[salts]"),
         ('[salt."Na+ Cl-"\nbeta0 = 0.1\n', "parameter file"),
@@ -173,4 +218,7 @@ def test_edge_species_sets_and_batch_shapes():
     sol = Solution({"Na+": m, "Cl-": 0.5, "Mg^2+": 0.1, "SO4^2-": 0.1}, T=np.array([[290.0], [300.0]]))
     res = model.activity_coefficients(sol)
     assert res.log10_gamma.shape == (4, 2, 3) and res.osmotic_coefficient.shape == (2, 3)
-    assert np.allclose(res.log10_gamma[:, 0, 0], model.log10_gamma(Solution({"Na+": 0.5, "Cl-": 0.5, "Mg^2+": 0.1, "SO4^2-": 0.1}, T=290.0)))
+    assert np.allclose(
+        res.log10_gamma[:, 0, 0],
+        model.log10_gamma(Solution({"Na+": 0.5, "Cl-": 0.5, "Mg^2+": 0.1, "SO4^2-": 0.1}, T=290.0)),
+    )
