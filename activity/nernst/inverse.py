@@ -115,7 +115,7 @@ def activity_from_potential(
     >>> from activity.nernst import standard_couple
     >>> hr = standard_couple("AgCl/Ag")
     >>> round(activity_from_potential(hr, 0.3405, Solution({"Na+": 0.1, "NO3-": 0.1})), 6)
-    0.010058
+    0.010062
     """
     name = _determinand(electrode, species)
     E = _checks.finite_array(E, "E")
