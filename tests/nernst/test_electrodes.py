@@ -81,7 +81,9 @@ def test_temperature_coefficients_used():
     PV 475-492): within 0.1 mV from 0 to 50 °C, where the quadratic in (T − 298.15) holds."""
     hr = standard_couple("AgCl/Ag")
     t = np.array([0, 5, 10, 15, 20, 25, 30, 35, 40, 45, 50.0])
-    table = np.array([0.23665, 0.23413, 0.23142, 0.22857, 0.22557, 0.22234, 0.21904, 0.21566, 0.21208, 0.20835, 0.20449])
+    table = np.array(
+        [0.23665, 0.23413, 0.23142, 0.22857, 0.22557, 0.22234, 0.21904, 0.21566, 0.21208, 0.20835, 0.20449]
+    )
     assert np.max(np.abs(hr.standard_potential(t + 273.15) - table)) < 1e-4
     # and it is the stated quadratic, not a constant: 20 mV lower at 50 °C than at 25 °C
     assert hr.standard_potential(323.15) - hr.standard_potential(298.15) == pytest.approx(
