@@ -535,11 +535,11 @@ def _calibration_verdicts(cal: PhCalibration, th: Thresholds) -> list[Verdict]:
     if cal.method == "one-point":
         out.append(Verdict("slope", None, f"assumed {cal.slope_percent:.2f} % (one-point calibration)", "not judged"))
     elif cal.slope_percent < 0:
-        out.append(Verdict("slope", False, f"{cal.slope_percent:.2f} %: the potential rises with pH — check the "
+        out.append(Verdict("slope", False, f"slope {cal.slope_percent:.2f} %: the potential rises with pH — check the "
                            "sign convention of the readings or the electrode connections", th.basis("slope_percent_min")))
     else:
         ok = th.slope_percent_min <= cal.slope_percent <= th.slope_percent_max
-        out.append(Verdict("slope", ok, f"{cal.slope_percent:.2f} % of RT ln10/F (limits "
+        out.append(Verdict("slope", ok, f"slope {cal.slope_percent:.2f} % of RT ln10/F (limits "
                            f"{th.slope_percent_min:g}–{th.slope_percent_max:g} %)", th.basis("slope_percent_min")))
     ok = abs(cal.E_pH7) <= th.offset_max
     out.append(Verdict("offset", ok, f"E(pH 7) = {cal.E_pH7 * 1000:.1f} mV (limit ±{th.offset_max * 1000:g} mV)",
