@@ -34,7 +34,26 @@ _EXPORTS = {
     "residual_junction": "validation",
 }
 
-__all__ = sorted(_EXPORTS)
+__all__ = [
+    "BufferValue",
+    "HarnedResult",
+    "PhCalibration",
+    "StandardBuffer",
+    "Thresholds",
+    "bates_guggenheim_log10_gamma_cl",
+    "buffer_ph",
+    "calibrate_ph",
+    "get_buffer",
+    "harned_ph",
+    "isothermal_intersection",
+    "load_buffers",
+    "residual_junction",
+    "silver_chloride_e0",
+    "silver_chloride_e0_from_hcl",
+    "standard_buffers",
+    "validate_meter",
+    "water_vapour_pressure",
+]
 
 
 def __getattr__(name: str) -> Any:

@@ -23,9 +23,10 @@ Users add their own buffers (certificate values) from a TOML file with the same 
 from __future__ import annotations
 
 import math
+from collections.abc import Iterator, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Iterator, Mapping
+from typing import Any
 
 import numpy as np
 from numpy.typing import ArrayLike
@@ -36,12 +37,12 @@ from activity.errors import InputError
 
 __all__ = [
     "BufferEquation",
-    "StandardBuffer",
     "BufferValue",
-    "standard_buffers",
-    "load_buffers",
-    "get_buffer",
+    "StandardBuffer",
     "buffer_ph",
+    "get_buffer",
+    "load_buffers",
+    "standard_buffers",
 ]
 
 #: A buffer tabulated at one temperature only is accepted within this distance of it, K.

@@ -20,7 +20,7 @@ from numpy.typing import ArrayLike
 from activity.errors import InputError
 from activity.water import debye_huckel_A
 
-__all__ = ["BG_PRODUCT", "BG_MAX_IONIC_STRENGTH", "bates_guggenheim_log10_gamma_cl"]
+__all__ = ["BG_MAX_IONIC_STRENGTH", "BG_PRODUCT", "bates_guggenheim_log10_gamma_cl"]
 
 #: B·å of the convention, (kg/mol)^½ (IUPAC Gold Book, read).
 BG_PRODUCT = 1.5

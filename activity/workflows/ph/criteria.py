@@ -6,8 +6,9 @@ code decides); a verdict records which limit it used and where the limit came fr
 """
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, fields, replace
-from typing import Any, Mapping
+from typing import Any
 
 from activity.errors import InputError
 
@@ -47,7 +48,7 @@ class Thresholds:
     user_set: tuple = ()
 
     @classmethod
-    def from_mapping(cls, values: Mapping[str, Any] | None) -> "Thresholds":
+    def from_mapping(cls, values: Mapping[str, Any] | None) -> Thresholds:
         """Thresholds with the given fields replaced (each becomes a "user" limit)."""
         if not values:
             return cls()

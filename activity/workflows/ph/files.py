@@ -36,8 +36,16 @@ import numpy as np
 
 from activity.errors import InputError
 
-__all__ = ["BufferReadings", "SampleReadings", "HarnedReadings", "read_buffer_readings", "read_samples",
-           "read_harned", "EXAMPLES", "write_examples"]
+__all__ = [
+    "EXAMPLES",
+    "BufferReadings",
+    "HarnedReadings",
+    "SampleReadings",
+    "read_buffer_readings",
+    "read_harned",
+    "read_samples",
+    "write_examples",
+]
 
 _HEADER = re.compile(r"^\s*(?P<name>[^\[\]]+?)\s*\[(?P<unit>[^\[\]]+)\]\s*$")
 _TIME = {"s": 1.0, "min": 60.0, "h": 3600.0}

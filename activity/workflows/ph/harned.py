@@ -28,14 +28,21 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from activity import data
-from activity.constants import F, LN10, P_ATM, R, ZERO_CELSIUS
+from activity.constants import LN10, P_ATM, ZERO_CELSIUS, F, R
 from activity.errors import InputError
 
 from .buffers import _interpolate, get_buffer
 from .convention import bates_guggenheim_log10_gamma_cl
 
-__all__ = ["water_vapour_pressure", "silver_chloride_e0", "silver_chloride_e0_from_hcl", "E0Value",
-           "HarnedResult", "harned_ph", "harned_emf"]
+__all__ = [
+    "E0Value",
+    "HarnedResult",
+    "harned_emf",
+    "harned_ph",
+    "silver_chloride_e0",
+    "silver_chloride_e0_from_hcl",
+    "water_vapour_pressure",
+]
 
 # Saturation pressure of water, Wagner & Pruss, J. Phys. Chem. Ref. Data 22 (1993) 783,
 # eq. 2.5 (IAPWS 1992 supplementary release); coefficients from memory, checked in the tests
@@ -80,6 +87,10 @@ class E0Value:
         yield self.standard_uncertainty
 
 
+_TABLE_E0_NOTE = ("E° from the Bates & Bower table: the IUPAC procedure measures E° of the electrodes "
+                  "actually used, in the same cell with HCl(0.01 mol/kg)")
+
+
 def silver_chloride_e0(T: ArrayLike = 298.15) -> E0Value:
     """E°(AgCl/Ag) at T from the Bates & Bower (1954) table (0–95 °C), interpolated.
 
@@ -102,8 +113,7 @@ def silver_chloride_e0(T: ArrayLike = 298.15) -> E0Value:
     u = np.sqrt(sd**2 + err**2 / 3.0)
     sc = (lambda a: float(a) if np.ndim(a) == 0 else a)
     return E0Value(sc(val), sc(u), f"{tab['source']} ({tab['status']})",
-                   ("E° from the Bates & Bower table: the IUPAC procedure measures E° of the electrodes "
-                    "actually used, in the same cell with HCl(0.01 mol/kg)",))
+                   (_TABLE_E0_NOTE,))
 
 
 def silver_chloride_e0_from_hcl(emf: ArrayLike, T: ArrayLike = 298.15, *, m_hcl: float = 0.01,

@@ -14,10 +14,8 @@ strength thus gets a larger, honest uncertainty.
 """
 from __future__ import annotations
 
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from typing import Any, Mapping, Sequence
-
-import numpy as np
 
 from activity import data
 from activity.errors import InputError
@@ -25,7 +23,7 @@ from activity.solution import Solution
 
 from .buffers import StandardBuffer, get_buffer
 
-__all__ = ["JunctionEstimate", "residual_junction", "bridge_solution"]
+__all__ = ["JunctionEstimate", "bridge_solution", "residual_junction"]
 
 #: Default bridge: 3 mol/L KCl, the usual filling of combination pH electrodes (common practice).
 DEFAULT_BRIDGE_MOLARITY = 3.0

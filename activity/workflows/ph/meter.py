@@ -21,8 +21,9 @@ an isothermal intersection was measured, see :func:`isothermal_intersection`).
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field, replace
-from typing import Any, Mapping, Sequence
+from typing import Any
 
 import numpy as np
 from numpy.typing import ArrayLike
@@ -33,8 +34,16 @@ from activity.errors import InputError
 from .buffers import StandardBuffer, get_buffer
 from .criteria import Thresholds, Verdict
 
-__all__ = ["PhCalibration", "calibrate_ph", "isothermal_intersection", "IsothermalIntersection",
-           "SamplePH", "DEFAULT_U_EMF", "DEFAULT_U_SLOPE_FRACTION", "DEFAULT_U_T"]
+__all__ = [
+    "DEFAULT_U_EMF",
+    "DEFAULT_U_SLOPE_FRACTION",
+    "DEFAULT_U_T",
+    "IsothermalIntersection",
+    "PhCalibration",
+    "SamplePH",
+    "calibrate_ph",
+    "isothermal_intersection",
+]
 
 #: Standard uncertainty of one reading, V: 0.2 mV, the stability of a glass-electrode reading
 #: within a minute (common practice).
@@ -211,7 +220,7 @@ class PhCalibration:
         out = self.isothermal_pH + (E - self.isothermal_E) / (self.slope * Tk / self.T)
         return float(out) if np.ndim(out) == 0 else out
 
-    def with_isothermal_intersection(self, pH_iso: float) -> "PhCalibration":
+    def with_isothermal_intersection(self, pH_iso: float) -> PhCalibration:
         """The same calibration compensating temperature about an isothermal pH ``pH_iso``."""
         return replace(self, isothermal_pH=float(pH_iso),
                        notes=self.notes + (f"temperature compensation about the isothermal intersection at pH {pH_iso:.3f}",))

@@ -8,7 +8,7 @@ import numpy as np
 from activity.constants import ZERO_CELSIUS
 from activity.formatting import table, to_csv, to_json
 
-__all__ = ["PH_CAUTION", "validation_report", "validation_record", "buffers_report", "harned_report"]
+__all__ = ["PH_CAUTION", "buffers_report", "harned_report", "validation_record", "validation_report"]
 
 #: Shown with every pH result.
 PH_CAUTION = (
@@ -20,6 +20,11 @@ PH_CAUTION = (
 
 def _c(T: float) -> float:
     return round(float(T) - ZERO_CELSIUS, 3)
+
+
+def _all_notes(v: Any) -> list[str]:
+    """The validation's notes and the samples', each once."""
+    return list(dict.fromkeys(list(v.notes) + (list(v.samples.notes) if v.samples is not None else [])))
 
 
 def _calibration_rows(cal: Any) -> list[list[Any]]:
@@ -95,7 +100,7 @@ def validation_report(v: Any, form: str = "table", *, samples_emf: Any = None, s
             "stability [mV]": None if v.stability is None else v.stability * 1000,
             "samples": [dict(zip(_SAMPLE_HEAD, r), budget=[dict(zip(_BUDGET_HEAD, b)) for b in _budget_rows(v, i)])
                         for i, r in enumerate(samples)],
-            "notes": list(v.notes) + (list(v.samples.notes) if v.samples is not None else []),
+            "notes": _all_notes(v),
             "caution": PH_CAUTION,
         })
     if form == "csv":
@@ -121,7 +126,7 @@ def validation_report(v: Any, form: str = "table", *, samples_emf: Any = None, s
         parts.append(table(_SAMPLE_HEAD, samples, digits=5, title="\nsamples"))
         for i, label in enumerate(v.sample_labels):
             parts.append(table(_BUDGET_HEAD, _budget_rows(v, i), digits=4, title=f"\nuncertainty budget: {label}"))
-    notes = list(v.notes) + (list(v.samples.notes) if v.samples is not None else [])
+    notes = _all_notes(v)
     if notes:
         parts.append("\n" + "\n".join(f"note: {n}" for n in notes))
     parts.append("\n" + PH_CAUTION)
@@ -160,14 +165,14 @@ def validation_record(v: Any, *, title: str = "pH-meter validation record", subt
         for i, label in enumerate(v.sample_labels):
             rec.table(_BUDGET_HEAD, _budget_rows(v, i), digits=5,
                       caption=f"uncertainty budget of the pH of {label} (values in pH, V and K)")
-    notes = list(v.notes) + (list(v.samples.notes) if v.samples is not None else [])
+    notes = _all_notes(v)
     buf_sources = {}
-    from .buffers import get_buffer
+    from .buffers import standard_buffers
 
+    known = {**standard_buffers(), **{b.key: b for b in cal.buffers}}   # cal.buffers holds user buffers too
     for name in cal.standards + tuple(c.buffer for c in v.checks):
-        try:
-            b = get_buffer(name)
-        except Exception:  # user buffers or numeric pH(S) are described by the user's own file
+        b = known.get(name)
+        if b is None:  # a numeric pH(S) given without a buffer
             continue
         buf_sources[b.key] = f"{b.key}: {b.source}; status: {', '.join(sorted(set(b.status)))}"
     if notes or buf_sources:

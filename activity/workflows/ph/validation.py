@@ -17,8 +17,9 @@ Limits are :class:`~.criteria.Thresholds` (defaults: common practice).
 """
 from __future__ import annotations
 
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from typing import Any, Mapping, Sequence
+from typing import Any
 
 import numpy as np
 from numpy.typing import ArrayLike
@@ -27,10 +28,10 @@ from activity.errors import InputError
 
 from .buffers import StandardBuffer, get_buffer
 from .criteria import Thresholds, Verdict
-from .meter import DEFAULT_U_EMF, DEFAULT_U_T, PhCalibration, SamplePH, calibrate_ph
 from .junction import residual_junction
+from .meter import DEFAULT_U_EMF, DEFAULT_U_T, PhCalibration, SamplePH, calibrate_ph
 
-__all__ = ["CheckResult", "MeterValidation", "validate_meter", "residual_junction", "Thresholds"]
+__all__ = ["CheckResult", "MeterValidation", "Thresholds", "residual_junction", "validate_meter"]
 
 ROLES = ("calibration", "check")
 

@@ -8,8 +8,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-import activity.workflows.ph as ph
-from activity.constants import F, LN10, R
+from activity.constants import LN10, F, R
+from activity.workflows import ph
 
 PINNED = ["buffer_ph", "standard_buffers", "get_buffer", "load_buffers", "StandardBuffer", "BufferValue",
           "bates_guggenheim_log10_gamma_cl", "harned_ph", "HarnedResult", "silver_chloride_e0",

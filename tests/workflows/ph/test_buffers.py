@@ -7,7 +7,12 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from activity.errors import InputError
-from activity.workflows.ph.buffers import buffer_ph, get_buffer, load_buffers, standard_buffers
+from activity.workflows.ph.buffers import (
+    buffer_ph,
+    get_buffer,
+    load_buffers,
+    standard_buffers,
+)
 
 K = 273.15
 

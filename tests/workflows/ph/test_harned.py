@@ -6,12 +6,17 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from activity.constants import F, LN10, P_ATM, R
+from activity.constants import LN10, P_ATM, F, R
 from activity.errors import InputError
 from activity.water import debye_huckel_A
 from activity.workflows.ph.convention import bates_guggenheim_log10_gamma_cl
-from activity.workflows.ph.harned import (harned_emf, harned_ph, silver_chloride_e0,
-                                          silver_chloride_e0_from_hcl, water_vapour_pressure)
+from activity.workflows.ph.harned import (
+    harned_emf,
+    harned_ph,
+    silver_chloride_e0,
+    silver_chloride_e0_from_hcl,
+    water_vapour_pressure,
+)
 
 K = 273.15
 
@@ -53,7 +58,7 @@ def test_convention_refused_above_0_1():
 
 # ------------------------------------------------------------------ hydrogen pressure and E°
 def test_water_vapour_pressure_against_iapws():
-    from iapws.iapws97 import _PSat_T   # IAPWS-IF97 region 4, as implemented by `iapws`
+    from iapws.iapws97 import _PSat_T  # IAPWS-IF97 region 4, as implemented by `iapws`
 
     for T in (273.16, 283.15, 298.15, 310.15, 323.15, 368.15):
         # Wagner & Pruss (1993) vs IF97: measured at most 1.0e-4 relative over 0–95 °C

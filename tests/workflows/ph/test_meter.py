@@ -7,7 +7,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from activity.constants import F, LN10, R
+from activity.constants import LN10, F, R
 from activity.errors import InputError
 from activity.solution import Solution
 from activity.workflows.ph.buffers import buffer_ph
@@ -198,3 +198,25 @@ def test_verdicts_follow_user_thresholds():
     assert reversed_.verdicts[0].passed is False and "sign" in reversed_.verdicts[0].detail
     with pytest.raises(InputError, match="thresholds = 'slope'"):
         calibrate_ph(BUFFERS, E, 298.15, thresholds={"slope": 1})
+
+
+@settings(deadline=None, max_examples=20)
+@given(st.permutations([0, 1, 2, 3, 4]))
+def test_calibration_is_independent_of_buffer_order(order):
+    names = ["KHP", "citrate", "phosphate", "borax", "carbonate"]
+    E, _ = readings(97.0, 0.01, 298.15, names)
+    E = E + np.array([3e-4, -2e-4, 1e-4, 0.0, -1e-4])
+    ref = calibrate_ph(names, E, 298.15)
+    perm = calibrate_ph([names[i] for i in order], E[list(order)], 298.15)
+    assert perm.slope == pytest.approx(ref.slope, rel=1e-12) and perm.E_pH7 == pytest.approx(ref.E_pH7, abs=1e-14)
+    assert np.allclose(perm.covariance, ref.covariance, rtol=1e-10)
+
+
+def test_one_point_budget_carries_the_assumed_slope():
+    E, _ = readings(100.0, 0.0, 298.15, ["phosphate"])
+    cal = calibrate_ph(["phosphate"], E, 298.15, u_slope=0.001)
+    res = cal.ph_with_uncertainty(cal.potential(9.0), u_T=0.0, u_T_calibration=0.0)
+    row = next(r for r in res.budget_rows() if r["label"] == "assumed slope")
+    # ∂pH/∂s = −(pH − pH(S))/s at the estimates: 2.135 pH units from the buffer
+    assert row["sensitivity"] == pytest.approx(-(9.0 - 6.865) / cal.slope, rel=1e-4)
+    assert res.outside_bracket    # one buffer brackets nothing
