@@ -8,6 +8,7 @@ checks and sample pH with uncertainty budgets, plots and an HTML record.
 * :mod:`.validation` — check buffers, verdicts, sample pH with a budget (liquid junction)
 * :mod:`.files`, :mod:`.report`, :mod:`.plots` — CSV input, text/JSON/CSV/HTML output, figures
 """
+
 from __future__ import annotations
 
 import importlib

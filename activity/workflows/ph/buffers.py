@@ -20,6 +20,7 @@ Users add their own buffers (certificate values) from a TOML file with the same 
     coverage_factor = 2
     source = "certificate 0417"
 """
+
 from __future__ import annotations
 
 import math
@@ -66,7 +67,9 @@ class BufferEquation:
         t = Tk - ZERO_CELSIUS
         lo, hi = self.range_C
         if np.any(t < lo - 1e-9) or np.any(t > hi + 1e-9):
-            raise InputError(f"equation {self.name} holds for {lo:g}–{hi:g} °C", field="T", value=float(np.max(Tk)))
+            raise InputError(
+                f"equation {self.name} holds for {lo:g}–{hi:g} °C", field="T", value=float(np.max(Tk))
+            )
         x = t + self.T_offset
         a, b, c, d = self.coefficients
         out = a / x + b + c * x + d * x * x
@@ -170,16 +173,24 @@ class StandardBuffer:
             raise InputError(
                 f"buffer {self.key!r} is tabulated for {self.range_text} only "
                 f"({worst - ZERO_CELSIUS:.2f} °C asked); pH(S) is not extrapolated",
-                field="T", value=worst)
+                field="T",
+                value=worst,
+            )
         value, err = _interpolate(self.temperature, self.pH, Tk)
         u_tab = self.standard_uncertainty
         u = np.sqrt(u_tab**2 + (err / math.sqrt(3.0)) ** 2)
         notes = []
-        if self.temperature.size == 2 and np.any(err == 0) and np.any((Tk > self.temperature[0]) & (Tk < self.temperature[-1])):
+        if (
+            self.temperature.size == 2
+            and np.any(err == 0)
+            and np.any((Tk > self.temperature[0]) & (Tk < self.temperature[-1]))
+        ):
             notes.append(f"{self.key}: linear interpolation between two points; its error is not estimated")
         statuses = set(self.status)
         if any("memory" in s for s in statuses):
-            notes.append(f"{self.key}: pH(S) values are from memory (not read in the source); check before use")
+            notes.append(
+                f"{self.key}: pH(S) values are from memory (not read in the source); check before use"
+            )
         sc = _scalar
         return BufferValue(self.key, sc(Tk), sc(value), sc(u), u_tab, sc(err), tuple(notes))
 
@@ -188,8 +199,11 @@ class StandardBuffer:
         from activity.solution import Solution
 
         if not self.composition:
-            raise InputError(f"buffer {self.key!r} has no composition; add one to estimate junctions",
-                             field="composition", value=self.key)
+            raise InputError(
+                f"buffer {self.key!r} has no composition; add one to estimate junctions",
+                field="composition",
+                value=self.key,
+            )
         return Solution(dict(self.composition), T=T)
 
 
@@ -207,8 +221,9 @@ def _temperature(T: ArrayLike) -> np.ndarray:
         raise InputError("must be finite", field="T", value=T)
     if np.any(Tk < 200.0):
         bad = float(Tk[Tk < 200.0].flat[0])
-        raise InputError(f"temperatures are in kelvin; did you mean {bad + ZERO_CELSIUS:.2f} K?",
-                         field="T", value=bad)
+        raise InputError(
+            f"temperatures are in kelvin; did you mean {bad + ZERO_CELSIUS:.2f} K?", field="T", value=bad
+        )
     return Tk
 
 
@@ -229,9 +244,11 @@ def _interpolate(x: np.ndarray, y: np.ndarray, xi: np.ndarray) -> tuple[np.ndarr
     k0 = np.where(use_left, j - 1, j)
     x0, x1, x2 = x[k0], x[k0 + 1], x[k0 + 2]
     y0, y1, y2 = y[k0], y[k0 + 1], y[k0 + 2]
-    quad = (y0 * (xi - x1) * (xi - x2) / ((x0 - x1) * (x0 - x2))
-            + y1 * (xi - x0) * (xi - x2) / ((x1 - x0) * (x1 - x2))
-            + y2 * (xi - x0) * (xi - x1) / ((x2 - x0) * (x2 - x1)))
+    quad = (
+        y0 * (xi - x1) * (xi - x2) / ((x0 - x1) * (x0 - x2))
+        + y1 * (xi - x0) * (xi - x2) / ((x1 - x0) * (x1 - x2))
+        + y2 * (xi - x0) * (xi - x1) / ((x2 - x0) * (x2 - x1))
+    )
     err = np.abs(quad - lin)
     at_node = np.isclose(xi, x[j], rtol=0, atol=1e-9) | np.isclose(xi, x[j + 1], rtol=0, atol=1e-9)
     return np.where(at_node, lin, quad), np.where(at_node, 0.0, err)
@@ -254,7 +271,9 @@ def _build(key: str, entry: Mapping[str, Any], where: str, default_kind: str) ->
     t = _float_list(entry["temperature"], f"{where}.temperature")
     ph = _float_list(entry["pH"], f"{where}.pH")
     if t.size != ph.size:
-        raise InputError(f"{t.size} temperatures but {ph.size} pH values", field=f"{where}.pH", value=list(ph))
+        raise InputError(
+            f"{t.size} temperatures but {ph.size} pH values", field=f"{where}.pH", value=list(ph)
+        )
     if np.any(np.diff(t) <= 0):
         raise InputError("temperatures must increase strictly", field=f"{where}.temperature", value=list(t))
     if np.any(t < -5) or np.any(t > 150):
@@ -264,7 +283,9 @@ def _build(key: str, entry: Mapping[str, Any], where: str, default_kind: str) ->
     U = float(entry["expanded_uncertainty"])
     k = float(entry.get("coverage_factor", 2.0))
     if not (U > 0 and math.isfinite(U)):
-        raise InputError("must be a positive number (pH units)", field=f"{where}.expanded_uncertainty", value=U)
+        raise InputError(
+            "must be a positive number (pH units)", field=f"{where}.expanded_uncertainty", value=U
+        )
     if not (k > 0 and math.isfinite(k)):
         raise InputError("must be positive", field=f"{where}.coverage_factor", value=k)
     status = entry.get("status", "user value")
@@ -277,9 +298,14 @@ def _build(key: str, entry: Mapping[str, Any], where: str, default_kind: str) ->
         coeffs = tuple(float(c) for c in e["coefficients"])
         if len(coeffs) != 4:
             raise InputError("four coefficients a, b, c, d", field=f"{where}.equations.{name}", value=coeffs)
-        eqs[name] = BufferEquation(name, coeffs, float(e.get("T_offset", ZERO_CELSIUS)),
-                                   tuple(float(v) for v in e["range"]), str(e.get("source", "")),
-                                   str(e.get("status", "")))
+        eqs[name] = BufferEquation(
+            name,
+            coeffs,
+            float(e.get("T_offset", ZERO_CELSIUS)),
+            tuple(float(v) for v in e["range"]),
+            str(e.get("source", "")),
+            str(e.get("status", "")),
+        )
     I = entry.get("ionic_strength")
     return StandardBuffer(
         key=key,
@@ -319,7 +345,9 @@ def load_buffers(path: str | Path) -> dict[str, StandardBuffer]:
     return {str(k): _build(str(k), v, f"{p.name}: buffers.{k}", "user") for k, v in table.items()}
 
 
-def standard_buffers(extra: str | Path | Mapping[str, StandardBuffer] | None = None) -> dict[str, StandardBuffer]:
+def standard_buffers(
+    extra: str | Path | Mapping[str, StandardBuffer] | None = None,
+) -> dict[str, StandardBuffer]:
     """The shipped standard buffers by key (plus user buffers from ``extra``).
 
     Parameters
@@ -339,12 +367,16 @@ def standard_buffers(extra: str | Path | Mapping[str, StandardBuffer] | None = N
         users = extra if isinstance(extra, Mapping) else load_buffers(extra)
         for k, v in users.items():
             if k in out:
-                raise InputError("a user buffer may not reuse the name of a standard buffer", field="buffers", value=k)
+                raise InputError(
+                    "a user buffer may not reuse the name of a standard buffer", field="buffers", value=k
+                )
             out[k] = v
     return out
 
 
-def get_buffer(name: str | StandardBuffer, buffers: Mapping[str, StandardBuffer] | None = None) -> StandardBuffer:
+def get_buffer(
+    name: str | StandardBuffer, buffers: Mapping[str, StandardBuffer] | None = None
+) -> StandardBuffer:
     """A buffer by key or alias (case-insensitive).
 
     Examples
@@ -362,8 +394,9 @@ def get_buffer(name: str | StandardBuffer, buffers: Mapping[str, StandardBuffer]
     raise InputError(f"unknown buffer; known: {', '.join(table)}", field="buffer", value=name)
 
 
-def buffer_ph(name: str | StandardBuffer, T: ArrayLike = 298.15, *,
-              buffers: Mapping[str, StandardBuffer] | None = None) -> BufferValue:
+def buffer_ph(
+    name: str | StandardBuffer, T: ArrayLike = 298.15, *, buffers: Mapping[str, StandardBuffer] | None = None
+) -> BufferValue:
     """pH(S) of a standard buffer at T (kelvin) and its standard uncertainty.
 
     Parameters

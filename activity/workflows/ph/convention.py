@@ -10,6 +10,7 @@ with A the Debye–Hückel constant of water at the temperature (here from
 :func:`activity.water.debye_huckel_A`) and 1.5 (kg/mol)^½ the product B·å fixed at every
 temperature.
 """
+
 from __future__ import annotations
 
 from typing import Any
@@ -54,11 +55,17 @@ def bates_guggenheim_log10_gamma_cl(ionic_strength: ArrayLike, T: ArrayLike = 29
     """
     I = np.asarray(ionic_strength, dtype=float)
     if not np.all(np.isfinite(I)) or np.any(I < 0):
-        raise InputError("must be a finite, non-negative ionic strength in mol/kg", field="ionic_strength",
-                         value=ionic_strength)
+        raise InputError(
+            "must be a finite, non-negative ionic strength in mol/kg",
+            field="ionic_strength",
+            value=ionic_strength,
+        )
     if np.any(I > BG_MAX_IONIC_STRENGTH + 1e-9):
-        raise InputError("the Bates–Guggenheim convention is defined for I ≤ 0.1 mol/kg only",
-                         field="ionic_strength", value=float(np.max(I)))
+        raise InputError(
+            "the Bates–Guggenheim convention is defined for I ≤ 0.1 mol/kg only",
+            field="ionic_strength",
+            value=float(np.max(I)),
+        )
     A = np.asarray(debye_huckel_A(T), dtype=float)
     s = np.sqrt(I)
     out = -A * s / (1.0 + BG_PRODUCT * s)

@@ -4,6 +4,7 @@ Every default is marked "common practice": values found in laboratory procedures
 meters, not taken from a standard. Give your own (your procedure, pharmacopoeia or local
 code decides); a verdict records which limit it used and where the limit came from.
 """
+
 from __future__ import annotations
 
 from collections.abc import Mapping
@@ -56,7 +57,9 @@ class Thresholds:
         changes = {}
         for k, v in values.items():
             if k not in names:
-                raise InputError(f"unknown threshold; known: {', '.join(sorted(names))}", field="thresholds", value=k)
+                raise InputError(
+                    f"unknown threshold; known: {', '.join(sorted(names))}", field="thresholds", value=k
+                )
             try:
                 changes[k] = float(v)
             except (TypeError, ValueError):

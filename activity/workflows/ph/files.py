@@ -24,6 +24,7 @@ Harned-cell EMFs::
 Errors name the file, the row and the column; the whole file is read before anything is
 computed.
 """
+
 from __future__ import annotations
 
 import csv
@@ -55,8 +56,8 @@ _TEXT = ("buffer", "role", "label")
 @dataclass(frozen=True)
 class _Table:
     path: str
-    text: dict          # name → list of str
-    numbers: dict       # name → (unit, ndarray)
+    text: dict  # name → list of str
+    numbers: dict  # name → (unit, ndarray)
     rows: int
 
 
@@ -80,8 +81,11 @@ def _read(path: str | Path, what: str) -> _Table:
             continue
         m = _HEADER.match(h)
         if not m:
-            raise InputError("column headers are 'name [unit]' or one of buffer, role, label",
-                             field=f"{p.name}: header", value=h)
+            raise InputError(
+                "column headers are 'name [unit]' or one of buffer, role, label",
+                field=f"{p.name}: header",
+                value=h,
+            )
         cols.append((m.group("name").strip(), m.group("unit").strip()))
     names = [c[0].lower() for c in cols]
     if len(set(names)) != len(names):
@@ -90,7 +94,9 @@ def _read(path: str | Path, what: str) -> _Table:
     nums: dict[str, list] = {c: [] for c, u in cols if u is not None}
     for k, row in enumerate(body, start=2):
         if len(row) != len(cols):
-            raise InputError(f"has {len(row)} cells, the header {len(cols)}", field=f"{p.name}: row {k}", value=row)
+            raise InputError(
+                f"has {len(row)} cells, the header {len(cols)}", field=f"{p.name}: row {k}", value=row
+            )
         for (name, unit), cell in zip(cols, row):
             if unit is None:
                 text[name].append(cell.strip())
@@ -98,10 +104,13 @@ def _read(path: str | Path, what: str) -> _Table:
             try:
                 v = float(cell)
             except ValueError:
-                raise InputError("not a number", field=f"{p.name}: row {k}, column '{name} [{unit}]'",
-                                 value=cell) from None
+                raise InputError(
+                    "not a number", field=f"{p.name}: row {k}, column '{name} [{unit}]'", value=cell
+                ) from None
             if not np.isfinite(v):
-                raise InputError("must be finite", field=f"{p.name}: row {k}, column '{name} [{unit}]'", value=cell)
+                raise InputError(
+                    "must be finite", field=f"{p.name}: row {k}, column '{name} [{unit}]'", value=cell
+                )
             nums[name].append(v)
     numbers = {name: (unit, np.array(nums[name])) for name, unit in cols if unit is not None}
     return _Table(str(p), text, numbers, len(body))
@@ -120,7 +129,9 @@ def _potential(t: _Table, names: tuple, required: bool = True) -> np.ndarray | N
     hit = _find(t, *names)
     if hit is None:
         if required:
-            raise InputError(f"needs a column '{names[0]} [mV]'", field=Path(t.path).name, value=list(t.numbers))
+            raise InputError(
+                f"needs a column '{names[0]} [mV]'", field=Path(t.path).name, value=list(t.numbers)
+            )
         return None
     key, unit, arr = hit
     return arr * parse_potential(f"1 {unit}", field=f"column '{key} [{unit}]'")
@@ -132,8 +143,11 @@ def _temperatures(t: _Table, default: float | None) -> np.ndarray:
     hit = _find(t, "temperature")
     if hit is None:
         if default is None:
-            raise InputError("needs a column 'temperature [°C]' (or give the temperature)", field=Path(t.path).name,
-                             value=list(t.numbers))
+            raise InputError(
+                "needs a column 'temperature [°C]' (or give the temperature)",
+                field=Path(t.path).name,
+                value=list(t.numbers),
+            )
         return np.full(t.rows, float(default))
     key, unit, arr = hit
     off = parse_temperature(f"0 {unit}", field=f"column '{key} [{unit}]'")
@@ -166,11 +180,15 @@ def read_buffer_readings(path: str | Path, *, temperature: float | None = None) 
     if hit is not None:
         key, unit, arr = hit
         if unit not in _TIME:
-            raise InputError(f"time unit one of {', '.join(_TIME)}", field=f"column '{key} [{unit}]'", value=unit)
+            raise InputError(
+                f"time unit one of {', '.join(_TIME)}", field=f"column '{key} [{unit}]'", value=unit
+            )
         time = arr * _TIME[unit]
     for k, b in enumerate(t.text["buffer"], start=2):
         if not b:
-            raise InputError("empty buffer name", field=f"{Path(t.path).name}: row {k}, column 'buffer'", value=b)
+            raise InputError(
+                "empty buffer name", field=f"{Path(t.path).name}: row {k}, column 'buffer'", value=b
+            )
     roles = tuple(r or "calibration" for r in t.text.get("role", ["calibration"] * t.rows))
     labels = tuple(t.text.get("label", [f"row {k}" for k in range(2, t.rows + 2)]))
     return BufferReadings(t.path, tuple(t.text["buffer"]), emf, T, time, roles, labels)
@@ -197,7 +215,9 @@ def read_samples(path: str | Path, *, temperature: float | None = None) -> Sampl
     emf = _potential(t, ("reading", "emf", "potential"))
     T = _temperatures(t, temperature)
     labels = tuple(t.text.get("label", [f"sample {k}" for k in range(1, t.rows + 1)]))
-    species = {k: v for k, v in t.numbers.items() if k.lower() not in ("reading", "emf", "potential", "temperature")}
+    species = {
+        k: v for k, v in t.numbers.items() if k.lower() not in ("reading", "emf", "potential", "temperature")
+    }
     comps: list[Any] = [None] * t.rows
     if species:
         amounts, bases = {}, set()
@@ -205,13 +225,18 @@ def read_samples(path: str | Path, *, temperature: float | None = None) -> Sampl
             sp = parse_species(name)
             amt = parse_amount(f"1 {unit}", field=f"column '{name} [{unit}]'")
             if np.any(arr < 0):
-                raise InputError("must not be negative", field=f"column '{name} [{unit}]'", value=float(arr.min()))
+                raise InputError(
+                    "must not be negative", field=f"column '{name} [{unit}]'", value=float(arr.min())
+                )
             bases.add(amt.basis)
             amounts[sp.name] = arr * amt.moles(sp.molar_mass)
         if len(bases) > 1:
             raise InputError("species columns mix per-kg and per-litre units", field="samples", value=t.path)
         make = Solution.from_molarity if bases == {"L"} else Solution
-        comps = [make({s: float(a[i]) for s, a in amounts.items() if a[i] > 0}, T=float(T[i])) for i in range(t.rows)]
+        comps = [
+            make({s: float(a[i]) for s, a in amounts.items() if a[i] > 0}, T=float(T[i]))
+            for i in range(t.rows)
+        ]
     return SampleReadings(t.path, labels, emf, T, tuple(comps))
 
 
@@ -237,7 +262,9 @@ def read_harned(path: str | Path) -> HarnedReadings:
     key, unit, arr = hit
     amt = parse_amount(f"1 {unit}", field=f"column '{key} [{unit}]'")
     if amt.basis != "kg" or amt.mass:
-        raise InputError("chloride must be a molality (mol/kg or mmol/kg)", field=f"column '{key} [{unit}]'", value=unit)
+        raise InputError(
+            "chloride must be a molality (mol/kg or mmol/kg)", field=f"column '{key} [{unit}]'", value=unit
+        )
     m = arr * amt.value
     emf = _potential(t, ("emf", "reading", "potential"))
     T = _temperatures(t, None)

@@ -18,6 +18,7 @@ the E° values of Bates & Bower (1954). E° of the AgCl/Ag electrodes is measure
 cell filled with HCl(0.01 mol/kg) (:func:`silver_chloride_e0_from_hcl`), or taken from the
 Bates & Bower table (:func:`silver_chloride_e0`).
 """
+
 from __future__ import annotations
 
 import math
@@ -87,8 +88,10 @@ class E0Value:
         yield self.standard_uncertainty
 
 
-_TABLE_E0_NOTE = ("E° from the Bates & Bower table: the IUPAC procedure measures E° of the electrodes "
-                  "actually used, in the same cell with HCl(0.01 mol/kg)")
+_TABLE_E0_NOTE = (
+    "E° from the Bates & Bower table: the IUPAC procedure measures E° of the electrodes "
+    "actually used, in the same cell with HCl(0.01 mol/kg)"
+)
 
 
 def silver_chloride_e0(T: ArrayLike = 298.15) -> E0Value:
@@ -111,13 +114,18 @@ def silver_chloride_e0(T: ArrayLike = 298.15) -> E0Value:
     val, err = _interpolate(t, np.asarray(tab["E0"], float), Tk)
     sd = np.interp(Tk, np.asarray(tab["sd_temperature"], float) + ZERO_CELSIUS, np.asarray(tab["sd"], float))
     u = np.sqrt(sd**2 + err**2 / 3.0)
-    sc = (lambda a: float(a) if np.ndim(a) == 0 else a)
-    return E0Value(sc(val), sc(u), f"{tab['source']} ({tab['status']})",
-                   (_TABLE_E0_NOTE,))
+    sc = lambda a: float(a) if np.ndim(a) == 0 else a
+    return E0Value(sc(val), sc(u), f"{tab['source']} ({tab['status']})", (_TABLE_E0_NOTE,))
 
 
-def silver_chloride_e0_from_hcl(emf: ArrayLike, T: ArrayLike = 298.15, *, m_hcl: float = 0.01,
-                                gamma: ArrayLike | None = None, pressure: ArrayLike = P_ATM) -> E0Value:
+def silver_chloride_e0_from_hcl(
+    emf: ArrayLike,
+    T: ArrayLike = 298.15,
+    *,
+    m_hcl: float = 0.01,
+    gamma: ArrayLike | None = None,
+    pressure: ArrayLike = P_ATM,
+) -> E0Value:
     """E°(AgCl/Ag) from the EMF of Pt | H₂ | HCl(m) | AgCl | Ag.
 
     E° = E + 2k lg(m γ±) − (k/2) lg(p(H₂)/p°), p(H₂) = ``pressure`` − p_w(T).
@@ -155,12 +163,24 @@ def silver_chloride_e0_from_hcl(emf: ArrayLike, T: ArrayLike = 298.15, *, m_hcl:
         notes.append("γ±(HCl) from the Pitzer model")
     k = _k(T)
     p_h2 = np.asarray(pressure, float) - water_vapour_pressure(T)
-    e0 = np.asarray(emf, float) + 2 * k * np.log10(m_hcl * np.asarray(gamma, float)) - 0.5 * k * np.log10(p_h2 / P_ATM)
+    e0 = (
+        np.asarray(emf, float)
+        + 2 * k * np.log10(m_hcl * np.asarray(gamma, float))
+        - 0.5 * k * np.log10(p_h2 / P_ATM)
+    )
     return E0Value(float(e0) if e0.ndim == 0 else e0, None, "Harned cell with HCl", tuple(notes))
 
 
-def harned_emf(pH: float, m_cl: ArrayLike, T: float, *, ionic_strength: float, E0: float,
-               slope_in_chloride: float = 0.0, pressure: float = P_ATM) -> np.ndarray:
+def harned_emf(
+    pH: float,
+    m_cl: ArrayLike,
+    T: float,
+    *,
+    ionic_strength: float,
+    E0: float,
+    slope_in_chloride: float = 0.0,
+    pressure: float = P_ATM,
+) -> np.ndarray:
     """The EMFs a Harned cell would show for a buffer of given pH(PS) (the forward model).
 
     The acidity function is taken linear in m_Cl with ``slope_in_chloride`` (per mol/kg).
@@ -222,8 +242,10 @@ class HarnedResult:
     notes: tuple
 
     def __repr__(self) -> str:
-        return (f"HarnedResult(pH={self.pH:.4f}, u={self.standard_uncertainty:.4f}, "
-                f"U={self.expanded_uncertainty:.4f}, T={self.T:.2f} K, points={self.m_cl.size})")
+        return (
+            f"HarnedResult(pH={self.pH:.4f}, u={self.standard_uncertainty:.4f}, "
+            f"U={self.expanded_uncertainty:.4f}, T={self.T:.2f} K, points={self.m_cl.size})"
+        )
 
     def budget_rows(self) -> list[dict]:
         """Budget rows with readable input labels."""
@@ -242,11 +264,25 @@ def _intercept(m: np.ndarray, y: np.ndarray) -> tuple[Any, Any]:
     return b0, b1
 
 
-def harned_ph(m_cl: ArrayLike, emf: ArrayLike, T: float, *, buffer: str | None = None,
-              ionic_strength: float | None = None, E0: float | None = None, u_E0: float | None = None,
-              pressure: float = P_ATM, u_emf: float = 2e-5, u_T: float = 0.01, u_pressure: float = 20.0,
-              u_m_cl_relative: float = 1e-3, u_convention: float = 0.0, method: str = "gum",
-              seed: int | None = None, trials: int | None = None) -> HarnedResult:
+def harned_ph(
+    m_cl: ArrayLike,
+    emf: ArrayLike,
+    T: float,
+    *,
+    buffer: str | None = None,
+    ionic_strength: float | None = None,
+    E0: float | None = None,
+    u_E0: float | None = None,
+    pressure: float = P_ATM,
+    u_emf: float = 2e-5,
+    u_T: float = 0.01,
+    u_pressure: float = 20.0,
+    u_m_cl_relative: float = 1e-3,
+    u_convention: float = 0.0,
+    method: str = "gum",
+    seed: int | None = None,
+    trials: int | None = None,
+) -> HarnedResult:
     """pH(PS) of a buffer from Harned-cell EMFs at several added chloride molalities.
 
     Parameters
@@ -298,24 +334,35 @@ def harned_ph(m_cl: ArrayLike, emf: ArrayLike, T: float, *, buffer: str | None =
     if m.size != E.size:
         raise InputError(f"{m.size} molalities but {E.size} EMFs", field="emf", value=E.size)
     if m.size < 2 or np.unique(m).size < 2:
-        raise InputError("the extrapolation to zero chloride needs at least two distinct chloride molalities",
-                         field="m_cl", value=m.tolist())
+        raise InputError(
+            "the extrapolation to zero chloride needs at least two distinct chloride molalities",
+            field="m_cl",
+            value=m.tolist(),
+        )
     if np.any(~np.isfinite(m)) or np.any(m <= 0):
         raise InputError("chloride molalities must be positive", field="m_cl", value=m.tolist())
     if np.any(~np.isfinite(E)) or np.any(np.abs(E) > 2.0):
-        raise InputError("EMFs are in volts (|E| < 2 V); were millivolts given?", field="emf",
-                         value=float(np.max(np.abs(E))))
+        raise InputError(
+            "EMFs are in volts (|E| < 2 V); were millivolts given?",
+            field="emf",
+            value=float(np.max(np.abs(E))),
+        )
     T = float(T)
     if not (ZERO_CELSIUS <= T <= ZERO_CELSIUS + 95):
         raise InputError("temperature in kelvin, 273.15–368.15 K", field="T", value=T)
     notes: list[str] = []
     if ionic_strength is None:
         if buffer is None:
-            raise InputError("give the buffer's ionic strength or a standard buffer name", field="ionic_strength",
-                             value=None)
+            raise InputError(
+                "give the buffer's ionic strength or a standard buffer name",
+                field="ionic_strength",
+                value=None,
+            )
         b = get_buffer(buffer)
         if b.ionic_strength is None:
-            raise InputError("this buffer has no ionic strength; give ionic_strength=", field="buffer", value=buffer)
+            raise InputError(
+                "this buffer has no ionic strength; give ionic_strength=", field="buffer", value=buffer
+            )
         ionic_strength = b.ionic_strength
         notes.append(f"ionic strength {ionic_strength:g} mol/kg from the table entry of {b.key}")
     I = float(ionic_strength)
@@ -330,8 +377,11 @@ def harned_ph(m_cl: ArrayLike, emf: ArrayLike, T: float, *, buffer: str | None =
     pressure = float(pressure)
     p_w = water_vapour_pressure(T)
     if pressure - p_w <= 0.5 * P_ATM:
-        raise InputError("barometric pressure in Pa (hydrogen partial pressure would be below 0.5 atm)",
-                         field="pressure", value=pressure)
+        raise InputError(
+            "barometric pressure in Pa (hydrogen partial pressure would be below 0.5 atm)",
+            field="pressure",
+            value=pressure,
+        )
     n = m.size
     dm = m - m.mean()
     sxx = float(np.sum(dm * dm))
@@ -362,19 +412,43 @@ def harned_ph(m_cl: ArrayLike, emf: ArrayLike, T: float, *, buffer: str | None =
         a0, _ = _intercept(m, y)
         return a0 + bates_guggenheim_log10_gamma_cl(I, T) + convention + extrapolation
 
-    inputs = {"E0": Normal(E0, u_E0), "T": Normal(T, u_T), "p": Normal(pressure, u_pressure),
-              "m_scale": Normal(1.0, u_m_cl_relative), "convention": Normal(0.0, u_convention),
-              "extrapolation": Normal(0.0, u_extrap)}
+    inputs = {
+        "E0": Normal(E0, u_E0),
+        "T": Normal(T, u_T),
+        "p": Normal(pressure, u_pressure),
+        "m_scale": Normal(1.0, u_m_cl_relative),
+        "convention": Normal(0.0, u_convention),
+        "extrapolation": Normal(0.0, u_extrap),
+    }
     inputs.update({nm: Normal(float(e), u_emf) for nm, e in zip(names, E)})
-    labels = {"E0": "E°(AgCl/Ag)", "T": "temperature", "p": "barometric pressure (p(H2) = p − p_w)",
-              "m_scale": "chloride molalities (relative)", "convention": "Bates–Guggenheim convention",
-              "extrapolation": "extrapolation to m(Cl-) = 0 (scatter)"}
+    labels = {
+        "E0": "E°(AgCl/Ag)",
+        "T": "temperature",
+        "p": "barometric pressure (p(H2) = p − p_w)",
+        "m_scale": "chloride molalities (relative)",
+        "convention": "Bates–Guggenheim convention",
+        "extrapolation": "extrapolation to m(Cl-) = 0 (scatter)",
+    }
     labels.update({nm: f"EMF at m(Cl-) = {mi:g} mol/kg" for nm, mi in zip(names, m)})
     kw = {"seed": seed, "trials": trials} if method == "monte-carlo" else {}
     budget = propagate(f, inputs, method, **kw)
     pH = float(b0 + lg_gamma)
-    return HarnedResult(pH=pH, standard_uncertainty=float(budget.standard_uncertainty),
-                        expanded_uncertainty=float(budget.expanded_uncertainty()), acidity_function=pA,
-                        acidity_function_zero=float(b0), slope_in_chloride=float(b1), log10_gamma_cl=float(lg_gamma),
-                        ionic_strength=I, T=T, E0=float(E0), p_h2=pressure - p_w, m_cl=m, emf=E,
-                        residual_sd=resid_sd, budget=budget, labels=labels, notes=tuple(notes))
+    return HarnedResult(
+        pH=pH,
+        standard_uncertainty=float(budget.standard_uncertainty),
+        expanded_uncertainty=float(budget.expanded_uncertainty()),
+        acidity_function=pA,
+        acidity_function_zero=float(b0),
+        slope_in_chloride=float(b1),
+        log10_gamma_cl=float(lg_gamma),
+        ionic_strength=I,
+        T=T,
+        E0=float(E0),
+        p_h2=pressure - p_w,
+        m_cl=m,
+        emf=E,
+        residual_sd=resid_sd,
+        budget=budget,
+        labels=labels,
+        notes=tuple(notes),
+    )

@@ -12,6 +12,7 @@ size, not its sign, is used: the largest |ΔpH_j| over the calibration buffers b
 half-width of a rectangular uncertainty in the sample's budget. A sample of high ionic
 strength thus gets a larger, honest uncertainty.
 """
+
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
@@ -64,9 +65,15 @@ def _conductivities(extra: Mapping[str, float] | None) -> dict:
     return table
 
 
-def residual_junction(sample: Solution, buffers: Sequence[str | StandardBuffer], T: float = 298.15, *,
-                      bridge: Solution | None = None, conductivities: Mapping[str, float] | None = None,
-                      buffer_table: Mapping[str, StandardBuffer] | None = None) -> JunctionEstimate:
+def residual_junction(
+    sample: Solution,
+    buffers: Sequence[str | StandardBuffer],
+    T: float = 298.15,
+    *,
+    bridge: Solution | None = None,
+    conductivities: Mapping[str, float] | None = None,
+    buffer_table: Mapping[str, StandardBuffer] | None = None,
+) -> JunctionEstimate:
     """Estimate the residual liquid-junction term between a sample and the calibration buffers.
 
     Parameters
@@ -108,9 +115,13 @@ def residual_junction(sample: Solution, buffers: Sequence[str | StandardBuffer],
         e = float(henderson_potential(br, buf.solution(T), lam).potential)
         e_b[buf.key] = e
         d[buf.key] = (e_x - e) / k
-    notes = ["residual liquid junction: Henderson equation, bridge "
-             + ("3 mol/L KCl (common practice)" if bridge is None else "as given")
-             + ", nominal buffer compositions; used as a rectangular uncertainty, not a correction"]
+    notes = [
+        "residual liquid junction: Henderson equation, bridge "
+        + ("3 mol/L KCl (common practice)" if bridge is None else "as given")
+        + ", nominal buffer compositions; used as a rectangular uncertainty, not a correction"
+    ]
     if sample.ionic_strength > 0.5:
-        notes.append(f"sample ionic strength {sample.ionic_strength:.3g} mol/kg: the Henderson estimate is rough here")
+        notes.append(
+            f"sample ionic strength {sample.ionic_strength:.3g} mol/kg: the Henderson estimate is rough here"
+        )
     return JunctionEstimate(float(max(abs(v) for v in d.values())), d, e_x, e_b, tuple(notes))

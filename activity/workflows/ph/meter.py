@@ -18,6 +18,7 @@ usual temperature compensation of a meter: the slope is proportional to the abso
 temperature, s(T) = s·T/T_cal, about an isothermal intersection point (pH 7 and E(pH 7) unless
 an isothermal intersection was measured, see :func:`isothermal_intersection`).
 """
+
 from __future__ import annotations
 
 import math
@@ -75,8 +76,11 @@ def _as_array(x: ArrayLike, field: str) -> np.ndarray:
 
 def _check_volts(emf: np.ndarray, field: str = "emf") -> None:
     if np.any(np.abs(emf) > 2.0):
-        raise InputError("potentials are in volts here (|E| < 2 V); were millivolts given?", field=field,
-                         value=float(emf[np.argmax(np.abs(emf))]))
+        raise InputError(
+            "potentials are in volts here (|E| < 2 V); were millivolts given?",
+            field=field,
+            value=float(emf[np.argmax(np.abs(emf))]),
+        )
 
 
 @dataclass(frozen=True, repr=False)
@@ -177,9 +181,11 @@ class PhCalibration:
     thresholds: Thresholds = field(default_factory=Thresholds)
 
     def __repr__(self) -> str:
-        return (f"PhCalibration({self.method}, slope={self.slope * 1000:.3f} mV/pH "
-                f"({self.slope_percent:.2f} %), E_pH7={self.E_pH7 * 1000:.2f} mV, "
-                f"T={self.T - ZERO_CELSIUS:.2f} °C, standards={list(self.standards)})")
+        return (
+            f"PhCalibration({self.method}, slope={self.slope * 1000:.3f} mV/pH "
+            f"({self.slope_percent:.2f} %), E_pH7={self.E_pH7 * 1000:.2f} mV, "
+            f"T={self.T - ZERO_CELSIUS:.2f} °C, standards={list(self.standards)})"
+        )
 
     # ---------------------------------------------------------------- the line
     @property
@@ -222,8 +228,12 @@ class PhCalibration:
 
     def with_isothermal_intersection(self, pH_iso: float) -> PhCalibration:
         """The same calibration compensating temperature about an isothermal pH ``pH_iso``."""
-        return replace(self, isothermal_pH=float(pH_iso),
-                       notes=self.notes + (f"temperature compensation about the isothermal intersection at pH {pH_iso:.3f}",))
+        return replace(
+            self,
+            isothermal_pH=float(pH_iso),
+            notes=self.notes
+            + (f"temperature compensation about the isothermal intersection at pH {pH_iso:.3f}",),
+        )
 
     # ---------------------------------------------------------------- uncertainty
     def _measurement_function(self, n_samples_T: Any = None):
@@ -239,7 +249,7 @@ class PhCalibration:
             pHs = np.stack([np.asarray(kw[f"pHS_{i + 1}"], float) for i in range(n)], axis=-1)
             Es = np.stack([np.asarray(kw[f"E_{i + 1}"], float) for i in range(n)], axis=-1)
             dT = np.asarray(dT_cal, float)[..., None]
-            pHs = pHs + dpH_dT * dT   # buffers read at T_i + δ: their pH(S) moves along the table
+            pHs = pHs + dpH_dT * dT  # buffers read at T_i + δ: their pH(S) moves along the table
             x = (pHs - 7.0) * x_scale
             if method == "one-point":
                 s = np.asarray(slope_assumed, float)
@@ -251,11 +261,22 @@ class PhCalibration:
 
         return f
 
-    def ph_with_uncertainty(self, emf: ArrayLike, T: ArrayLike | None = None, *, u_emf: float = DEFAULT_U_EMF,
-                            u_T: float = DEFAULT_U_T, u_T_calibration: float = DEFAULT_U_T,
-                            sample: Any = None, junction_half_width: float | None = None, bridge: Any = None,
-                            method: str = "gum", seed: int | None = None, trials: int | None = None,
-                            coverage: float = 0.95) -> SamplePH:
+    def ph_with_uncertainty(
+        self,
+        emf: ArrayLike,
+        T: ArrayLike | None = None,
+        *,
+        u_emf: float = DEFAULT_U_EMF,
+        u_T: float = DEFAULT_U_T,
+        u_T_calibration: float = DEFAULT_U_T,
+        sample: Any = None,
+        junction_half_width: float | None = None,
+        bridge: Any = None,
+        method: str = "gum",
+        seed: int | None = None,
+        trials: int | None = None,
+        coverage: float = 0.95,
+    ) -> SamplePH:
         """pH of samples with an uncertainty budget.
 
         Budget inputs: pH(S) and reading of each calibration buffer, a common error of the
@@ -308,8 +329,11 @@ class PhCalibration:
             notes.append(f"residual liquid junction: ±{half:g} pH as given")
         elif sample is not None:
             if not self.buffers:
-                raise InputError("the junction estimate needs named calibration buffers (with compositions)",
-                                 field="sample", value=None)
+                raise InputError(
+                    "the junction estimate needs named calibration buffers (with compositions)",
+                    field="sample",
+                    value=None,
+                )
             from .junction import residual_junction
 
             est = residual_junction(sample, list(self.buffers), float(np.mean(Tx)), bridge=bridge)
@@ -318,23 +342,32 @@ class PhCalibration:
             notes.extend(est.notes)
             notes.append(f"residual liquid junction (Henderson): ±{half:.3g} pH")
         else:
-            notes.append("residual liquid junction not estimated (sample composition unknown); "
-                         "pass sample= or junction_half_width=")
+            notes.append(
+                "residual liquid junction not estimated (sample composition unknown); "
+                "pass sample= or junction_half_width="
+            )
         scale = 1.0
         if self.chi2_reduced is not None and self.chi2_reduced > 1.0:
             scale = math.sqrt(self.chi2_reduced)
             notes.append(f"calibration readings' uncertainty scaled by √χ²ᵣ = {scale:.3g} (scatter above u)")
-        labels = {"E_x": "sample reading", "T_x": "sample temperature",
-                  "dT_cal": "calibration temperature", "junction": "residual liquid junction",
-                  "slope_assumed": "assumed slope"}
+        labels = {
+            "E_x": "sample reading",
+            "T_x": "sample temperature",
+            "dT_cal": "calibration temperature",
+            "junction": "residual liquid junction",
+            "slope_assumed": "assumed slope",
+        }
         for i, name in enumerate(self.standards):
             labels[f"pHS_{i + 1}"] = f"pH(S) {name}"
             labels[f"E_{i + 1}"] = f"reading in {name}"
         f = self._measurement_function()
         values, us, Us, budgets = [], [], [], []
         for Ei, Ti in zip(E, Tx):
-            inputs: dict[str, Any] = {"E_x": Normal(float(Ei), u_emf), "T_x": Normal(float(Ti), u_T),
-                                      "dT_cal": Normal(0.0, u_T_calibration if self.dpH_dT.size else 0.0)}
+            inputs: dict[str, Any] = {
+                "E_x": Normal(float(Ei), u_emf),
+                "T_x": Normal(float(Ti), u_T),
+                "dT_cal": Normal(0.0, u_T_calibration if self.dpH_dT.size else 0.0),
+            }
             inputs["junction"] = Rectangular(0.0, half) if half else 0.0
             if self.method == "one-point":
                 inputs["slope_assumed"] = Normal(self.slope, self.u_slope_assumed)
@@ -351,11 +384,22 @@ class PhCalibration:
         values_a = np.array(values)
         outside = (values_a < lo - 1e-9) | (values_a > hi + 1e-9)
         if np.any(outside):
-            notes.append(f"{int(outside.sum())} sample(s) outside the calibrated range pH {lo:.3f}–{hi:.3f}: "
-                         "extrapolated; bracket the samples with buffers (IUPAC 2002)")
-        sc = (lambda a: float(a[0]) if np.ndim(emf) == 0 else np.asarray(a))
-        return SamplePH(sc(values), sc(us), sc(Us), coverage, tuple(budgets), labels, tuple(junctions),
-                        bool(outside[0]) if np.ndim(emf) == 0 else outside, tuple(dict.fromkeys(notes)))
+            notes.append(
+                f"{int(outside.sum())} sample(s) outside the calibrated range pH {lo:.3f}–{hi:.3f}: "
+                "extrapolated; bracket the samples with buffers (IUPAC 2002)"
+            )
+        sc = lambda a: float(a[0]) if np.ndim(emf) == 0 else np.asarray(a)
+        return SamplePH(
+            sc(values),
+            sc(us),
+            sc(Us),
+            coverage,
+            tuple(budgets),
+            labels,
+            tuple(junctions),
+            bool(outside[0]) if np.ndim(emf) == 0 else outside,
+            tuple(dict.fromkeys(notes)),
+        )
 
 
 def _temperature(T: ArrayLike) -> Any:
@@ -381,8 +425,12 @@ def _wls(x: np.ndarray, E: np.ndarray, w: np.ndarray) -> tuple[Any, Any]:
     return Em - b * xm, b
 
 
-def _resolve_standards(pH_standards: Sequence[Any], T: np.ndarray, u_pH: ArrayLike | None,
-                       buffers: Mapping[str, StandardBuffer] | None):
+def _resolve_standards(
+    pH_standards: Sequence[Any],
+    T: np.ndarray,
+    u_pH: ArrayLike | None,
+    buffers: Mapping[str, StandardBuffer] | None,
+):
     names, values, us, bufs, dT = [], [], [], [], []
     given_u = None if u_pH is None else np.broadcast_to(_as_array(u_pH, "u_pH"), (len(pH_standards),))
     all_named = True
@@ -402,24 +450,41 @@ def _resolve_standards(pH_standards: Sequence[Any], T: np.ndarray, u_pH: ArrayLi
             try:
                 v = float(item)
             except (TypeError, ValueError):
-                raise InputError("a buffer name or a pH value", field=f"pH_standards[{i}]", value=item) from None
+                raise InputError(
+                    "a buffer name or a pH value", field=f"pH_standards[{i}]", value=item
+                ) from None
             if not (-2 < v < 16):
                 raise InputError("not a pH value", field=f"pH_standards[{i}]", value=item)
             if given_u is None:
-                raise InputError("numeric pH(S) values need their standard uncertainties (u_pH=)", field="u_pH",
-                                 value=None)
+                raise InputError(
+                    "numeric pH(S) values need their standard uncertainties (u_pH=)", field="u_pH", value=None
+                )
             names.append(f"pH {v:g}")
             values.append(v)
             us.append(given_u[i])
             dT.append(0.0)
-    return (tuple(names), np.array(values, float), np.array(us, float), tuple(bufs) if all_named else (),
-            np.array(dT, float))
+    return (
+        tuple(names),
+        np.array(values, float),
+        np.array(us, float),
+        tuple(bufs) if all_named else (),
+        np.array(dT, float),
+    )
 
 
-def calibrate_ph(pH_standards: Sequence[Any], emf: ArrayLike, T: ArrayLike = 298.15, *, u_pH: ArrayLike | None = None,
-                 u_emf: ArrayLike = DEFAULT_U_EMF, method: str | None = None, slope: float | None = None,
-                 u_slope: float | None = None, thresholds: Thresholds | Mapping[str, float] | None = None,
-                 buffers: Mapping[str, StandardBuffer] | None = None) -> PhCalibration:
+def calibrate_ph(
+    pH_standards: Sequence[Any],
+    emf: ArrayLike,
+    T: ArrayLike = 298.15,
+    *,
+    u_pH: ArrayLike | None = None,
+    u_emf: ArrayLike = DEFAULT_U_EMF,
+    method: str | None = None,
+    slope: float | None = None,
+    u_slope: float | None = None,
+    thresholds: Thresholds | Mapping[str, float] | None = None,
+    buffers: Mapping[str, StandardBuffer] | None = None,
+) -> PhCalibration:
     """Calibrate a pH cell with standard buffers.
 
     Parameters
@@ -464,7 +529,11 @@ def calibrate_ph(pH_standards: Sequence[Any], emf: ArrayLike, T: ArrayLike = 298
     [True, True, True]
     """
     th = thresholds if isinstance(thresholds, Thresholds) else Thresholds.from_mapping(thresholds)
-    if isinstance(pH_standards, (str, bytes)) or not isinstance(pH_standards, Sequence) and np.ndim(pH_standards) == 0:
+    if (
+        isinstance(pH_standards, (str, bytes))
+        or not isinstance(pH_standards, Sequence)
+        and np.ndim(pH_standards) == 0
+    ):
         pH_standards = [pH_standards]
     pH_standards = list(pH_standards)
     n = len(pH_standards)
@@ -483,8 +552,12 @@ def calibrate_ph(pH_standards: Sequence[Any], emf: ArrayLike, T: ArrayLike = 298
     if method not in need:
         raise InputError(f"one of {', '.join(need)}", field="method", value=method)
     if method == "two-point" and n != 2 or method == "one-point" and n != 1 or n < need[method]:
-        raise InputError(f"{method} calibration needs {'exactly ' if method != 'multipoint' else ''}{need[method]}"
-                         f"{' or more' if method == 'multipoint' else ''} buffers", field="pH_standards", value=n)
+        raise InputError(
+            f"{method} calibration needs {'exactly ' if method != 'multipoint' else ''}{need[method]}"
+            f"{' or more' if method == 'multipoint' else ''} buffers",
+            field="pH_standards",
+            value=n,
+        )
     Tcal = float(np.mean(Ts))
     notes: list[str] = []
     if np.ptp(Ts) > 0.2:
@@ -502,12 +575,18 @@ def calibrate_ph(pH_standards: Sequence[Any], emf: ArrayLike, T: ArrayLike = 298
         u_slope_assumed = DEFAULT_U_SLOPE_FRACTION * abs(s) if u_slope is None else float(u_slope)
         e7 = float(E[0] - s * x[0])
         var_e7 = uE[0] ** 2 + (s * upH[0]) ** 2 + x[0] ** 2 * u_slope_assumed**2
-        cov = np.array([[var_e7, -x[0] * u_slope_assumed**2], [-x[0] * u_slope_assumed**2, u_slope_assumed**2]])
+        cov = np.array(
+            [[var_e7, -x[0] * u_slope_assumed**2], [-x[0] * u_slope_assumed**2, u_slope_assumed**2]]
+        )
     else:
         span = float(np.ptp(pHs))
         if span < MIN_PH_SPAN:
-            raise InputError(f"the buffers' pH(S) differ by {span:.3g} only: the slope is undetermined; "
-                             "use buffers that bracket the samples", field="pH_standards", value=list(names))
+            raise InputError(
+                f"the buffers' pH(S) differ by {span:.3g} only: the slope is undetermined; "
+                "use buffers that bracket the samples",
+                field="pH_standards",
+                value=list(names),
+            )
         if method == "two-point" and span < 2.0:
             notes.append(f"two-point calibration over {span:.2g} pH only: the slope is poorly determined")
         # effective-variance weights need the slope: start from the Nernst slope, iterate twice
@@ -523,40 +602,92 @@ def calibrate_ph(pH_standards: Sequence[Any], emf: ArrayLike, T: ArrayLike = 298
             chi2 = float(np.sum(w * r * r) / (n - 2))
             if chi2 > 1.0:
                 cov = cov * chi2
-                notes.append(f"scatter about the line exceeds the stated uncertainties (χ²ᵣ = {chi2:.3g}): "
-                             "covariance scaled by χ²ᵣ")
+                notes.append(
+                    f"scatter about the line exceeds the stated uncertainties (χ²ᵣ = {chi2:.3g}): "
+                    "covariance scaled by χ²ᵣ"
+                )
     pct = 100.0 * (-s) / kN
     if abs(pct) < 10.0:
-        raise InputError(f"the slope is {pct:.3g} % of the Nernst slope: readings in volts given as millivolts "
-                         "(or the reverse)?", field="emf", value=E.tolist())
+        raise InputError(
+            f"the slope is {pct:.3g} % of the Nernst slope: readings in volts given as millivolts "
+            "(or the reverse)?",
+            field="emf",
+            value=E.tolist(),
+        )
     residuals = pHs - (7.0 + (E - e7) / (s * Ts / Tcal))
-    cal = PhCalibration(method=method, slope=float(s), slope_percent=float(pct), E_pH7=float(e7),
-                        pH_zero_potential=float(7.0 - e7 / s), covariance=cov, T=Tcal, standards=names,
-                        pH_standards=pHs, u_pH_standards=upH, emf=E, u_emf=uE, T_standards=Ts,
-                        residuals=residuals, chi2_reduced=chi2, isothermal_pH=7.0, verdicts=(), notes=(),
-                        buffers=bufs, dpH_dT=dpH_dT if bufs else np.zeros(0),
-                        u_slope_assumed=u_slope_assumed, thresholds=th)
+    cal = PhCalibration(
+        method=method,
+        slope=float(s),
+        slope_percent=float(pct),
+        E_pH7=float(e7),
+        pH_zero_potential=float(7.0 - e7 / s),
+        covariance=cov,
+        T=Tcal,
+        standards=names,
+        pH_standards=pHs,
+        u_pH_standards=upH,
+        emf=E,
+        u_emf=uE,
+        T_standards=Ts,
+        residuals=residuals,
+        chi2_reduced=chi2,
+        isothermal_pH=7.0,
+        verdicts=(),
+        notes=(),
+        buffers=bufs,
+        dpH_dT=dpH_dT if bufs else np.zeros(0),
+        u_slope_assumed=u_slope_assumed,
+        thresholds=th,
+    )
     return replace(cal, verdicts=tuple(_calibration_verdicts(cal, th)), notes=tuple(notes))
 
 
 def _calibration_verdicts(cal: PhCalibration, th: Thresholds) -> list[Verdict]:
     out = []
     if cal.method == "one-point":
-        out.append(Verdict("slope", None, f"assumed {cal.slope_percent:.2f} % (one-point calibration)", "not judged"))
+        out.append(
+            Verdict("slope", None, f"assumed {cal.slope_percent:.2f} % (one-point calibration)", "not judged")
+        )
     elif cal.slope_percent < 0:
-        out.append(Verdict("slope", False, f"slope {cal.slope_percent:.2f} %: the potential rises with pH — check the "
-                           "sign convention of the readings or the electrode connections", th.basis("slope_percent_min")))
+        out.append(
+            Verdict(
+                "slope",
+                False,
+                f"slope {cal.slope_percent:.2f} %: the potential rises with pH — check the "
+                "sign convention of the readings or the electrode connections",
+                th.basis("slope_percent_min"),
+            )
+        )
     else:
         ok = th.slope_percent_min <= cal.slope_percent <= th.slope_percent_max
-        out.append(Verdict("slope", ok, f"slope {cal.slope_percent:.2f} % of RT ln10/F (limits "
-                           f"{th.slope_percent_min:g}–{th.slope_percent_max:g} %)", th.basis("slope_percent_min")))
+        out.append(
+            Verdict(
+                "slope",
+                ok,
+                f"slope {cal.slope_percent:.2f} % of RT ln10/F (limits "
+                f"{th.slope_percent_min:g}–{th.slope_percent_max:g} %)",
+                th.basis("slope_percent_min"),
+            )
+        )
     ok = abs(cal.E_pH7) <= th.offset_max
-    out.append(Verdict("offset", ok, f"E(pH 7) = {cal.E_pH7 * 1000:.1f} mV (limit ±{th.offset_max * 1000:g} mV)",
-                       th.basis("offset_max")))
+    out.append(
+        Verdict(
+            "offset",
+            ok,
+            f"E(pH 7) = {cal.E_pH7 * 1000:.1f} mV (limit ±{th.offset_max * 1000:g} mV)",
+            th.basis("offset_max"),
+        )
+    )
     if cal.method == "multipoint":
         worst = float(np.max(np.abs(cal.residuals)))
-        out.append(Verdict("linearity", worst <= th.residual_max,
-                           f"largest residual {worst:.4f} pH (limit {th.residual_max:g})", th.basis("residual_max")))
+        out.append(
+            Verdict(
+                "linearity",
+                worst <= th.residual_max,
+                f"largest residual {worst:.4f} pH (limit {th.residual_max:g})",
+                th.basis("residual_max"),
+            )
+        )
     return out
 
 
@@ -597,8 +728,9 @@ def isothermal_intersection(cal_a: PhCalibration, cal_b: PhCalibration) -> Isoth
     """
     ds = cal_a.slope - cal_b.slope
     if abs(cal_a.T - cal_b.T) < 1.0 or ds == 0:
-        raise InputError("the calibrations must be at temperatures at least 1 K apart", field="T",
-                         value=(cal_a.T, cal_b.T))
+        raise InputError(
+            "the calibrations must be at temperatures at least 1 K apart", field="T", value=(cal_a.T, cal_b.T)
+        )
     dE = cal_a.E_pH7 - cal_b.E_pH7
     pH = 7.0 - dE / ds
     E = cal_a.E_pH7 + cal_a.slope * (pH - 7.0)
@@ -611,5 +743,6 @@ def isothermal_intersection(cal_a: PhCalibration, cal_b: PhCalibration) -> Isoth
     notes = []
     if abs(cal_a.T - cal_b.T) < 10.0:
         notes.append("temperatures less than 10 K apart: the intersection is poorly determined")
-    return IsothermalIntersection(float(pH), float(E), float(np.sqrt(gp @ C @ gp)), float(np.sqrt(gE @ C @ gE)),
-                                  tuple(notes))
+    return IsothermalIntersection(
+        float(pH), float(E), float(np.sqrt(gp @ C @ gp)), float(np.sqrt(gE @ C @ gE)), tuple(notes)
+    )

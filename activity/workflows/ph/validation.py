@@ -15,6 +15,7 @@ optionally, its time and role ("calibration" or "check"):
 
 Limits are :class:`~.criteria.Thresholds` (defaults: common practice).
 """
+
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
@@ -90,7 +91,9 @@ class MeterValidation:
         return f"MeterValidation({word}: {self.calibration!r}, {len(self.checks)} check buffer(s))"
 
 
-def _drift_and_stability(keys: list, E: np.ndarray, t: np.ndarray | None) -> tuple[float | None, float | None, int]:
+def _drift_and_stability(
+    keys: list, E: np.ndarray, t: np.ndarray | None
+) -> tuple[float | None, float | None, int]:
     groups = {}
     for i, k in enumerate(keys):
         groups.setdefault(k, []).append(i)
@@ -125,13 +128,25 @@ def _label_note(label: str, note: str) -> str:
     return note
 
 
-def validate_meter(buffers: Sequence[str | StandardBuffer], emf: ArrayLike, T: ArrayLike, *,
-                   time: ArrayLike | None = None, roles: Sequence[str] | None = None,
-                   thresholds: Thresholds | Mapping[str, float] | None = None, u_emf: float = DEFAULT_U_EMF,
-                   method: str | None = None, samples_emf: ArrayLike | None = None, samples_T: ArrayLike | None = None,
-                   sample_labels: Sequence[str] | None = None, sample_compositions: Sequence[Any] | None = None,
-                   u_T: float = DEFAULT_U_T, buffer_table: Mapping[str, StandardBuffer] | None = None,
-                   uncertainty_method: str = "gum", seed: int | None = None) -> MeterValidation:
+def validate_meter(
+    buffers: Sequence[str | StandardBuffer],
+    emf: ArrayLike,
+    T: ArrayLike,
+    *,
+    time: ArrayLike | None = None,
+    roles: Sequence[str] | None = None,
+    thresholds: Thresholds | Mapping[str, float] | None = None,
+    u_emf: float = DEFAULT_U_EMF,
+    method: str | None = None,
+    samples_emf: ArrayLike | None = None,
+    samples_T: ArrayLike | None = None,
+    sample_labels: Sequence[str] | None = None,
+    sample_compositions: Sequence[Any] | None = None,
+    u_T: float = DEFAULT_U_T,
+    buffer_table: Mapping[str, StandardBuffer] | None = None,
+    uncertainty_method: str = "gum",
+    seed: int | None = None,
+) -> MeterValidation:
     """Calibrate and validate a pH meter from one session of buffer readings.
 
     Parameters
@@ -182,7 +197,11 @@ def validate_meter(buffers: Sequence[str | StandardBuffer], emf: ArrayLike, T: A
             raise InputError(f"one of {', '.join(ROLES)}", field="role", value=r)
     bufs = [get_buffer(b, buffer_table) for b in names]
     keys = [b.key for b in bufs]
-    tt = None if time is None else np.broadcast_to(np.atleast_1d(np.asarray(time, dtype=float)), (n,)).astype(float)
+    tt = (
+        None
+        if time is None
+        else np.broadcast_to(np.atleast_1d(np.asarray(time, dtype=float)), (n,)).astype(float)
+    )
     notes: list[str] = []
     # calibration: replicates of one buffer averaged
     cal_keys: list[str] = []
@@ -213,47 +232,103 @@ def validate_meter(buffers: Sequence[str | StandardBuffer], emf: ArrayLike, T: A
         diff = float(res.pH - ref.value)
         En = diff / float(np.sqrt(res.expanded_uncertainty**2 + U_s**2))
         ok = abs(En) <= th.check_En_max and abs(diff) <= th.check_tolerance
-        checks.append(CheckResult(bufs[i].key, float(Ts[i]), float(E[i]), float(res.pH),
-                                  float(res.expanded_uncertainty), float(ref.value), U_s, diff, float(En), ok))
-        verdicts.append(Verdict(f"check buffer {bufs[i].key}", ok,
-                                f"pH {res.pH:.3f} vs pH(S) {ref.value:.3f}: Δ = {diff:+.3f}, |E_n| = {abs(En):.2f} "
-                                f"(limits |E_n| ≤ {th.check_En_max:g}, |Δ| ≤ {th.check_tolerance:g})",
-                                th.basis("check_En_max")))
-        if role[:i].count("check") == 0 and "calibration" in role[i + 1:]:
+        checks.append(
+            CheckResult(
+                bufs[i].key,
+                float(Ts[i]),
+                float(E[i]),
+                float(res.pH),
+                float(res.expanded_uncertainty),
+                float(ref.value),
+                U_s,
+                diff,
+                float(En),
+                ok,
+            )
+        )
+        verdicts.append(
+            Verdict(
+                f"check buffer {bufs[i].key}",
+                ok,
+                f"pH {res.pH:.3f} vs pH(S) {ref.value:.3f}: Δ = {diff:+.3f}, |E_n| = {abs(En):.2f} "
+                f"(limits |E_n| ≤ {th.check_En_max:g}, |Δ| ≤ {th.check_tolerance:g})",
+                th.basis("check_En_max"),
+            )
+        )
+        if role[:i].count("check") == 0 and "calibration" in role[i + 1 :]:
             notes.append("a check buffer precedes some calibration readings")
     if not checks:
-        notes.append("no check buffers: the calibration was not verified independently (IUPAC 2002 recommends one)")
+        notes.append(
+            "no check buffers: the calibration was not verified independently (IUPAC 2002 recommends one)"
+        )
     drift, stab, nrep = _drift_and_stability(keys, E, tt)
     if drift is None:
         why = "no times given" if tt is None else "no buffer read twice"
         verdicts.append(Verdict("drift", None, f"not judged ({why})", th.basis("drift_max")))
     else:
-        verdicts.append(Verdict("drift", abs(drift) <= th.drift_max,
-                                f"drift {drift * 1000:+.2f} mV/h over repeated readings (limit ±{th.drift_max * 1000:g} mV/h)",
-                                th.basis("drift_max")))
+        verdicts.append(
+            Verdict(
+                "drift",
+                abs(drift) <= th.drift_max,
+                f"drift {drift * 1000:+.2f} mV/h over repeated readings (limit ±{th.drift_max * 1000:g} mV/h)",
+                th.basis("drift_max"),
+            )
+        )
     if stab is None:
-        verdicts.append(Verdict("stability", None, "not judged (no replicate readings)", th.basis("stability_max")))
+        verdicts.append(
+            Verdict("stability", None, "not judged (no replicate readings)", th.basis("stability_max"))
+        )
     else:
-        verdicts.append(Verdict("stability", stab <= th.stability_max,
-                                f"replicate sd {stab * 1000:.2f} mV from {nrep} readings "
-                                f"(limit {th.stability_max * 1000:g} mV)", th.basis("stability_max")))
+        verdicts.append(
+            Verdict(
+                "stability",
+                stab <= th.stability_max,
+                f"replicate sd {stab * 1000:.2f} mV from {nrep} readings "
+                f"(limit {th.stability_max * 1000:g} mV)",
+                th.basis("stability_max"),
+            )
+        )
     samples = None
     labels: tuple = ()
     if samples_emf is not None:
         sE = np.atleast_1d(np.asarray(samples_emf, dtype=float))
-        sT = np.broadcast_to(np.atleast_1d(np.asarray(cal.T if samples_T is None else samples_T, dtype=float)),
-                             sE.shape).astype(float)
-        labels = tuple(sample_labels) if sample_labels is not None else tuple(f"sample {i + 1}" for i in range(sE.size))
+        sT = np.broadcast_to(
+            np.atleast_1d(np.asarray(cal.T if samples_T is None else samples_T, dtype=float)), sE.shape
+        ).astype(float)
+        labels = (
+            tuple(sample_labels)
+            if sample_labels is not None
+            else tuple(f"sample {i + 1}" for i in range(sE.size))
+        )
         comps = list(sample_compositions) if sample_compositions is not None else [None] * sE.size
         if len(labels) != sE.size or len(comps) != sE.size:
-            raise InputError("one label and one composition (or None) per sample", field="samples", value=sE.size)
-        parts = [cal.ph_with_uncertainty(e, t, u_emf=u_emf, u_T=u_T, sample=c, method=uncertainty_method, seed=seed)
-                 for e, t, c in zip(sE, sT, comps)]
-        samples = SamplePH(np.array([p.pH for p in parts]), np.array([p.standard_uncertainty for p in parts]),
-                           np.array([p.expanded_uncertainty for p in parts]), parts[0].coverage,
-                           tuple(b for p in parts for b in p.budgets), parts[0].labels,
-                           tuple(p.junction[0] if p.junction else None for p in parts),
-                           np.array([bool(p.outside_bracket) for p in parts]),
-                           tuple(dict.fromkeys(_label_note(lab, nn) for lab, p in zip(labels, parts) for nn in p.notes)))
-    return MeterValidation(cal, tuple(checks), drift, stab, tuple(verdicts), samples, labels,
-                           tuple(dict.fromkeys(notes + list(cal.notes))))
+            raise InputError(
+                "one label and one composition (or None) per sample", field="samples", value=sE.size
+            )
+        parts = [
+            cal.ph_with_uncertainty(
+                e, t, u_emf=u_emf, u_T=u_T, sample=c, method=uncertainty_method, seed=seed
+            )
+            for e, t, c in zip(sE, sT, comps)
+        ]
+        samples = SamplePH(
+            np.array([p.pH for p in parts]),
+            np.array([p.standard_uncertainty for p in parts]),
+            np.array([p.expanded_uncertainty for p in parts]),
+            parts[0].coverage,
+            tuple(b for p in parts for b in p.budgets),
+            parts[0].labels,
+            tuple(p.junction[0] if p.junction else None for p in parts),
+            np.array([bool(p.outside_bracket) for p in parts]),
+            tuple(dict.fromkeys(_label_note(lab, nn) for lab, p in zip(labels, parts) for nn in p.notes)),
+        )
+    return MeterValidation(
+        cal,
+        tuple(checks),
+        drift,
+        stab,
+        tuple(verdicts),
+        samples,
+        labels,
+        tuple(dict.fromkeys(notes + list(cal.notes))),
+    )

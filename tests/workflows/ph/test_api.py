@@ -3,6 +3,7 @@
 The integrator re-exports them at the package top level (``act.buffer_ph`` …); here they are
 imported from :mod:`activity.workflows.ph`, which stays valid.
 """
+
 from __future__ import annotations
 
 import numpy as np
@@ -11,10 +12,26 @@ import pytest
 from activity.constants import LN10, F, R
 from activity.workflows import ph
 
-PINNED = ["buffer_ph", "standard_buffers", "get_buffer", "load_buffers", "StandardBuffer", "BufferValue",
-          "bates_guggenheim_log10_gamma_cl", "harned_ph", "HarnedResult", "silver_chloride_e0",
-          "silver_chloride_e0_from_hcl", "water_vapour_pressure", "calibrate_ph", "PhCalibration",
-          "isothermal_intersection", "validate_meter", "Thresholds", "residual_junction"]
+PINNED = [
+    "buffer_ph",
+    "standard_buffers",
+    "get_buffer",
+    "load_buffers",
+    "StandardBuffer",
+    "BufferValue",
+    "bates_guggenheim_log10_gamma_cl",
+    "harned_ph",
+    "HarnedResult",
+    "silver_chloride_e0",
+    "silver_chloride_e0_from_hcl",
+    "water_vapour_pressure",
+    "calibrate_ph",
+    "PhCalibration",
+    "isothermal_intersection",
+    "validate_meter",
+    "Thresholds",
+    "residual_junction",
+]
 
 
 def test_names_exist():
@@ -24,14 +41,23 @@ def test_names_exist():
 
 
 def test_buffer_ph_scalar_and_array():
-    value, u = ph.buffer_ph("phthalate-0.05", 298.15)        # 4.005, Buck et al. 2002 (read, secondary)
+    value, u = ph.buffer_ph("phthalate-0.05", 298.15)  # 4.005, Buck et al. 2002 (read, secondary)
     assert (value, u) == (4.005, 0.002)
-    res = ph.buffer_ph("borax", np.array([298.15, 310.15]))   # 9.180 (read), 9.088 (from memory)
+    res = ph.buffer_ph("borax", np.array([298.15, 310.15]))  # 9.180 (read), 9.088 (from memory)
     assert res.value.shape == (2,) and np.allclose(res.value, [9.180, 9.088])
     assert res.standard_uncertainty.shape == (2,)
     b = ph.standard_buffers()
-    assert {"tartrate-sat", "citrate-0.05", "phthalate-0.05", "phosphate-1:1", "phosphate-1:3.5", "borax-0.01",
-            "carbonate", "tetroxalate-0.05", "calcium-hydroxide-sat"} <= set(b)
+    assert {
+        "tartrate-sat",
+        "citrate-0.05",
+        "phthalate-0.05",
+        "phosphate-1:1",
+        "phosphate-1:3.5",
+        "borax-0.01",
+        "carbonate",
+        "tetroxalate-0.05",
+        "calcium-hydroxide-sat",
+    } <= set(b)
 
 
 def test_calibrate_ph_result_attributes_and_methods():

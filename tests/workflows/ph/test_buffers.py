@@ -1,4 +1,5 @@
 """Standard buffers: table values, interpolation and its error, published equations, user buffers."""
+
 from __future__ import annotations
 
 import numpy as np
@@ -21,22 +22,22 @@ K = 273.15
 # except phthalate, group 1c ("read", secondary transcription), and the 25 °C values of
 # citrate, borax and carbonate, group 1d ("read", J. Res. NBS 73A (1969) 37 abstract).
 IUPAC_2002 = {
-    ("tartrate", 25): 3.557,      # from memory
-    ("tartrate", 37): 3.548,      # from memory
-    ("citrate", 0): 3.863,        # from memory
-    ("citrate", 25): 3.776,       # read (NBS 1969 abstract)
-    ("KHP", 0): 4.000,            # read (secondary, chemeurope transcription)
-    ("KHP", 25): 4.005,           # read (secondary); also Hamer, Pinching & Acree 1946 abstract
-    ("KHP", 37): 4.022,           # read (secondary; page label '40' is 37 °C)
-    ("KHP", 50): 4.050,           # read (secondary)
-    ("phosphate", 25): 6.865,     # from memory
-    ("phosphate", 37): 6.841,     # from memory
-    ("7.413", 25): 7.413,         # from memory
-    ("7.413", 37): 7.386,         # from memory
-    ("borax", 25): 9.180,         # read (NBS 1969 abstract)
-    ("borax", 37): 9.088,         # from memory
-    ("carbonate", 25): 10.012,    # read (NBS 1969 abstract)
-    ("carbonate", 0): 10.317,     # from memory
+    ("tartrate", 25): 3.557,  # from memory
+    ("tartrate", 37): 3.548,  # from memory
+    ("citrate", 0): 3.863,  # from memory
+    ("citrate", 25): 3.776,  # read (NBS 1969 abstract)
+    ("KHP", 0): 4.000,  # read (secondary, chemeurope transcription)
+    ("KHP", 25): 4.005,  # read (secondary); also Hamer, Pinching & Acree 1946 abstract
+    ("KHP", 37): 4.022,  # read (secondary; page label '40' is 37 °C)
+    ("KHP", 50): 4.050,  # read (secondary)
+    ("phosphate", 25): 6.865,  # from memory
+    ("phosphate", 37): 6.841,  # from memory
+    ("7.413", 25): 7.413,  # from memory
+    ("7.413", 37): 7.386,  # from memory
+    ("borax", 25): 9.180,  # read (NBS 1969 abstract)
+    ("borax", 37): 9.088,  # from memory
+    ("carbonate", 25): 10.012,  # read (NBS 1969 abstract)
+    ("carbonate", 0): 10.317,  # from memory
 }
 
 
@@ -67,7 +68,7 @@ def test_phthalate_equations_agree_with_the_table_within_its_uncertainty():
     U = khp.expanded_uncertainty  # 0.004 (k = 2)
     t = khp.temperature
     mid = (t >= 10 + K) & (t <= 40 + K)
-    for name in ("hetzer-1977", "hamer-1946"):   # both equations read in the abstracts (group 1d)
+    for name in ("hetzer-1977", "hamer-1946"):  # both equations read in the abstracts (group 1d)
         d = khp.equations[name](t) - khp.pH
         # 10–40 °C: measured |d| ≤ 0.0042 (Hetzer 0.0042 at 40 °C, Hamer 0.0038)
         assert np.all(np.abs(d[mid]) <= U + 0.0003), (name, d)
@@ -83,7 +84,7 @@ def test_phthalate_equations_agree_with_the_table_within_its_uncertainty():
 
 
 def test_interpolation_error_is_stated_and_small():
-    res = buffer_ph("borax", np.array([300.15, 300.65]))   # 27 and 27.5 °C
+    res = buffer_ph("borax", np.array([300.15, 300.65]))  # 27 and 27.5 °C
     lin = 9.180 + (9.139 - 9.180) * np.array([0.4, 0.5])
     assert np.all(res.interpolation_error > 0)
     assert np.allclose(res.interpolation_error, np.abs(res.value - lin))
@@ -109,7 +110,7 @@ def test_refusals_name_the_field():
     with pytest.raises(InputError, match="buffer = 'no-such'"):
         buffer_ph("no-such", 298.15)
     with pytest.raises(InputError, match="T = 293.15.*25–50 °C"):
-        buffer_ph("tartrate", 293.15)         # saturated at 25 °C: tabulated from 25 °C up
+        buffer_ph("tartrate", 293.15)  # saturated at 25 °C: tabulated from 25 °C up
     with pytest.raises(InputError, match="T = .*0–50 °C"):
         buffer_ph("KHP", 333.15)
     with pytest.raises(InputError, match="kelvin"):
@@ -118,21 +119,29 @@ def test_refusals_name_the_field():
 
 def test_user_buffers_from_toml(tmp_path):
     p = tmp_path / "mine.toml"
-    p.write_text('[buffers.bench-7]\nlabel = "working buffer"\ntemperature = [20.0, 25.0, 30.0]\n'
-                 'pH = [7.02, 7.00, 6.99]\nexpanded_uncertainty = 0.02\ncoverage_factor = 2\n'
-                 'source = "certificate 0417 (invented demo lot)"\n', encoding="utf-8")
+    p.write_text(
+        '[buffers.bench-7]\nlabel = "working buffer"\ntemperature = [20.0, 25.0, 30.0]\n'
+        "pH = [7.02, 7.00, 6.99]\nexpanded_uncertainty = 0.02\ncoverage_factor = 2\n"
+        'source = "certificate 0417 (invented demo lot)"\n',
+        encoding="utf-8",
+    )
     all_buffers = standard_buffers(p)
     assert "bench-7" in all_buffers and "phthalate-0.05" in all_buffers
     v = buffer_ph("bench-7", 298.15, buffers=all_buffers)
     assert (v.value, v.standard_uncertainty) == (7.00, 0.01)
     bad = tmp_path / "bad.toml"
-    bad.write_text('[buffers.x]\ntemperature = [25.0, 20.0]\npH = [7.0, 7.1]\n'
-                   'expanded_uncertainty = 0.02\nsource = "s"\n', encoding="utf-8")
+    bad.write_text(
+        "[buffers.x]\ntemperature = [25.0, 20.0]\npH = [7.0, 7.1]\n"
+        'expanded_uncertainty = 0.02\nsource = "s"\n',
+        encoding="utf-8",
+    )
     with pytest.raises(InputError, match=r"bad.toml: buffers.x.temperature"):
         load_buffers(bad)
     clash = tmp_path / "clash.toml"
-    clash.write_text('[buffers.carbonate]\ntemperature = [25.0]\npH = [10.0]\n'
-                     'expanded_uncertainty = 0.02\nsource = "s"\n', encoding="utf-8")
+    clash.write_text(
+        '[buffers.carbonate]\ntemperature = [25.0]\npH = [10.0]\nexpanded_uncertainty = 0.02\nsource = "s"\n',
+        encoding="utf-8",
+    )
     with pytest.raises(InputError, match="reuse"):
         standard_buffers(clash)
 

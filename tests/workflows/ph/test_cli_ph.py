@@ -1,4 +1,5 @@
 """The pH commands, run through activity.cli.main."""
+
 from __future__ import annotations
 
 import json
@@ -17,13 +18,25 @@ def examples(tmp_path):
 def test_examples_calibrate_with_samples_plot_and_record(examples, tmp_path, capsys):
     capsys.readouterr()
     plot, record = tmp_path / "cal.png", tmp_path / "rec.html"
-    rc = main(["ph-calibrate", str(examples / "buffer_readings.csv"), "--samples", str(examples / "samples.csv"),
-               "--plot", str(plot), "--record", str(record), "--subtitle", "bench 3 (invented)"])
+    rc = main(
+        [
+            "ph-calibrate",
+            str(examples / "buffer_readings.csv"),
+            "--samples",
+            str(examples / "samples.csv"),
+            "--plot",
+            str(plot),
+            "--record",
+            str(record),
+            "--subtitle",
+            "bench 3 (invented)",
+        ]
+    )
     out = capsys.readouterr().out
     assert rc == 0
     assert "pH-meter validation: PASSED" in out and "slope, % of RT ln10/F" in out
     assert "check buffer phosphate-1:3.5" in out and "uncertainty budget: brine B" in out
-    assert "pharmacopoeia" in out                       # the caution with every pH result
+    assert "pharmacopoeia" in out  # the caution with every pH result
     assert plot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     html = record.read_text(encoding="utf-8")
     assert html.startswith("<!DOCTYPE html>") and "<svg" in html and "Cautions" in html
@@ -53,8 +66,10 @@ def test_thresholds_and_strict(examples, capsys):
 
 def test_user_buffers(examples, tmp_path, capsys):
     csv = tmp_path / "r.csv"
-    csv.write_text("buffer,reading [mV],temperature [°C]\nKHP,171.5,25\nbench-7,-3.0,25\nborax,-130.4,25\n",
-                   encoding="utf-8")
+    csv.write_text(
+        "buffer,reading [mV],temperature [°C]\nKHP,171.5,25\nbench-7,-3.0,25\nborax,-130.4,25\n",
+        encoding="utf-8",
+    )
     assert main(["ph-calibrate", str(csv), "--buffers", str(examples / "my_buffers.toml")]) == 0
     assert "bench-7" in capsys.readouterr().out
 
@@ -65,7 +80,7 @@ def test_buffers_listing(capsys):
     assert "standard buffers at 37 °C" in out and "9.088" in out and "pharmacopoeia" in out
     assert main(["ph-buffers", "-t", "20 °C", "--json"]) == 0
     rows = {r["buffer"]: r for r in json.loads(capsys.readouterr().out)["buffers"]}
-    assert rows["tartrate-sat"]["pH(S)"] is None           # tabulated from 25 °C only
+    assert rows["tartrate-sat"]["pH(S)"] is None  # tabulated from 25 °C only
     assert rows["phthalate-0.05"]["pH(S)"] == 4.000
 
 
@@ -74,8 +89,22 @@ def test_harned_command(examples, capsys):
     assert main(["ph-harned", str(examples / "harned_emfs.csv"), "--buffer", "KHP"]) == 0
     out = capsys.readouterr().out
     assert "pH(PS)" in out and "4.00" in out and "uncertainty budget" in out and "pharmacopoeia" in out
-    assert main(["ph-harned", str(examples / "harned_emfs.csv"), "--ionic-strength", "0.053 mol/kg",
-                 "--e0", "222.34 mV", "--u-e0", "0.01 mV", "--json"]) == 0
+    assert (
+        main(
+            [
+                "ph-harned",
+                str(examples / "harned_emfs.csv"),
+                "--ionic-strength",
+                "0.053 mol/kg",
+                "--e0",
+                "222.34 mV",
+                "--u-e0",
+                "0.01 mV",
+                "--json",
+            ]
+        )
+        == 0
+    )
     res = json.loads(capsys.readouterr().out)["results"][0]
     assert res["pH(PS)"] == pytest.approx(4.005, abs=0.001)
 
@@ -83,8 +112,10 @@ def test_harned_command(examples, capsys):
 def test_cli_errors_are_one_line_naming_the_field(tmp_path, capsys):
     volts = tmp_path / "volts.csv"
     # readings in volts under a millivolt header
-    volts.write_text("buffer,reading [mV],temperature [°C]\nKHP,0.1715,25\nphosphate,0.0047,25\nborax,-0.1304,25\n",
-                     encoding="utf-8")
+    volts.write_text(
+        "buffer,reading [mV],temperature [°C]\nKHP,0.1715,25\nphosphate,0.0047,25\nborax,-0.1304,25\n",
+        encoding="utf-8",
+    )
     assert main(["ph-calibrate", str(volts)]) == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "emf" in err and "millivolts" in err
@@ -96,11 +127,16 @@ def test_cli_errors_are_one_line_naming_the_field(tmp_path, capsys):
     hot.write_text("buffer,reading [mV],temperature [°C]\nKHP,171.5,60\nborax,-130,60\n", encoding="utf-8")
     assert main(["ph-calibrate", str(hot)]) == 2
     assert "0–50 °C" in capsys.readouterr().err
-    twin = tmp_path / "twin.toml"   # a second buffer with the pH(S) of the 1:1 phosphate (invented lot)
-    twin.write_text('[buffers.lot-6865]\ntemperature = [25.0]\npH = [6.865]\nexpanded_uncertainty = 0.01\n'
-                    'source = "invented certificate"\n', encoding="utf-8")
+    twin = tmp_path / "twin.toml"  # a second buffer with the pH(S) of the 1:1 phosphate (invented lot)
+    twin.write_text(
+        "[buffers.lot-6865]\ntemperature = [25.0]\npH = [6.865]\nexpanded_uncertainty = 0.01\n"
+        'source = "invented certificate"\n',
+        encoding="utf-8",
+    )
     same = tmp_path / "same.csv"
-    same.write_text("buffer,reading [mV],temperature [°C]\nphosphate,4.7,25\nlot-6865,4.8,25\n", encoding="utf-8")
+    same.write_text(
+        "buffer,reading [mV],temperature [°C]\nphosphate,4.7,25\nlot-6865,4.8,25\n", encoding="utf-8"
+    )
     assert main(["ph-calibrate", str(same), "--buffers", str(twin)]) == 2
     assert "pH_standards" in capsys.readouterr().err
     bad = tmp_path / "bad.csv"

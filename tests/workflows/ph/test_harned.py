@@ -1,4 +1,5 @@
 """The Bates–Guggenheim convention and the Harned-cell primary method."""
+
 from __future__ import annotations
 
 import numpy as np
@@ -82,14 +83,21 @@ def test_e0_table_and_hcl_cell():
 
 # ------------------------------------------------------------------ the Harned cell
 def _synthetic(pH, t, I, slope, noise, seed):
-    m = np.array([0.005, 0.010, 0.015, 0.020])   # KCl molalities of the kind used by Hetzer et al. 1977
+    m = np.array([0.005, 0.010, 0.015, 0.020])  # KCl molalities of the kind used by Hetzer et al. 1977
     E0 = silver_chloride_e0(t + K).value
     E = harned_emf(pH, m, t + K, ionic_strength=I, E0=E0, slope_in_chloride=slope, pressure=100_500.0)
     return m, E + np.random.default_rng(seed).normal(0.0, noise, m.size), E0
 
 
-@pytest.mark.parametrize("name,t,I", [("phthalate-0.05", 25, 0.053), ("phosphate-1:1", 37, 0.1),
-                                      ("borax-0.01", 10, 0.02), ("carbonate", 50, 0.1)])
+@pytest.mark.parametrize(
+    "name,t,I",
+    [
+        ("phthalate-0.05", 25, 0.053),
+        ("phosphate-1:1", 37, 0.1),
+        ("borax-0.01", 10, 0.02),
+        ("carbonate", 50, 0.1),
+    ],
+)
 def test_synthetic_harned_emfs_recover_pH(name, t, I):
     from activity.workflows.ph.buffers import buffer_ph
 
@@ -97,19 +105,31 @@ def test_synthetic_harned_emfs_recover_pH(name, t, I):
     m, E, E0 = _synthetic(true, t, I, slope=0.25, noise=2e-5, seed=7)
     res = harned_ph(m, E, t + K, buffer=name, E0=E0, u_E0=1e-5, pressure=100_500.0)
     assert abs(res.pH - true) <= res.expanded_uncertainty
-    assert res.expanded_uncertainty < 0.004   # below the typical U(pH(PS)) of Buck et al. 2002
+    assert res.expanded_uncertainty < 0.004  # below the typical U(pH(PS)) of Buck et al. 2002
     assert res.slope_in_chloride == pytest.approx(0.25, abs=0.2)
     assert res.residual_sd is not None and res.residual_sd < 0.002
     # p(aγ) at each point equals the line it was built from, within the noise
-    assert np.allclose(res.acidity_function, res.acidity_function_zero + res.slope_in_chloride * m, atol=0.002)
+    assert np.allclose(
+        res.acidity_function, res.acidity_function_zero + res.slope_in_chloride * m, atol=0.002
+    )
 
 
 def test_noise_free_synthetic_data_give_pH_exactly_and_monte_carlo_agrees():
     m, E, E0 = _synthetic(6.865, 25, 0.1, slope=-0.1, noise=0.0, seed=0)
     gum = harned_ph(m, E, 298.15, ionic_strength=0.1, E0=E0, u_E0=1e-5, pressure=100_500.0)
     assert gum.pH == pytest.approx(6.865, abs=1e-10)
-    mc = harned_ph(m, E, 298.15, ionic_strength=0.1, E0=E0, u_E0=1e-5, pressure=100_500.0,
-                   method="monte-carlo", seed=3, trials=200_000)
+    mc = harned_ph(
+        m,
+        E,
+        298.15,
+        ionic_strength=0.1,
+        E0=E0,
+        u_E0=1e-5,
+        pressure=100_500.0,
+        method="monte-carlo",
+        seed=3,
+        trials=200_000,
+    )
     # the model is nearly linear: u agrees within 2 % (Monte Carlo sampling error ~0.3 %)
     assert mc.standard_uncertainty == pytest.approx(gum.standard_uncertainty, rel=0.02)
 
@@ -118,13 +138,20 @@ def test_budget_contains_every_input_and_the_pressure_matters():
     m, E, E0 = _synthetic(4.005, 25, 0.053, slope=0.1, noise=0.0, seed=0)
     res = harned_ph(m, E, 298.15, buffer="KHP", E0=E0, u_E0=1e-5, pressure=100_500.0, u_convention=0.01)
     labels = {r["label"] for r in res.budget_rows()}
-    assert {"E°(AgCl/Ag)", "temperature", "barometric pressure (p(H2) = p − p_w)",
-            "chloride molalities (relative)", "Bates–Guggenheim convention"} <= labels
+    assert {
+        "E°(AgCl/Ag)",
+        "temperature",
+        "barometric pressure (p(H2) = p − p_w)",
+        "chloride molalities (relative)",
+        "Bates–Guggenheim convention",
+    } <= labels
     assert sum(lab.startswith("EMF at") for lab in labels) == 4
     # the convention's 0.01 dominates when given (Buck et al. 2002 order of magnitude, from memory)
     assert res.standard_uncertainty == pytest.approx(0.01, rel=0.05)
     # forgetting the water vapour correction would shift pH by ½ lg(p/(p − p_w)) ≈ 0.007 at 25 °C
-    E_dry = harned_emf(4.005, m, 298.15, ionic_strength=0.053, E0=E0, pressure=100_500.0 + water_vapour_pressure(298.15))
+    E_dry = harned_emf(
+        4.005, m, 298.15, ionic_strength=0.053, E0=E0, pressure=100_500.0 + water_vapour_pressure(298.15)
+    )
     shifted = harned_ph(m, E_dry, 298.15, buffer="KHP", E0=E0, u_E0=1e-5, pressure=100_500.0)
     pw = water_vapour_pressure(298.15)
     assert shifted.pH - 4.005 == pytest.approx(0.5 * np.log10(100_500.0 / (100_500.0 - pw)), abs=1e-9)

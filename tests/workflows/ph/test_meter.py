@@ -1,5 +1,6 @@
 """Meter calibration: recovery of known slope and offset, covariance, temperature compensation,
 isothermal intersection, sample pH with uncertainty (checked with `uncertainties` and Monte Carlo)."""
+
 from __future__ import annotations
 
 import numpy as np
@@ -50,7 +51,7 @@ def test_known_slope_and_offset_recovered_and_round_trip(pct, e7, T):
         assert np.allclose(cal.ph(Es), pH[: len(Es)], atol=1e-9)
         grid = np.linspace(2, 12, 7)
         assert np.allclose(cal.ph(cal.potential(grid, T + 5), T + 5), grid, atol=1e-9)
-        assert cal.ph(Es[1]) == pytest.approx(cal.ph(Es)[1], abs=1e-12)   # batch = row by row
+        assert cal.ph(Es[1]) == pytest.approx(cal.ph(Es)[1], abs=1e-12)  # batch = row by row
 
 
 def test_noisy_readings_recovered_within_the_covariance():
@@ -73,10 +74,12 @@ def test_covariance_matches_scipy_curve_fit():
     E, pH = readings(98.0, -0.005, 298.15)
     E = E + np.array([2e-4, -3e-4, 1e-4])
     cal = calibrate_ph(BUFFERS, E, 298.15, u_pH=1e-12, u_emf=[2e-4, 3e-4, 2e-4])
-    popt, pcov = curve_fit(lambda x, a, b: a + b * (x - 7), pH, E, sigma=[2e-4, 3e-4, 2e-4], absolute_sigma=True)
+    popt, pcov = curve_fit(
+        lambda x, a, b: a + b * (x - 7), pH, E, sigma=[2e-4, 3e-4, 2e-4], absolute_sigma=True
+    )
     # curve_fit iterates (Levenberg–Marquardt, default tolerances 1.5e-8): agreement to ~1e-11 V
     assert cal.E_pH7 == pytest.approx(popt[0], abs=1e-10) and cal.slope == pytest.approx(popt[1], rel=1e-7)
-    scale = max(1.0, cal.chi2_reduced)   # we scale by χ²ᵣ when the scatter exceeds u (Birge ratio)
+    scale = max(1.0, cal.chi2_reduced)  # we scale by χ²ᵣ when the scatter exceeds u (Birge ratio)
     assert np.allclose(cal.covariance, pcov * scale, rtol=1e-6)
 
 
@@ -105,7 +108,7 @@ def test_one_point_calibration_with_carried_over_slope():
     E, _ = readings(97.0, 0.004, 298.15, ["phosphate"])
     cal = calibrate_ph(["phosphate"], E, 298.15, slope=-0.97 * kN(298.15), u_slope=5e-4)
     assert cal.method == "one-point" and cal.E_pH7 == pytest.approx(0.004, abs=1e-12)
-    assert cal.verdicts[0].passed is None      # slope assumed, not judged
+    assert cal.verdicts[0].passed is None  # slope assumed, not judged
     default = calibrate_ph(["phosphate"], E, 298.15)
     assert default.slope_percent == pytest.approx(100.0) and "Nernst slope" in default.notes[0]
 
@@ -121,7 +124,7 @@ def test_sample_ph_uncertainty_against_the_uncertainties_package():
     u1, u2 = cal.u_pH_standards
     p1, p2 = ufloat(pH[0], u1), ufloat(pH[1], u2)
     e1, e2, x = ufloat(E[0], 2e-4), ufloat(E[1], 2e-4), ufloat(ex, 3e-4)
-    ref = p1 + (x - e1) * (p2 - p1) / (e2 - e1)      # two-point bracketing, IUPAC 2002
+    ref = p1 + (x - e1) * (p2 - p1) / (e2 - e1)  # two-point bracketing, IUPAC 2002
     assert res.pH == pytest.approx(ref.nominal_value, abs=1e-9)
     # GUM finite differences vs the package's exact derivatives: agree to 1e-6 relative
     assert res.standard_uncertainty == pytest.approx(ref.std_dev, rel=1e-5)
@@ -131,13 +134,21 @@ def test_sample_ph_monte_carlo_agrees_with_gum():
     E, _ = readings(98.0, 0.0, 310.15, BUFFERS)
     cal = calibrate_ph(BUFFERS, E, 310.15)
     gum = cal.ph_with_uncertainty(-0.02, junction_half_width=0.01)
-    mc = cal.ph_with_uncertainty(-0.02, junction_half_width=0.01, method="monte-carlo", seed=5, trials=200_000)
+    mc = cal.ph_with_uncertainty(
+        -0.02, junction_half_width=0.01, method="monte-carlo", seed=5, trials=200_000
+    )
     assert mc.pH == pytest.approx(gum.pH, abs=5e-4)
     # nearly linear model: u within 2 % (sampling error of the sd with 2e5 trials ~0.2 %)
     assert mc.standard_uncertainty == pytest.approx(gum.standard_uncertainty, rel=0.02)
     labels = {r["label"] for r in gum.budget_rows()}
-    assert {"sample reading", "sample temperature", "calibration temperature", "residual liquid junction",
-            "pH(S) phthalate-0.05", "reading in borax-0.01"} <= labels
+    assert {
+        "sample reading",
+        "sample temperature",
+        "calibration temperature",
+        "residual liquid junction",
+        "pH(S) phthalate-0.05",
+        "reading in borax-0.01",
+    } <= labels
 
 
 def test_high_ionic_strength_sample_gets_a_larger_junction_uncertainty():
@@ -157,7 +168,9 @@ def test_junction_estimate_is_insensitive_to_the_recalled_anion_conductivities()
     lam = dict(data.load("ph_buffers")["junction_conductivities"]["values"])
     sea = Solution({"Na+": 0.49, "Mg^2+": 0.055, "Cl-": 0.60})
     base = residual_junction(sea, ["KHP", "borax"], 298.15).half_width
-    changed = residual_junction(sea, ["KHP", "borax"], 298.15, conductivities={k: 1.3 * v for k, v in lam.items()})
+    changed = residual_junction(
+        sea, ["KHP", "borax"], 298.15, conductivities={k: 1.3 * v for k, v in lam.items()}
+    )
     # +30 % on the from-memory λ° of the buffer anions moves the estimate (0.067 pH) by
     # 0.0018 pH (measured): under 3 % of it, so the recalled values are not critical
     assert abs(changed.half_width - base) < 0.003
@@ -208,7 +221,9 @@ def test_calibration_is_independent_of_buffer_order(order):
     E = E + np.array([3e-4, -2e-4, 1e-4, 0.0, -1e-4])
     ref = calibrate_ph(names, E, 298.15)
     perm = calibrate_ph([names[i] for i in order], E[list(order)], 298.15)
-    assert perm.slope == pytest.approx(ref.slope, rel=1e-12) and perm.E_pH7 == pytest.approx(ref.E_pH7, abs=1e-14)
+    assert perm.slope == pytest.approx(ref.slope, rel=1e-12) and perm.E_pH7 == pytest.approx(
+        ref.E_pH7, abs=1e-14
+    )
     assert np.allclose(perm.covariance, ref.covariance, rtol=1e-10)
 
 
@@ -219,4 +234,4 @@ def test_one_point_budget_carries_the_assumed_slope():
     row = next(r for r in res.budget_rows() if r["label"] == "assumed slope")
     # ∂pH/∂s = −(pH − pH(S))/s at the estimates: 2.135 pH units from the buffer
     assert row["sensitivity"] == pytest.approx(-(9.0 - 6.865) / cal.slope, rel=1e-4)
-    assert res.outside_bracket    # one buffer brackets nothing
+    assert res.outside_bracket  # one buffer brackets nothing
