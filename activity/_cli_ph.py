@@ -174,12 +174,21 @@ def cmd_ph_harned(args: argparse.Namespace) -> int:
     u_E0 = parse_potential(args.u_e0, field="--u-e0") if args.u_e0 else None
     if E0 is not None and u_E0 is None:
         raise InputError("give --u-e0 with --e0", field="--u-e0", value=None)
+    if args.hcl_emf is not None and E0 is not None:
+        raise InputError("give either --e0 or --hcl-emf", field="--hcl-emf", value=args.hcl_emf)
     u_emf = parse_potential(args.u_emf, field="--u-emf") if args.u_emf else 2e-5
     p_default = parse_pressure(args.pressure, field="--pressure") if args.pressure else P_ATM
     results = []
     for T in np.unique(np.round(h.T, 6)):
         ix = np.isclose(h.T, T, atol=1e-6)
         p = float(np.mean(h.pressure[ix])) if h.pressure is not None else p_default
+        if args.hcl_emf is not None:
+            from .workflows.ph.harned import silver_chloride_e0_from_hcl
+
+            hcl = silver_chloride_e0_from_hcl(
+                parse_potential(args.hcl_emf, field="--hcl-emf"), float(T), pressure=p
+            )
+            E0, u_E0 = hcl.value, hcl.standard_uncertainty
         results.append(
             harned_ph(
                 h.m_cl[ix],
@@ -293,6 +302,11 @@ def register(subparsers: Any) -> None:
         help="E°(AgCl/Ag) of your electrodes, e.g. '222.30 mV' (default: Bates & Bower 1954)",
     )
     p.add_argument("--u-e0", metavar="U", help="its standard uncertainty, e.g. '0.02 mV'")
+    p.add_argument(
+        "--hcl-emf",
+        metavar="E",
+        help="EMF of the same cell filled with HCl 0.01 mol/kg, e.g. '463.76 mV': E° from it (γ± by Pitzer)",
+    )
     p.add_argument("--u-emf", metavar="U", help="standard uncertainty of each EMF (default '0.02 mV')")
     p.add_argument(
         "--pressure", metavar="P", help="barometric pressure when the CSV has none (default '1 atm')"

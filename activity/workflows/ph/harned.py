@@ -125,8 +125,13 @@ def silver_chloride_e0_from_hcl(
     m_hcl: float = 0.01,
     gamma: ArrayLike | None = None,
     pressure: ArrayLike = P_ATM,
+    u_emf: float = 2e-5,
+    u_T: float = 0.01,
+    u_pressure: float = 20.0,
+    u_m_relative: float = 1e-3,
+    u_gamma: float = 0.002 / math.sqrt(3.0),
 ) -> E0Value:
-    """E°(AgCl/Ag) from the EMF of Pt | H₂ | HCl(m) | AgCl | Ag.
+    """E°(AgCl/Ag) from the EMF of Pt | H₂ | HCl(m) | AgCl | Ag, with its standard uncertainty.
 
     E° = E + 2k lg(m γ±) − (k/2) lg(p(H₂)/p°), p(H₂) = ``pressure`` − p_w(T).
 
@@ -143,17 +148,25 @@ def silver_chloride_e0_from_hcl(
         it gives 0.9045; Kaye & Laby §3.9.6 gives 0.904).
     pressure : array_like
         Barometric pressure at the cell, Pa.
+    u_emf, u_T, u_pressure, u_m_relative : float
+        Standard uncertainties of the EMF (V), T (K), pressure (Pa) and, relative, of m.
+    u_gamma : float
+        Standard uncertainty of γ±: rectangular ±0.002, the accuracy Kaye & Laby state for
+        their γ± table (read).
 
     Returns
     -------
     E0Value
-        ``standard_uncertainty`` is left None: propagate the EMF's with :func:`activity.propagate`.
+        ``standard_uncertainty`` by the GUM for a scalar EMF (None for a batch).
 
     Examples
     --------
-    >>> round(silver_chloride_e0_from_hcl(0.46376, 298.15, gamma=0.904).value, 5)   # 1 atm barometric
-    0.22234
+    >>> e = silver_chloride_e0_from_hcl(0.46376, 298.15, gamma=0.904)   # 1 atm barometric
+    >>> round(e.value, 5), round(e.standard_uncertainty * 1e3, 3)      # V, mV
+    (0.22234, 0.086)
     """
+    from activity.uncertainty import Normal, Rectangular, propagate
+
     notes = []
     if gamma is None:
         from activity import Solution, mean_activity_coefficient
@@ -161,14 +174,30 @@ def silver_chloride_e0_from_hcl(
         m = float(m_hcl)
         gamma = mean_activity_coefficient(Solution({"H+": m, "Cl-": m}, T=T), "H+", "Cl-", "pitzer")
         notes.append("γ±(HCl) from the Pitzer model")
-    k = _k(T)
-    p_h2 = np.asarray(pressure, float) - water_vapour_pressure(T)
-    e0 = (
-        np.asarray(emf, float)
-        + 2 * k * np.log10(m_hcl * np.asarray(gamma, float))
-        - 0.5 * k * np.log10(p_h2 / P_ATM)
-    )
-    return E0Value(float(e0) if e0.ndim == 0 else e0, None, "Harned cell with HCl", tuple(notes))
+    E = np.asarray(emf, float)
+    if np.any(np.abs(E) > 2.0):
+        raise InputError("EMFs are in volts (|E| < 2 V); were millivolts given?", field="emf", value=emf)
+
+    def f(emf, T, p, m, gamma):
+        k = _k(T)
+        p_h2 = np.asarray(p, float) - water_vapour_pressure(T)
+        return emf + 2 * k * np.log10(m * np.asarray(gamma, float)) - 0.5 * k * np.log10(p_h2 / P_ATM)
+
+    e0 = np.asarray(f(E, np.asarray(T, float), np.asarray(pressure, float), m_hcl, gamma))
+    u = None
+    if e0.ndim == 0 and np.ndim(T) == 0 and np.ndim(gamma) == 0 and np.ndim(pressure) == 0:
+        budget = propagate(
+            f,
+            {
+                "emf": Normal(float(E), u_emf),
+                "T": Normal(float(T), u_T),
+                "p": Normal(float(pressure), u_pressure),
+                "m": Normal(float(m_hcl), u_m_relative * float(m_hcl)),
+                "gamma": Rectangular(float(gamma), math.sqrt(3.0) * u_gamma),
+            },
+        )
+        u = float(budget.standard_uncertainty)
+    return E0Value(float(e0) if e0.ndim == 0 else e0, u, "Harned cell with HCl", tuple(notes))
 
 
 def harned_emf(

@@ -132,7 +132,10 @@ _BUDGET_HEAD = ["input", "distribution", "value", "u(x)", "sensitivity", "|c|·u
 
 
 def validation_report(v: Any, form: str = "table", *, samples_emf: Any = None, samples_T: Any = None) -> str:
-    """The validation as an aligned text report, JSON or CSV (long format: section, item, quantity, value, unit)."""
+    """The validation as an aligned text report, JSON, or CSV.
+
+    The CSV is in long format: section, item, quantity, value, unit.
+    """
     cal = v.calibration
     samples = _sample_rows(v, samples_emf, samples_T) if v.samples is not None else []
     if form == "json":

@@ -270,7 +270,8 @@ def validate_meter(
             Verdict(
                 "drift",
                 abs(drift) <= th.drift_max,
-                f"drift {drift * 1000:+.2f} mV/h over repeated readings (limit ±{th.drift_max * 1000:g} mV/h)",
+                f"drift {drift * 1000:+.2f} mV/h over repeated readings "
+                f"(limit ±{th.drift_max * 1000:g} mV/h)",
                 th.basis("drift_max"),
             )
         )

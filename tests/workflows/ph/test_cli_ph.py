@@ -107,6 +107,23 @@ def test_harned_command(examples, capsys):
     )
     res = json.loads(capsys.readouterr().out)["results"][0]
     assert res["pH(PS)"] == pytest.approx(4.005, abs=0.001)
+    # E° from the same cell with HCl(0.01 mol/kg): the γ± accuracy (±0.002) now dominates U
+    assert (
+        main(
+            [
+                "ph-harned",
+                str(examples / "harned_emfs.csv"),
+                "--buffer",
+                "KHP",
+                "--hcl-emf",
+                "463.76 mV",
+                "--json",
+            ]
+        )
+        == 0
+    )
+    res = json.loads(capsys.readouterr().out)["results"][0]
+    assert 0.002 < res["U (95 %)"] < 0.004 and res["pH(PS)"] == pytest.approx(4.005, abs=0.002)
 
 
 def test_cli_errors_are_one_line_naming_the_field(tmp_path, capsys):

@@ -170,3 +170,28 @@ def test_harned_bad_input():
         harned_ph(m, E, 298.15, buffer="KHP", E0=0.2223)
     with pytest.raises(InputError, match="buffer = 'nope'"):
         harned_ph(m, E, 298.15, buffer="nope")
+
+
+def test_e0_from_hcl_uncertainty_against_the_uncertainties_package():
+    from uncertainties import ufloat
+    from uncertainties import umath
+
+    T, p, m, g = 298.15, 100_800.0, 0.01, 0.904
+    emf = 0.4638
+    res = silver_chloride_e0_from_hcl(emf, T, gamma=g, pressure=p)
+    uT, up = ufloat(T, 0.01), ufloat(p, 20.0)
+    k = R * uT * LN10 / F
+    # p_w depends on T too; its sensitivity enters through the GUM row of T: linearise here
+    pw0 = water_vapour_pressure(T)
+    dpw = (water_vapour_pressure(T + 1e-3) - water_vapour_pressure(T - 1e-3)) / 2e-3
+    pw = pw0 + dpw * (uT - T)
+    ref = (
+        ufloat(emf, 2e-5)
+        + 2 * k * umath.log10(ufloat(m, 1e-5) * ufloat(g, 0.002 / np.sqrt(3)))
+        - 0.5 * k * umath.log10((up - pw) / P_ATM)
+    )
+    assert res.value == pytest.approx(ref.nominal_value, abs=1e-12)
+    # finite-difference GUM vs exact derivatives: 1e-4 relative
+    assert res.standard_uncertainty == pytest.approx(ref.std_dev, rel=1e-4)
+    # the Kaye & Laby ±0.002 on γ± dominates: E° is known to about 0.09 mV this way
+    assert 6e-5 < res.standard_uncertainty < 1.2e-4
