@@ -173,8 +173,7 @@ def test_harned_bad_input():
 
 
 def test_e0_from_hcl_uncertainty_against_the_uncertainties_package():
-    from uncertainties import ufloat
-    from uncertainties import umath
+    from uncertainties import ufloat, umath
 
     T, p, m, g = 298.15, 100_800.0, 0.01, 0.904
     emf = 0.4638
