@@ -94,3 +94,18 @@ def test_validation_bad_input():
         validate_meter(["KHP", "borax"], [0.17, -0.13], T, roles=["check", "check"])
     with pytest.raises(InputError, match="2 buffers but 3 readings"):
         validate_meter(["KHP", "borax"], [0.17, -0.13, 0.0], T)
+
+
+def test_calibrate_at_25_and_check_at_37_degrees():
+    # the scenario: 4.005 / 6.865 / 9.180 at 25 °C, a check in the 1:1 phosphate at 37 °C.
+    # An ideal cell (isothermal point at pH 7, slope ∝ T) reads at 37 °C what compensation predicts.
+    names = ["4.005", "6.865", "9.180", "6.865"]
+    T = [298.15, 298.15, 298.15, 310.15]
+    emf = [E("4.005"), E("6.865"), E("9.180"), E("6.865", t=310.15)]
+    v = validate_meter(names, emf, T, roles=["calibration"] * 3 + ["check"])
+    c = v.checks[0]
+    assert c.pH_S == 6.841                      # Buck et al. 2002 at 37 °C (from memory, group 1b)
+    assert c.pH == pytest.approx(6.841, abs=1e-9) and c.passed
+    # a cell whose potential moves by +1 mV between 25 and 37 °C reads 1 mV / s(37 °C) = −0.0165 pH low
+    shifted = validate_meter(names, emf[:3] + [emf[3] + 0.001], T, roles=["calibration"] * 3 + ["check"])
+    assert shifted.checks[0].difference == pytest.approx(0.001 / (S * 310.15 / 298.15), rel=1e-9)
