@@ -194,6 +194,15 @@ class StandardBuffer:
         sc = _scalar
         return BufferValue(self.key, sc(Tk), sc(value), sc(u), u_tab, sc(err), tuple(notes))
 
+    def status_at(self, T: float) -> str:
+        """Status of the tabulated value(s) pH(S) at T rests on (both neighbours between points)."""
+        t = self.temperature
+        near = np.flatnonzero(np.isclose(t, T, rtol=0, atol=1e-9))
+        if near.size == 0:
+            j = int(np.clip(np.searchsorted(t, T) - 1, 0, max(t.size - 2, 0)))
+            near = np.arange(j, min(j + 2, t.size))
+        return ", ".join(dict.fromkeys(self.status[i] for i in near))
+
     def solution(self, T: ArrayLike = 298.15) -> Any:
         """The buffer's nominal ion composition as a :class:`~activity.Solution` at T."""
         from activity.solution import Solution

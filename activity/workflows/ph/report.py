@@ -275,22 +275,16 @@ def buffers_report(T: float, form: str = "table", buffers: Any = None) -> str:
     for key, b in table_.items():
         if b.T_min - 1e-9 <= T <= b.T_max + 1e-9:
             v = b.ph(T)
-            ph, U, err = v.value, 2 * v.standard_uncertainty, v.interpolation_error
+            ph, U, err, status = (
+                round(v.value, 4),
+                2 * v.standard_uncertainty,
+                v.interpolation_error,
+                b.status_at(T),
+            )
         else:
             ph = U = err = None
-        rows.append(
-            [
-                key,
-                b.kind,
-                ph,
-                U,
-                err,
-                b.range_text,
-                b.ionic_strength,
-                ", ".join(sorted(set(b.status))),
-                b.label,
-            ]
-        )
+            status = "outside the table"
+        rows.append([key, b.kind, ph, U, err, b.range_text, b.ionic_strength, status, b.label])
     head = [
         "buffer",
         "kind",
@@ -313,8 +307,9 @@ def buffers_report(T: float, form: str = "table", buffers: Any = None) -> str:
         )
     if form == "csv":
         return to_csv(head, rows).rstrip("\n")
+    shown = [[r[0], r[1], None if r[2] is None else f"{r[2]:.3f}"] + r[3:] for r in rows]
     return (
-        table(head, rows, digits=5, title=f"standard buffers at {_c(T):g} °C") + "\n\n"
+        table(head, shown, digits=3, title=f"standard buffers at {_c(T):g} °C") + "\n\n"
         "values marked 'from memory' were not read in the source: check them before relying on them\n"
         + PH_CAUTION
     )
