@@ -23,6 +23,7 @@ Users add their own buffers (certificate values) from a TOML file with the same 
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass, field
@@ -263,6 +264,11 @@ def _interpolate(x: np.ndarray, y: np.ndarray, xi: np.ndarray) -> tuple[np.ndarr
     return np.where(at_node, lin, quad), np.where(at_node, 0.0, err)
 
 
+def _readonly(a: np.ndarray) -> np.ndarray:
+    a.flags.writeable = False
+    return a
+
+
 def _float_list(value: Any, where: str) -> np.ndarray:
     try:
         arr = np.asarray(value, dtype=float)
@@ -316,11 +322,13 @@ def _build(key: str, entry: Mapping[str, Any], where: str, default_kind: str) ->
             str(e.get("status", "")),
         )
     I = entry.get("ionic_strength")
+    t.flags.writeable = False
+    ph.flags.writeable = False
     return StandardBuffer(
         key=key,
         label=str(entry.get("label", key)),
         kind=str(entry.get("kind", default_kind)),
-        temperature=t + ZERO_CELSIUS,
+        temperature=_readonly(t + ZERO_CELSIUS),
         pH=ph,
         status=status,
         source=str(entry["source"]),
@@ -336,9 +344,15 @@ def _build(key: str, entry: Mapping[str, Any], where: str, default_kind: str) ->
     )
 
 
-def _shipped() -> dict[str, StandardBuffer]:
+@functools.lru_cache(maxsize=1)
+def _shipped_cached() -> tuple[tuple[str, StandardBuffer], ...]:
     table = data.load("ph_buffers")["buffers"]
-    return {k: _build(k, v, f"ph_buffers.toml: buffers.{k}", "primary") for k, v in table.items()}
+    return tuple((k, _build(k, v, f"ph_buffers.toml: buffers.{k}", "primary")) for k, v in table.items())
+
+
+def _shipped() -> dict[str, StandardBuffer]:
+    """The shipped buffers (built once; their arrays are read-only)."""
+    return dict(_shipped_cached())
 
 
 def load_buffers(path: str | Path) -> dict[str, StandardBuffer]:

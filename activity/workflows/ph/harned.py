@@ -439,7 +439,10 @@ def harned_ph(
         Es = np.stack([np.broadcast_to(emfs[nm], np.shape(E0)) for nm in names], axis=-1)
         y = acidity(np.asarray(E0), Es, np.asarray(T), np.asarray(p), np.asarray(m_scale))
         a0, _ = _intercept(m, y)
-        return a0 + bates_guggenheim_log10_gamma_cl(I, T) + convention + extrapolation
+        # The water layer starts at 273.15 K: at 0 °C the GUM's step below it takes A(273.15 K)
+        # (A changes by 0.002 % per 0.01 K there, far below any other term).
+        T_A = np.maximum(np.asarray(T, float), ZERO_CELSIUS)
+        return a0 + bates_guggenheim_log10_gamma_cl(I, T_A) + convention + extrapolation
 
     inputs = {
         "E0": Normal(E0, u_E0),

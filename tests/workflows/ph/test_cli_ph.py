@@ -50,6 +50,23 @@ def test_json_and_csv(examples, capsys):
     assert data["passed"] is True and data["calibration"]["slope"]["unit"] == "mV/pH"
     assert 98 < data["calibration"]["slope, % of RT ln10/F"]["value"] < 99.5
     assert "pharmacopoeia" in data["caution"]
+    assert (
+        main(
+            [
+                "ph-calibrate",
+                str(examples / "buffer_readings.csv"),
+                "--samples",
+                str(examples / "samples.csv"),
+                "--json",
+            ]
+        )
+        == 0
+    )
+    samples = json.loads(capsys.readouterr().out)["samples"]
+    assert [s["sample"] for s in samples] == ["rinse water A", "brine B"]
+    # the brine (I ≈ 1 mol/kg) carries the larger junction term and uncertainty
+    assert samples[1]["junction ±"] > samples[0]["junction ±"] and samples[1]["u"] > samples[0]["u"]
+    assert {"input", "share"} <= set(samples[0]["budget"][0])
     assert main(["ph-calibrate", str(examples / "buffer_readings.csv"), "--csv"]) == 0
     cap = capsys.readouterr()
     assert cap.out.splitlines()[0] == "section,item,quantity,value,unit" and "pharmacopoeia" in cap.err

@@ -194,3 +194,20 @@ def test_e0_from_hcl_uncertainty_against_the_uncertainties_package():
     assert res.standard_uncertainty == pytest.approx(ref.std_dev, rel=1e-4)
     # the Kaye & Laby ±0.002 on γ± dominates: E° is known to about 0.09 mV this way
     assert 6e-5 < res.standard_uncertainty < 1.2e-4
+
+
+@settings(deadline=None, max_examples=30)
+@given(
+    st.floats(3.0, 11.0),
+    st.floats(0.0, 50.0),
+    st.floats(0.005, 0.1),
+    st.floats(-1.0, 1.0),
+    st.floats(95_000.0, 103_000.0),
+)
+def test_harned_round_trip(pH, t, I, slope, p):
+    m = np.array([0.004, 0.008, 0.012, 0.016])
+    E0 = silver_chloride_e0(t + K).value
+    E = harned_emf(pH, m, t + K, ionic_strength=I, E0=E0, slope_in_chloride=slope, pressure=p)
+    res = harned_ph(m, E, t + K, ionic_strength=I, E0=E0, u_E0=1e-5, pressure=p)
+    assert res.pH == pytest.approx(pH, abs=1e-9)
+    assert res.slope_in_chloride == pytest.approx(slope, abs=1e-6)

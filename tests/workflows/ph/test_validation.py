@@ -104,7 +104,7 @@ def test_calibrate_at_25_and_check_at_37_degrees():
     emf = [E("4.005"), E("6.865"), E("9.180"), E("6.865", t=310.15)]
     v = validate_meter(names, emf, T, roles=["calibration"] * 3 + ["check"])
     c = v.checks[0]
-    assert c.pH_S == 6.841                      # Buck et al. 2002 at 37 °C (from memory, group 1b)
+    assert c.pH_S == 6.841  # Buck et al. 2002 at 37 °C (from memory, group 1b)
     assert c.pH == pytest.approx(6.841, abs=1e-9) and c.passed
     # a cell whose potential moves by +1 mV between 25 and 37 °C reads 1 mV / s(37 °C) = −0.0165 pH low
     shifted = validate_meter(names, emf[:3] + [emf[3] + 0.001], T, roles=["calibration"] * 3 + ["check"])
