@@ -92,6 +92,13 @@ _EXPORTS: dict[str, str] = {
     "ValidationResult": "uncertainty",
     "BudgetRow": "uncertainty",
     "ModelSpread": "workflows.model_choice",
+    # pH-meter validation: standard buffers, the Harned-cell primary method, meter calibration
+    "buffer_ph": "workflows.ph.buffers",
+    "standard_buffers": "workflows.ph.buffers",
+    "calibrate_ph": "workflows.ph.meter",
+    "PhCalibration": "workflows.ph.meter",
+    "harned_ph": "workflows.ph.harned",
+    "validate_meter": "workflows.ph.validation",
 }
 
 __all__ = sorted(_EXPORTS) + ["__version__"]

@@ -40,6 +40,7 @@ POTENTIAL_NAMES = [
     "henderson_potential",
     "molality_from_emf",
 ]
+PH_NAMES = ["buffer_ph", "standard_buffers", "calibrate_ph", "harned_ph", "validate_meter"]
 UNCERTAINTY_NAMES = ["propagate", "Normal", "Rectangular", "Triangular", "StudentT", "molality_with_uncertainty"]
 BUILTIN_MODELS = ["ideal", "debye-huckel-limiting", "extended-debye-huckel", "truesdell-jones", "davies", "pitzer"]
 
@@ -50,7 +51,7 @@ def test_core_names_exist(name):
     assert name in dir(act)
 
 
-@pytest.mark.parametrize("name", POTENTIAL_NAMES + UNCERTAINTY_NAMES)
+@pytest.mark.parametrize("name", POTENTIAL_NAMES + UNCERTAINTY_NAMES + PH_NAMES)
 def test_electrode_and_uncertainty_names_exist(name):
     assert name in act.__all__
     assert callable(getattr(act, name))
