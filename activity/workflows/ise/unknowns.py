@@ -44,6 +44,8 @@ from ._model import finite, molarity_factor, nernst_slope_z
 
 __all__ = ["ReadResult", "UnknownResult", "read_samples", "read_with_uncertainty"]
 
+#: Budget label of the calibration parameters taken together (with their covariance).
+CALIBRATION = "calibration (E0, slope, a0, K together, with their covariance)"
 #: Convergence of the fixed point on ln m (design choice, far below any measurement uncertainty).
 RTOL = 1e-12
 MAX_ITER = 200
@@ -294,13 +296,24 @@ class UnknownResult:
         """k·u (k = 2 by default, about 95 % for a normal output; common practice)."""
         return _out(k * np.asarray(self.standard_uncertainty))
 
-    def budget_rows(self, index: int = 0) -> list:
-        """Budget of one sample: (input, |c|·u, share) rows."""
+    def budget_rows(self, index: int = 0, *, grouped: bool = True) -> list:
+        """Budget of one sample: (input, |c|·u, share) rows, shares of the linearised variance.
+
+        ``grouped`` (default) shows the calibration parameters as one row, their correlation
+        included (shares then add up to 1); otherwise one row each plus a row for the cross terms.
+        """
         u = np.ravel(np.asarray(self.standard_uncertainty))[index]
         rows = []
-        for name in self.inputs:
+        names = list(self.inputs)
+        if grouped and CALIBRATION in self.contributions:
+            names = [CALIBRATION] + [n for n in names if not n.endswith("[calibration]") and
+                                     not n.endswith("calibration]")]
+        for name in names:
             c = float(np.ravel(np.asarray(self.contributions[name]))[index])
             rows.append((name, c, (c / u) ** 2 if u > 0 else 0.0))
+        rest = 1.0 - sum(r[2] for r in rows)
+        if abs(rest) > 1e-6:  # cross terms of the correlated calibration parameters
+            rows.append(("(correlation of the calibration parameters)", None, rest))
         return rows
 
     def __repr__(self) -> str:
@@ -490,6 +503,9 @@ def read_with_uncertainty(cal: Any, emf: ArrayLike, matrix: Solution, *, u_emf: 
         value = f(**means)
         u = np.sqrt(np.maximum(var, 0.0))
         contributions = {i.label: np.abs(S[idx]) * i.u for idx, i in enumerate(ins)}
+        Sc = S[:n_cal]
+        contributions[CALIBRATION] = np.sqrt(np.maximum(np.einsum("i...,ij,j...->...", Sc, cov[:n_cal, :n_cal], Sc),
+                                                        0.0))
         if np.size(m0) <= budget_rows:
             results = [_propagate_one(f_row(idx), ins, C, n_cal, "gum", trials, seed, coverage, Normal, Rectangular,
                                       propagate) for idx in range(int(np.size(m0)))]
@@ -502,8 +518,11 @@ def read_with_uncertainty(cal: Any, emf: ArrayLike, matrix: Solution, *, u_emf: 
             vals.append(r.value)
             sds.append(r.standard_uncertainty)
             by = {b.name: b.contribution for b in r.budget}
+            sens = {b.name: b.sensitivity for b in r.budget}
             for i in ins:
                 contrib[i.label].append(by.get(i.label, 0.0))
+            c_cal = np.array([sens.get(i.label, 0.0) for i in ins[:n_cal]])
+            contrib.setdefault(CALIBRATION, []).append(float(np.sqrt(max(c_cal @ cov[:n_cal, :n_cal] @ c_cal, 0.0))))
         value = np.array(vals).reshape(shape)
         u = np.array(sds).reshape(shape)
         contributions = {k: np.array(v).reshape(shape) for k, v in contrib.items()}
@@ -514,7 +533,8 @@ def read_with_uncertainty(cal: Any, emf: ArrayLike, matrix: Solution, *, u_emf: 
     return UnknownResult(
         _out(np.asarray(value)), _out(np.asarray(u)), method, _out(c), _out(u * factor), _out(c * mm),
         _out(u * factor * mm), tuple(i.label for i in ins if i.u > 0),
-        {k: _out(np.asarray(v)) for k, v in contributions.items() if k in [i.label for i in ins if i.u > 0]},
+        {k: _out(np.asarray(v)) for k, v in contributions.items()
+         if k in [i.label for i in ins if i.u > 0] + [CALIBRATION]},
         tuple(results), {k: _out(v) for k, v in spread_vals.items()}, base.flags, tuple(dict.fromkeys(notes)))
 
 
