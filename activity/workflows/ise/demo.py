@@ -16,7 +16,7 @@ import numpy as np
 
 from ...solution import Solution
 
-__all__ = ["SCENARIO", "ISEDemo", "run_ise_demo", "demo_dict"]
+__all__ = ["SCENARIO", "ISEDemo", "demo_dict", "run_ise_demo"]
 
 SCENARIO = {
     "title": "Calcium ISE calibration, teaching laboratory (invented scenario and readings)",

@@ -6,7 +6,8 @@ PDF) or :meth:`~activity.workflows.record.Record.figure`. Potentials are drawn i
 """
 from __future__ import annotations
 
-from typing import Any, Sequence
+from collections.abc import Sequence
+from typing import Any
 
 import numpy as np
 

@@ -5,15 +5,25 @@ Potentials are shown in mV, activities and concentrations with their units.
 """
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Any, Sequence
+from typing import Any
 
 import numpy as np
 
 from ...formatting import fmt, table, to_csv, to_json
 
-__all__ = ["Samples", "calibration_text", "calibration_dict", "calibration_json", "calibration_csv",
-           "calibration_record", "fit_rows", "standards_rows", "sample_rows"]
+__all__ = [
+    "Samples",
+    "calibration_csv",
+    "calibration_dict",
+    "calibration_json",
+    "calibration_record",
+    "calibration_text",
+    "fit_rows",
+    "sample_rows",
+    "standards_rows",
+]
 
 
 @dataclass(frozen=True)
@@ -140,8 +150,7 @@ def calibration_text(cal: Any, samples: Samples | None = None, extras: dict | No
             if b:
                 out.append(table(["input", "|c|·u(x) / mol/kg", "share"], b, digits=3,
                                  title=f"uncertainty budget of {lab} (linearised shares)"))
-    for key, text in _extra_text(extras).items():
-        out.append(text)
+    out.extend(_extra_text(extras).values())
     notes = list(cal.notes) + (list(samples.read.notes) + list(samples.uncertainty.notes if samples.uncertainty
                                                                   else []) if samples else [])
     if notes:
@@ -175,7 +184,7 @@ def calibration_dict(cal: Any, samples: Samples | None = None, extras: dict | No
     d = {"calibration": cal.to_dict()}
     d["standards"] = d["calibration"]["standards"]
     if samples is not None:
-        head, rows = sample_rows(samples)
+        _head, rows = sample_rows(samples)
         items = []
         for i, row in enumerate(rows):
             item = dict(zip(["label", "emf_mV", "molality", "u_molality", "molarity", "mg_per_L", "U_k2_mg_per_L",
@@ -287,8 +296,8 @@ def calibration_record(cal: Any, samples: Samples | None = None, extras: dict | 
     rec.notes(_compact_notes(notes))
     extra_cautions = cautions_for(cal.standards_solution) if cal.standards_solution is not None else []
     rec.cautions([GENERAL] + list(extra_cautions)
-                 + ["Verdict thresholds marked 'common practice default' are not a standard: set your own "
-                    "laboratory's acceptance criteria."])
+                 + [("Verdict thresholds marked 'common practice default' are not a standard: set your own "
+                    "laboratory's acceptance criteria.")])
     return rec.to_html(generated=generated)
 
 
