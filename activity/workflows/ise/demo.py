@@ -84,7 +84,7 @@ def run_ise_demo(method: str = "gum", seed: int | None = 1) -> ISEDemo:
     --------
     >>> demo = run_ise_demo()
     >>> len(demo.to_dict()["standards"]), round(demo.calibration.slope_percent)
-    (5, 97)
+    (5, 98)
     """
     from ...errors import call_with_notes
     from .calibration import calibrate_ise
