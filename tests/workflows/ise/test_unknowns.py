@@ -112,3 +112,25 @@ def test_reading_errors():
         cal.molality(0.0, MATRIX, counter_ion="Na+")
     with pytest.raises(InputError, match="method"):
         cal.molality_with_uncertainty(0.0, MATRIX, method="bayes")
+
+
+def test_interferent_in_the_sample_is_corrected_and_forward_agrees_with_the_electrode_model():
+    # calibration with K(Ca, Mg) held at 0.01; a sample with Mg²⁺ in its matrix: its reading, computed
+    # by the package's IonSelectiveElectrode (the Nikolsky–Eisenman implementation of the Nernst
+    # layer), must read back the true molality
+    from activity.electrodes import IonSelectiveElectrode
+
+    c = np.logspace(-5, -2, 4)
+    std = Solution({"Ca^2+": c, "K+": 0.1, "Cl-": 0.1 + 2 * c})
+    t = ion_terms(std, "Ca^2+", 2, [], "davies")
+    E = 0.05 + nernst_slope_z(298.15, 2) * np.log10(t.a_primary)
+    cal = calibrate_ise(std, E, "Ca^2+", slope="nernstian", interferents={"Mg^2+": 0.01}, detection_term=0.0)
+    ise = IonSelectiveElectrode("Ca^2+", E0=cal.E0, selectivity={"Mg^2+": 0.01})
+    m_true = 2e-4
+    sample = Solution({"Ca^2+": m_true, "Mg^2+": 0.005, "K+": 0.1, "Cl-": 0.1 + 2 * m_true + 0.01})
+    reading = ise.potential(sample, "davies")
+    matrix = Solution({"Mg^2+": 0.005, "K+": 0.1, "Cl-": 0.11})
+    assert cal.molality(reading, matrix, counter_ion="Cl-") == pytest.approx(m_true, rel=1e-9)
+    # without the correction (K ignored) the Mg²⁺ would read as calcium: about +25 % here
+    plain = calibrate_ise(std, E, "Ca^2+", slope="nernstian", detection_term=0.0)
+    assert plain.molality(reading, matrix, counter_ion="Cl-") > 1.2 * m_true
