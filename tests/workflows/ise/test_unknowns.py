@@ -134,3 +134,20 @@ def test_interferent_in_the_sample_is_corrected_and_forward_agrees_with_the_elec
     # without the correction (K ignored) the Mg²⁺ would read as calcium: about +25 % here
     plain = calibrate_ise(std, E, "Ca^2+", slope="nernstian", detection_term=0.0)
     assert plain.molality(reading, matrix, counter_ion="Cl-") > 1.2 * m_true
+
+
+@pytest.mark.parametrize("u_mV, published", [(1.0, 4.0), (0.1, 0.4)])
+def test_relative_error_per_millivolt_matches_the_textbook_figure(u_mV, published):
+    # Wang, Analytical Electrochemistry 2nd ed. (2000) p. 146: a 1 mV uncertainty of the EMF gives about
+    # 4 % relative concentration error for a monovalent ion at 25 °C, 0.1 mV about 0.4 %
+    # (published-values.toml 5a, status "read"). Exact: ln10·u/S = 3.89 % per mV; "about" → ±0.2 % / ±0.02 %.
+    c = np.logspace(-4, -1, 4)
+    std = Solution({"K+": c, "Cl-": c})
+    t = ion_terms(std, "K+", 1, [], "ideal")
+    E = 0.1 + nernst_slope_z(298.15, 1) * np.log10(t.a_primary)  # noise-free: no calibration uncertainty
+    cal = calibrate_ise(std, E, "K+", model="ideal", slope="nernstian", detection_term=0.0)
+    res = cal.molality_with_uncertainty(0.0, Solution({"Na+": 0.0, "Cl-": 0.0}), u_emf=u_mV * 1e-3,
+                                        model_choice=False)
+    rel = 100 * res.standard_uncertainty / res.value
+    assert rel == pytest.approx(100 * np.log(10) * u_mV / 59.159, rel=1e-4)
+    assert rel == pytest.approx(published, abs=0.05 * published)
