@@ -372,8 +372,10 @@ def _spread(cal: Any, emf: Any, matrix: Solution, counter_ion: str | None, model
                 other = cal.refit(item) if name != cal.model else cal
                 return read_samples(other, emf, matrix, counter_ion=counter_ion).molality
             m, seen = catch_package_warnings(one)
-        except (ActivityError, ImportError) as exc:
-            notes.append(f"model choice: {name} not counted ({exc})")
+        except Exception as exc:  # noqa: BLE001 - a registered (plug-in) model may fail in any way; it is
+            # left out of the spread and named, never allowed to stop the reading
+            kind = "" if isinstance(exc, ActivityError) else f"{type(exc).__name__}: "
+            notes.append(f"model choice: {name} not counted ({kind}{exc})")
             continue
         outside = [str(w.message) for w in seen if issubclass(w.category, ValidityWarning)
                    and "row(s)" in str(w.message) and name != cal.model]
