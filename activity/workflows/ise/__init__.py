@@ -12,6 +12,39 @@ Examples
 98
 """
 from .acceptance import Acceptance, Verdict
+from .addition import (
+    AdditionResult,
+    known_addition_closed_form,
+    multiple_addition,
+    single_addition,
+)
 from .calibration import ISECalibration, calibrate_ise
+from .drift import DriftResult, drift_check
+from .selectivity import (
+    SelectivityResult,
+    fixed_interference,
+    matched_potential,
+    separate_solution,
+)
+from .unknowns import ReadResult, UnknownResult, read_samples, read_with_uncertainty
 
-__all__ = ["Acceptance", "ISECalibration", "Verdict", "calibrate_ise"]
+__all__ = [
+    "Acceptance",
+    "AdditionResult",
+    "DriftResult",
+    "ISECalibration",
+    "ReadResult",
+    "SelectivityResult",
+    "UnknownResult",
+    "Verdict",
+    "calibrate_ise",
+    "drift_check",
+    "fixed_interference",
+    "known_addition_closed_form",
+    "matched_potential",
+    "multiple_addition",
+    "read_samples",
+    "read_with_uncertainty",
+    "separate_solution",
+    "single_addition",
+]
