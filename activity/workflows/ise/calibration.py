@@ -698,8 +698,6 @@ def calibrate_ise(
     if a_dl > 0:
         m_dl = a_dl / gamma_low
         c_dl = m_dl * float(factor[low])
-        if not fit_a0 and not any(K.get(j, 0) > 0 for j in terms.interferents):
-            pass
         if a_dl < 1e-3 * ai.min():
             notes.append(f"the detection limit lies {np.log10(ai.min() / a_dl):.1f} decades below the lowest "
                          f"standard: extrapolated, not measured")
