@@ -92,6 +92,15 @@ _EXPORTS: dict[str, str] = {
     "ValidationResult": "uncertainty",
     "BudgetRow": "uncertainty",
     "ModelSpread": "workflows.model_choice",
+    # ion-selective electrode calibration: fit, selectivity, known addition, drift
+    "calibrate_ise": "workflows.ise.calibration",
+    "ISECalibration": "workflows.ise.calibration",
+    "separate_solution": "workflows.ise.selectivity",
+    "fixed_interference": "workflows.ise.selectivity",
+    "matched_potential": "workflows.ise.selectivity",
+    "single_addition": "workflows.ise.addition",
+    "multiple_addition": "workflows.ise.addition",
+    "drift_check": "workflows.ise.drift",
     # pH-meter validation: standard buffers, the Harned-cell primary method, meter calibration
     "buffer_ph": "workflows.ph.buffers",
     "standard_buffers": "workflows.ph.buffers",

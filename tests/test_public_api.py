@@ -40,6 +40,15 @@ POTENTIAL_NAMES = [
     "henderson_potential",
     "molality_from_emf",
 ]
+ISE_NAMES = [
+    "calibrate_ise",
+    "separate_solution",
+    "fixed_interference",
+    "matched_potential",
+    "single_addition",
+    "multiple_addition",
+    "drift_check",
+]
 PH_NAMES = ["buffer_ph", "standard_buffers", "calibrate_ph", "harned_ph", "validate_meter"]
 UNCERTAINTY_NAMES = ["propagate", "Normal", "Rectangular", "Triangular", "StudentT", "molality_with_uncertainty"]
 BUILTIN_MODELS = ["ideal", "debye-huckel-limiting", "extended-debye-huckel", "truesdell-jones", "davies", "pitzer"]
@@ -51,7 +60,7 @@ def test_core_names_exist(name):
     assert name in dir(act)
 
 
-@pytest.mark.parametrize("name", POTENTIAL_NAMES + UNCERTAINTY_NAMES + PH_NAMES)
+@pytest.mark.parametrize("name", POTENTIAL_NAMES + UNCERTAINTY_NAMES + PH_NAMES + ISE_NAMES)
 def test_electrode_and_uncertainty_names_exist(name):
     assert name in act.__all__
     assert callable(getattr(act, name))

@@ -36,8 +36,18 @@ def cmd_models(args: argparse.Namespace) -> int:
 
 
 def cmd_demo(args: argparse.Namespace) -> int:
+    """The built-in scenario: the calcium electrode's calibration (or, with --by-model, the
+    standards' activities by every model side by side)."""
+    if not args.by_model:
+        from .ise import run_calibration_demo
+
+        return run_calibration_demo(args)
+    from ..errors import InputError
     from .render import demo_report
 
+    if args.plot or args.record:
+        raise InputError("--plot and --record go with the calibration demo, not --by-model", field="by-model",
+                         value=None)
     form = output_format(args)
     text = demo_report(form=form)
     emit(args, text if form != "table" else text + "\n\n" + CAUTION)
@@ -72,6 +82,17 @@ def register(sub: argparse._SubParsersAction) -> None:
     add_output(p)
     p.set_defaults(func=cmd_models)
 
-    p = sub.add_parser("demo", help="run the built-in demo", epilog=CAUTION)
+    p = sub.add_parser(
+        "demo",
+        help="run the built-in demo: calibrate a calcium electrode and read two samples",
+        description="The built-in scenario (invented teaching-lab data): five CaCl2 standards in 0.1 mol/L "
+        "KCl, their readings, the activity-corrected calibration with its verdicts, and two samples read with "
+        "their uncertainty.",
+        epilog=CAUTION,
+    )
+    p.add_argument("--plot", metavar="FILE", help="calibration plot (.png, .svg or .pdf)")
+    p.add_argument("--record", metavar="FILE.html", help="one-page HTML calibration record")
+    p.add_argument("--by-model", action="store_true",
+                   help="instead: the standards' calcium activity and expected EMF by every activity model")
     add_output(p)
     p.set_defaults(func=cmd_demo)

@@ -55,7 +55,12 @@ figcaption { color: #555; font-size: 9pt; }
 .cautions h2 { border: none; margin-top: 2pt; }
 footer { margin-top: 10pt; color: #666; font-size: 8.5pt; border-top: 1px solid #bbb;
          padding-top: 3pt; }
-@media print { body { padding: 0; } }
+@media print {
+  body { padding: 0; font-size: 8.6pt; line-height: 1.25; }
+  h1 { font-size: 13pt; } h2 { font-size: 10pt; margin: 7pt 0 2pt; }
+  table { font-size: 7.8pt; margin: 1pt 0 4pt; } th, td { padding: 0.8pt 4pt; }
+  figure svg { max-height: 62mm; }
+}
 """
 
 

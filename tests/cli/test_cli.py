@@ -115,10 +115,11 @@ def test_models_lists_validity(capsys):
         assert float(rows[name]) == get_model(name).validity.max_ionic_strength
 
 
-def test_demo_runs_and_shows_caution(capsys):
+def test_demo_is_the_calibration_and_shows_caution(capsys):
     assert main(["demo"]) == 0
     out = capsys.readouterr().out
-    assert "Calcium" in out and "davies" in out
+    assert "Ca^2+ electrode calibration" in out and "detection limit (IUPAC)" in out
+    assert "A: tap water 1+1" in out and "uncertainty budget" in out
     assert "Caution" in out
 
 
@@ -126,8 +127,16 @@ def test_demo_json(capsys):
     assert main(["demo", "--json"]) == 0
     data = json.loads(capsys.readouterr().out)
     assert len(data["standards"]) == 5
-    davies = next(m for m in data["models"] if m["model"] == "davies")
     # the activity of a standard is below its molality (γ < 1) at I ≈ 0.1 mol/kg
+    assert all(0 < s["activity"] < s["molality"] for s in data["standards"])
+    assert 90 < data["calibration"]["slope_percent"] < 105
+
+
+def test_demo_by_model_shows_every_model(capsys):
+    assert main(["demo", "--by-model", "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert len(data["standards"]) == 5
+    davies = next(m for m in data["models"] if m["model"] == "davies")
     assert all(a < s["calcium_mol_per_kg"] for a, s in zip(davies["activity_Ca"], data["standards"]))
 
 
