@@ -50,6 +50,25 @@ def _as_solution(solution: Any) -> Solution:
     )
 
 
+def _broadcast(sol: Solution, closures: list) -> Solution:
+    """Widen a solution to the batch shape of array-valued closures (pH, pressures, activities)."""
+    shape = sol.shape
+    for field, value in closures:
+        if value is None:
+            continue
+        try:
+            shape = np.broadcast_shapes(shape, np.shape(value))
+        except ValueError:
+            raise InputError(
+                f"does not broadcast with the batch shape {shape}", field=field, value=np.shape(value)
+            ) from None
+    if shape == sol.shape:
+        return sol
+    m = sol.m[(slice(None),) + (None,) * (len(shape) - len(sol.shape))]
+    m = np.broadcast_to(m, (len(sol.species), *shape))
+    return Solution._from_arrays(sol.species, sol.charges, np.array(m), sol.T_compact, sol.P_compact)
+
+
 def _network(network: Any) -> Network:
     if network is None:
         return default_network()
@@ -139,6 +158,12 @@ def speciate(
     net = _network(network)
     for name in exclude:
         net = net.without(name)
+    sol = _broadcast(
+        sol,
+        [("ph", ph)]
+        + [("gases", v) for v in (gases or {}).values()]
+        + [("activities", v) for v in (activities or {}).values()],
+    )
     shape = sol.shape
     N = sol.size
     inert_names = []

@@ -1,4 +1,5 @@
 """Reaction data: layout, validation, lg K(T), the medium conversion, Kw(T) against IAPWS."""
+
 import numpy as np
 import pytest
 
@@ -7,7 +8,7 @@ from activity.errors import InputError
 from activity.speciation.network import Network, default_network, water_lg_kw
 
 iapws_mod = pytest.importorskip("iapws")
-from iapws._iapws import _Kw as iapws_pkw  # noqa: E402  (test-only reference)
+from iapws._iapws import _Kw as iapws_pkw
 
 
 def test_every_reaction_has_a_source_and_range():
@@ -16,10 +17,43 @@ def test_every_reaction_has_a_source_and_range():
         assert rx.source.strip(), name
         assert rx.T_range[0] <= 298.15 <= rx.T_range[1], name
     # the species the issue asks for are all there
-    wanted = ["OH-", "HCO3-", "CO2", "CaHCO3+", "CaCO3", "MgHCO3+", "MgCO3", "NaCO3-", "HSO4-", "CaSO4",
-              "MgSO4", "NaSO4-", "KSO4-", "HPO4^2-", "H2PO4-", "H3PO4", "CaHPO4", "MgHPO4", "HF", "HF2-",
-              "CaF+", "MgF+", "NH4+", "CH3COOH", "C8H5O4-", "C6H7O7-", "C4H5O6-", "B(OH)3", "HC2O4-",
-              "CaC10H12N2O8^2-", "MgC10H12N2O8^2-", "C10H13N2O8^3-", "CaC6H6NO6-", "MgC6H6NO6-", "C6H7NO6^2-"]
+    wanted = [
+        "OH-",
+        "HCO3-",
+        "CO2",
+        "CaHCO3+",
+        "CaCO3",
+        "MgHCO3+",
+        "MgCO3",
+        "NaCO3-",
+        "HSO4-",
+        "CaSO4",
+        "MgSO4",
+        "NaSO4-",
+        "KSO4-",
+        "HPO4^2-",
+        "H2PO4-",
+        "H3PO4",
+        "CaHPO4",
+        "MgHPO4",
+        "HF",
+        "HF2-",
+        "CaF+",
+        "MgF+",
+        "NH4+",
+        "CH3COOH",
+        "C8H5O4-",
+        "C6H7O7-",
+        "C4H5O6-",
+        "B(OH)3",
+        "HC2O4-",
+        "CaC10H12N2O8^2-",
+        "MgC10H12N2O8^2-",
+        "C10H13N2O8^3-",
+        "CaC6H6NO6-",
+        "MgC6H6NO6-",
+        "C6H7NO6^2-",
+    ]
     missing = [w for w in wanted if w not in net.products]
     assert missing == []
     assert "CO2(g)" in net.gases
@@ -75,8 +109,13 @@ def _doc(**species):
 
 
 def _rx(**kw):
-    base = {"made_of": {"F-": 1, "H+": 1}, "lg_k": 3.18, "temperature": {"constant": True},
-            "celsius": [0, 50], "source": "test"}
+    base = {
+        "made_of": {"F-": 1, "H+": 1},
+        "lg_k": 3.18,
+        "temperature": {"constant": True},
+        "celsius": [0, 50],
+        "source": "test",
+    }
     base.update(kw)
     return base
 
@@ -106,9 +145,13 @@ def test_malformed_entries_name_the_key(body, field_part):
 
 
 def test_cycles_are_refused():
-    doc = {"components": {"H+": "", "F-": ""},
-           "species": {"HF": _rx(made_of={"HF2-": 1, "F-": -1}),
-                       "HF2-": _rx(made_of={"HF": 1, "F-": 1}, lg_k=0.5)}}
+    doc = {
+        "components": {"H+": "", "F-": ""},
+        "species": {
+            "HF": _rx(made_of={"HF2-": 1, "F-": -1}),
+            "HF2-": _rx(made_of={"HF": 1, "F-": 1}, lg_k=0.5),
+        },
+    }
     with pytest.raises(InputError, match="cycle"):
         Network.from_mapping(doc)
 

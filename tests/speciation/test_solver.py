@@ -1,4 +1,5 @@
 """The solver: balances, mass action, limits, pure water, buffers, CaSO4, Pitzer overlap."""
+
 import numpy as np
 import pytest
 
@@ -11,7 +12,7 @@ from activity.speciation.network import default_network
 from activity.speciation.overlap import pitzer_skips
 
 iapws = pytest.importorskip("iapws")
-from iapws._iapws import _Kw as iapws_pkw  # noqa: E402  (test-only reference)
+from iapws._iapws import _Kw as iapws_pkw
 
 
 def _balances(res, given):
@@ -21,7 +22,9 @@ def _balances(res, given):
     for comp, total in given.items():
         if total == 0 or comp == "H+":
             continue
-        calc = sum(res.stoichiometry[i, res.components.index(comp)] * res.m[i] for i in range(len(res.species)))
+        calc = sum(
+            res.stoichiometry[i, res.components.index(comp)] * res.m[i] for i in range(len(res.species))
+        )
         errs.append(abs(calc - total) / total)
     z = res.charges.astype(float)
     charge = abs(np.tensordot(z, res.m, axes=(0, 0))) / np.tensordot(np.abs(z), res.m, axes=(0, 0))
@@ -29,8 +32,17 @@ def _balances(res, given):
     return max(errs), float(np.max(charge))
 
 
-SEAWATER_LIKE = {"Na+": 0.02, "K+": 0.002, "Ca^2+": 0.004, "Mg^2+": 0.003, "Cl-": 0.02, "HCO3-": 0.004,
-                 "SO4^2-": 0.005, "H2PO4-": 1e-4, "F-": 5e-5}  # invented composition
+SEAWATER_LIKE = {
+    "Na+": 0.02,
+    "K+": 0.002,
+    "Ca^2+": 0.004,
+    "Mg^2+": 0.003,
+    "Cl-": 0.02,
+    "HCO3-": 0.004,
+    "SO4^2-": 0.005,
+    "H2PO4-": 1e-4,
+    "F-": 5e-5,
+}  # invented composition
 
 
 def _totals(comp):
@@ -108,10 +120,10 @@ class BatesGuggenheim(DebyeHuckelForm):
     [
         # IUPAC 2002 (Buck et al., PAC 74, 2169) pH(PS) at 25 °C — published-values.toml
         # group 1b, status "from memory".
-        ({"K+": 0.05, "C8H5O4-": 0.05}, 4.005),                                   # KH phthalate 0.05 mol/kg
-        ({"K+": 0.025, "H2PO4-": 0.025, "Na+": 0.05, "HPO4^2-": 0.025}, 6.865),   # phosphate 0.025/0.025
-        ({"Na+": 0.02, "B(OH)4-": 0.02, "B(OH)3": 0.02}, 9.180),                  # borax 0.01 mol/kg
-        ({"Na+": 0.075, "HCO3-": 0.025, "CO3^2-": 0.025}, 10.012),                # carbonate 0.025/0.025
+        ({"K+": 0.05, "C8H5O4-": 0.05}, 4.005),  # KH phthalate 0.05 mol/kg
+        ({"K+": 0.025, "H2PO4-": 0.025, "Na+": 0.05, "HPO4^2-": 0.025}, 6.865),  # phosphate 0.025/0.025
+        ({"Na+": 0.02, "B(OH)4-": 0.02, "B(OH)3": 0.02}, 9.180),  # borax 0.01 mol/kg
+        ({"Na+": 0.075, "HCO3-": 0.025, "CO3^2-": 0.025}, 10.012),  # carbonate 0.025/0.025
     ],
 )
 def test_standard_buffers_against_iupac_ph_s(composition, ph_s):
@@ -167,16 +179,27 @@ def test_caso4_davies_with_pairs_against_pitzer():
 def test_pitzer_overlap_rule():
     skips = pitzer_skips(default_network(), get_model("pitzer").table)
     for pair in ("CaSO4", "MgSO4", "NaSO4-", "KSO4-", "NaCO3-", "CaHCO3+", "MgHCO3+", "CaOH+"):
-        assert pair in skips, pair                      # β entries of the set stand for them
+        assert pair in skips, pair  # β entries of the set stand for them
     for kept in ("HSO4-", "HCO3-", "CO2", "OH-", "CaCO3", "MgCO3", "MgOH+", "CaC10H12N2O8^2-", "H2PO4-"):
-        assert kept not in skips, kept                  # protonations, or no β for the pair
+        assert kept not in skips, kept  # protonations, or no β for the pair
     res = speciate({"Mg^2+": 0.01, "SO4^2-": 0.01}, "pitzer")
     assert "MgSO4" not in res.species
     assert any("MgSO4 not counted" in n for n in res.notes)
     # a parameter set without the Ca–SO4 entry keeps the pair
-    custom = act.PitzerModel(base={"salt": {"Na+ Cl-": {"beta0": 0.0765, "beta1": 0.2664, "cphi": 0.00127,
-                                                         "max_molality": 6.0, "celsius": [0, 50],
-                                                         "source": "Pitzer & Mayorga 1973, Table I"}}})
+    custom = act.PitzerModel(
+        base={
+            "salt": {
+                "Na+ Cl-": {
+                    "beta0": 0.0765,
+                    "beta1": 0.2664,
+                    "cphi": 0.00127,
+                    "max_molality": 6.0,
+                    "celsius": [0, 50],
+                    "source": "Pitzer & Mayorga 1973, Table I",
+                }
+            }
+        }
+    )
     res = speciate({"Ca^2+": 0.01, "SO4^2-": 0.01}, custom)
     assert "CaSO4" in res.species
 
@@ -214,8 +237,9 @@ def test_fixed_ph_and_balance_on_another_ion():
     z = res.charges.astype(float)
     assert abs(z @ res.m) / (np.abs(z) @ res.m) < 1e-10
     ln_ratio = np.log(res.activity("HPO4^2-") / res.activity("H2PO4-"))
-    assert ln_ratio / LN10 == pytest.approx(7.0 - float(default_network().reactions["H2PO4-"].lg_k(298.15)),
-                                            abs=1e-9)
+    assert ln_ratio / LN10 == pytest.approx(
+        7.0 - float(default_network().reactions["H2PO4-"].lg_k(298.15)), abs=1e-9
+    )
 
 
 def test_impossible_balance_is_a_convergence_error_naming_rows():

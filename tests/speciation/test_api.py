@@ -1,0 +1,23 @@
+"""The public signature of speciate and its result (issue 9; to be pinned in tests/test_public_api.py)."""
+
+import inspect
+
+from activity.speciation import SpeciationResult, speciate
+
+
+def test_speciate_signature():
+    sig = inspect.signature(speciate)
+    params = list(sig.parameters)
+    assert params[:2] == ["solution", "model"]
+    assert sig.parameters["model"].default == "davies"
+    for name in ("ph", "balance", "gases"):
+        assert sig.parameters[name].kind is inspect.Parameter.KEYWORD_ONLY
+    assert sig.parameters["ph"].default is None and sig.parameters["gases"].default is None
+
+
+def test_result_attributes():
+    res = speciate({"Na+": 0.01, "Cl-": 0.01})
+    assert isinstance(res, SpeciationResult)
+    for attr in ("species", "ph", "ionic_strength", "converged", "iterations", "notes", "closure", "totals"):
+        assert hasattr(res, attr)
+    assert res.activity("Na+") == res.gamma("Na+") * res.molality("Na+")
