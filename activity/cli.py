@@ -23,7 +23,7 @@ CAUTION = (  # the same text as activity.cautions.GENERAL, kept here so --help i
 )
 
 # Modules that add subcommands: each defines register(subparsers).
-_COMMAND_MODULES = ("activity._cli_electrode",)
+_COMMAND_MODULES = ("activity._cli_electrode", "activity._cli_speciate")
 
 
 class _Parser(argparse.ArgumentParser):

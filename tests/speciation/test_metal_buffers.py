@@ -23,7 +23,8 @@ def test_pca8_in_edta_at_ph7_round_trip():
 def test_total_metal_against_closed_form_with_ideal_activities():
     """With γ = 1 and fixed pH the total follows in closed form from the data's constants
     (an independent evaluation of the same mass-action laws):
-    Y_free = Y_T / (1 + Σ β_HiY h^i + β_CaY c + β_CaHY c h),  Ca_T = c (1 + β_CaOH Kw/h) + Y_free (β_CaY c + β_CaHY c h)."""
+    Y_free = Y_T / (1 + Σ β_HiY h^i + β_CaY c + β_CaHY c h),
+    Ca_T = c (1 + β_CaOH Kw/h) + Y_free (β_CaY c + β_CaHY c h)."""
     net = default_network()
     lb = dict(zip(net.products, net.lg_beta(298.15)))
     c, h, y_t = 10**-8.0, 10**-7.0, 0.01
