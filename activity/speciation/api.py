@@ -32,7 +32,7 @@ from .overlap import parameter_table, pitzer_skips
 from .result import SpeciationResult
 from .solver import System, solve, start
 
-__all__ = ["speciate"]
+__all__ = ["free_activity", "speciate"]
 
 _DEFAULT = "H+ unless ph is given"
 P_STANDARD = 1e5  # Pa, standard pressure of the gas constants (1 bar)
@@ -445,6 +445,14 @@ def speciate(
             notes.append(
                 f"charge balance added {comps[bal]} (up to {float(np.max(found - given)):.4g} mol/kg)"
             )
+    if charge_col is None:
+        z = charges.astype(float)
+        rel = np.abs(m @ z) / np.maximum(m @ np.abs(z), 1e-300)
+        if np.any(rel > 1e-6):
+            notes.append(
+                f"no charge balance was imposed and the speciated solution carries a relative charge "
+                f"imbalance up to {float(np.max(rel)):.3g}; pass balance='<ion>' to close it"
+            )
     calc_totals = m @ nu  # (N, n)
     totals_out = {
         comps[k]: _checks.scalar_or_array(calc_totals[:, pos[int(k)]].reshape(shape)) for k in comp_idx
@@ -475,3 +483,33 @@ def speciate(
         components=tuple(comps[k] for k in comp_idx),
         stoichiometry=nu,
     )
+
+
+def free_activity(solution: Any, ion: str, model: Any = "davies", **closures: Any) -> Any:
+    """Free activity of one ion after speciation (batch-first): what an electrode answers to.
+
+    A shortcut for ``speciate(solution, model, **closures).activity(ion)``, meant for the
+    Nernst layer: an ion-selective electrode in a complexing matrix (sulfate, carbonate,
+    citrate, a chelator) sees this activity, not γ times the total molality.
+
+    Parameters
+    ----------
+    solution : Solution or Mapping
+        What was dissolved (rows allowed).
+    ion : str
+        The ion whose free activity is wanted (a component or formed species).
+    model : str or ActivityModel
+    **closures
+        ``ph``, ``balance``, ``gases``, ... as for :func:`speciate`.
+
+    Returns
+    -------
+    float or ndarray
+        Shaped like the batch.
+
+    Examples
+    --------
+    >>> round(free_activity({"Ca^2+": 0.01, "SO4^2-": 0.01}, "Ca^2+"), 5)
+    0.00378
+    """
+    return speciate(solution, model, **closures).activity(ion)

@@ -303,8 +303,20 @@ def solve(
             for _ in range(BACKTRACKS):
                 lnm_t = _species_lnm(system, lk_f, trial_f, g_f)
                 m_t = np.exp(np.minimum(lnm_t, 230.0))
-                r_t, _ = _residual(system, m_t, lnm_t + g_f, trial_f, tot_f, sc_f, kd_f, charge_col,
-                                   act_cols, act_species, tg_f, want_j=False)
+                r_t, _ = _residual(
+                    system,
+                    m_t,
+                    lnm_t + g_f,
+                    trial_f,
+                    tot_f,
+                    sc_f,
+                    kd_f,
+                    charge_col,
+                    act_cols,
+                    act_species,
+                    tg_f,
+                    want_j=False,
+                )
                 f1 = np.sum(r_t * r_t, axis=1)
                 worse = ~(f1 <= f0 * (1.0 - 1e-4 * lam_f)) & (f0 > tol * tol)
                 if not np.any(worse):
