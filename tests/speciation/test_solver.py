@@ -126,7 +126,8 @@ class BatesGuggenheim(DebyeHuckelForm):
         ({"Na+": 0.075, "HCO3-": 0.025, "CO3^2-": 0.025}, 10.012),  # carbonate 0.025/0.025
         # further standards of the same table (group 1b, from memory)
         ({"K+": 0.05, "C6H7O7-": 0.05}, 3.776),  # KH2 citrate 0.05 mol/kg
-        ({"K+": 0.0341, "C4H5O6-": 0.0341}, 3.557),  # KH tartrate, saturated (≈ 0.034 mol/L, Lange Table 8.15)
+        # KH tartrate, saturated (≈ 0.034 mol/L, Lange Table 8.15, read)
+        ({"K+": 0.0341, "C4H5O6-": 0.0341}, 3.557),
         ({"K+": 0.008695, "H2PO4-": 0.008695, "Na+": 0.06086, "HPO4^2-": 0.03043}, 7.413),  # phosphate 1:3.5
         # secondary standard 0.05 mol/kg K tetroxalate: 1.679 (Bates 1962, J. Res. NBS 66A, 179; group 1b)
         ({"K+": 0.05, "HC2O4-": 0.05, "H2C2O4": 0.05}, 1.679),
