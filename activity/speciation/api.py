@@ -30,7 +30,7 @@ from ..species import parse_species
 from .network import Network, default_network
 from .overlap import parameter_table, pitzer_skips
 from .result import SpeciationResult
-from .solver import System, solve, start
+from .solver import System, solve_blocks
 
 __all__ = ["free_activity", "speciate"]
 
@@ -397,9 +397,8 @@ def speciate(
     pin_cols = mass_cols.copy()
     h_alone = not np.any(nu[n:, h])  # no formed species holds H+ (a network without acids)
     pin_cols[h] = h_alone
-    u0 = start(system, lnk, totals, pin_cols, u0)
     out, caught = call_with_notes(
-        solve,
+        solve_blocks,
         system,
         lnk,
         totals,

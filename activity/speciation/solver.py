@@ -37,7 +37,7 @@ import numpy as np
 from ..constants import LN10
 from ..solution import Solution
 
-__all__ = ["SolveOutput", "System", "solve", "start"]
+__all__ = ["CHUNK", "SolveOutput", "System", "solve", "solve_blocks", "start"]
 
 #: Largest change of ln m per Newton step (about 1.7 decades).
 MAX_STEP = 4.0
@@ -328,3 +328,58 @@ def solve(
     if act.size:
         lnm_out[act] = _species_lnm(system, lnk[act], u[act], lng[act])
     return SolveOutput(lnm_out, lng, converged, iterations, resid)
+
+
+#: Rows solved together: bounds the temporary memory (the Jacobians alone take
+#: 8 n² bytes per row) and keeps the working arrays in cache.
+CHUNK = 8192
+
+
+def solve_blocks(
+    system: System,
+    lnk: np.ndarray,
+    totals: np.ndarray,
+    scale: np.ndarray,
+    pin_cols: np.ndarray,
+    charge_col: int | None,
+    act_cols: list[int],
+    act_species: list[int],
+    act_targets: list[np.ndarray],
+    model: Any,
+    T: np.ndarray,
+    P: np.ndarray,
+    u0: np.ndarray,
+    **kw: Any,
+) -> SolveOutput:
+    """:func:`start` and :func:`solve` on blocks of :data:`CHUNK` rows (same arguments)."""
+    N = totals.shape[0]
+    parts = []
+    for lo in range(0, N, CHUNK):
+        sl = slice(lo, min(N, lo + CHUNK))
+        u_start = start(system, lnk[sl], totals[sl], pin_cols, u0[sl])
+        parts.append(
+            solve(
+                system,
+                lnk[sl],
+                totals[sl],
+                scale[sl],
+                pin_cols,
+                charge_col,
+                act_cols,
+                act_species,
+                [t[sl] for t in act_targets],
+                model,
+                T[sl] if np.ndim(T) else T,
+                P[sl] if np.ndim(P) else P,
+                u_start,
+                **kw,
+            )
+        )
+    if len(parts) == 1:
+        return parts[0]
+    return SolveOutput(
+        *(
+            np.concatenate([getattr(p, f) for p in parts])
+            for f in ("lnm", "lng", "converged", "iterations", "residual")
+        )
+    )
