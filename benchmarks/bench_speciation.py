@@ -1,6 +1,6 @@
 """Speed of the speciation solver: rows/s, ratio to a per-row loop, peak memory.
 
-Run:  python benchmarks/bench_speciation.py [--quick]
+Run:  python benchmarks/bench_speciation.py [--quick]   (one BLAS thread, like bench_pitzer.py)
 
 A 10-component carbonate–sulfate–phosphate–fluoride matrix (H+, Na+, K+, Ca2+, Mg2+,
 Cl-, CO3^2-, SO4^2-, PO4^3-, F-; 30 species with the formed ones) with Davies, charge
@@ -12,14 +12,18 @@ peak memory at 10⁵ rows under 500 MB.
 from __future__ import annotations
 
 import argparse
+import os
 import tracemalloc
 import warnings
 
-import numpy as np
-from _common import best_of
+for _v in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_v, "1")  # one core, before numpy loads its BLAS
 
-import activity as act
-from activity.speciation import speciate
+import numpy as np  # noqa: E402
+from _common import best_of  # noqa: E402  (also puts this checkout on sys.path)
+
+import activity as act  # noqa: E402
+from activity.speciation import speciate  # noqa: E402
 
 
 def composition(n: int, rng: np.random.Generator) -> dict[str, np.ndarray]:
