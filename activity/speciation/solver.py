@@ -16,15 +16,19 @@ and each component contributes one equation, chosen by its *closure*:
   pH (s = H⁺) or a fixed gas partial pressure (s = the dissolved gas).
 
 With γ held at its current value the Jacobian is exact: ∂m_s/∂u_c = ν_sc m_s, so the
-mass rows are J_ck = Σ_s ν_sc ν_sk m_s / total_c — one matrix product with a precomputed
-(n_species × n²) weight matrix for all rows. The activity coefficients of the chosen model
-are recomputed from the speciated composition after every step, until both the residuals
-and the change of ln γ are below tolerance (the fixed point of γ and speciation). The
-steps of all rows are solved in one batched ``numpy.linalg.solve``; each step is limited
-to a change of ``MAX_STEP`` in ln m and backtracked (halved up to ``BACKTRACKS`` times)
-where it does not decrease the residual norm. Converged rows drop out of the working set.
-Rows that do not converge within ``max_iter`` are reported by number; the solver never
-returns an unconverged row as if it were a result.
+mass rows are J_ck = Σ_s ν_sc ν_sk m_s / total_c — one (sparse) matrix product with a
+precomputed (n_species × n²) weight matrix for all rows. The activity coefficients of the
+chosen model are recomputed from the speciated composition (``GAMMA_SWEEPS`` times per
+step), and their dependence on ionic strength enters the Jacobian as a rank-one term
+(∂ln γ/∂I from a relative change ``EPS_I`` of all molalities, exact for models whose γ
+depends on I alone); iteration stops when both the residuals and the change of ln γ are
+below tolerance (the fixed point of γ and speciation). The steps of all rows are solved in
+one batched ``numpy.linalg.solve``; each step is limited to a change of ``MAX_STEP`` in
+ln m and, while a row's residual is above ``NEAR``, backtracked (halved up to
+``BACKTRACKS`` times) where it does not decrease the residual norm. Converged rows drop
+out of the working set; rows are processed in blocks of ``CHUNK`` (bounded memory). Rows
+that do not converge within ``max_iter`` are reported by number; the solver never returns
+an unconverged row as if it were a result.
 """
 
 from __future__ import annotations

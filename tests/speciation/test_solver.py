@@ -148,14 +148,12 @@ def _free_fraction_caso4(m, lgK, model):
     I = 4 (m − x); iterate x (the paired molality) to self-consistency."""
     x = 0.0
     for _ in range(200):
-        I = 4 * (m - x)
         sol = act.Solution({"Ca^2+": m - x, "SO4^2-": m - x})
         g = get_model(model).activity_coefficients(sol)["Ca^2+"]
         Kc = 10**lgK * g * g  # x / (m − x)² = K° γ²
         # solve Kc (m − x)² − x = 0 for the root below m
         a, b, c = Kc, -(2 * Kc * m + 1), Kc * m * m
         x = (-b - np.sqrt(b * b - 4 * a * c)) / (2 * a)
-        assert I >= 0
     return (m - x) / m
 
 
