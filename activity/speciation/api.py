@@ -16,6 +16,7 @@ one phthalate and one H⁺). Then one closure per component fixes the system:
 
 from __future__ import annotations
 
+import warnings
 from collections.abc import Iterable, Mapping
 from typing import Any
 
@@ -24,7 +25,7 @@ import numpy as np
 from .. import _checks
 from ..coefficients import resolve_model
 from ..constants import LN10, ZERO_CELSIUS
-from ..errors import ConvergenceError, InputError, call_with_notes
+from ..errors import ConvergenceError, InputError, ValidityWarning, call_with_notes
 from ..solution import Solution
 from ..species import parse_species
 from .network import Network, default_network
@@ -48,6 +49,11 @@ def _as_solution(solution: Any) -> Solution:
         field="solution",
         value=type(solution).__name__,
     )
+
+
+def _in_range(model_ok: Any, k_ok: np.ndarray, shape: tuple) -> Any:
+    ok = np.broadcast_to(model_ok, shape).reshape(-1) & k_ok
+    return bool(ok[0]) if shape == () else ok.reshape(shape)
 
 
 def _broadcast(sol: Solution, closures: list) -> Solution:
@@ -327,14 +333,18 @@ def speciate(
             lnk[:, n:] = LN10 * net.lg_beta(T_flat, prods)[:, None].T
         else:
             lnk[:, n:] = LN10 * net.lg_beta(T_flat, prods).T
-    for r, j in enumerate(prods):
+    k_ok = np.ones(N, dtype=bool)  # rows where every constant used holds at the row's T
+    for j in prods:
         lo, hi = net.T_range(j)
-        Tv = np.asarray(T_flat)
-        if np.any((Tv < lo - 1e-9) | (Tv > hi + 1e-9)):
-            notes.append(
+        outside = np.broadcast_to((T_flat < lo - 1e-9) | (T_flat > hi + 1e-9), (N,))
+        if np.any(outside):
+            k_ok &= ~outside
+            msg = (
                 f"lg K of {net.products[j]} holds at {lo - ZERO_CELSIUS:g}–{hi - ZERO_CELSIUS:g} °C; "
-                f"used outside that range"
+                f"used outside that range in {int(np.count_nonzero(outside))} of {N} row(s)"
             )
+            notes.append(msg)
+            warnings.warn(msg, ValidityWarning, stacklevel=2)
     # ---- closures per column
     totals = totals_all[:, comp_idx]
     mass_cols = np.ones(n, dtype=bool)
@@ -473,7 +483,7 @@ def speciate(
         totals=totals_out,
         closure="; ".join(closure),
         model=mdl.name,
-        in_range=coeffs.in_range,
+        in_range=_in_range(coeffs.in_range, k_ok, shape),
         notes=tuple(dict.fromkeys(notes)),
         skipped=skipped,
         T=sol.T,

@@ -93,3 +93,14 @@ def test_result_solution_feeds_other_calculations():
     with pytest.raises(InputError) as exc:
         res.molality("Sr^2+")
     assert exc.value.field == "species"
+
+
+def test_constants_used_outside_their_range_warn_and_flag_rows():
+    # the EDTA medium constants hold at 15–35 °C (models/equilibria.toml)
+    sol = act.Solution(
+        {"Ca^2+": [0.001, 0.001], "C10H14N2O8^2-": [0.001, 0.001]}, T=[298.15, 353.15], neutrality="ignore"
+    )
+    with pytest.warns(act.ValidityWarning, match="used outside that range in 1 of 2 row"):
+        res = speciate(sol)
+    assert res.in_range.tolist() == [True, False]
+    assert any("C10H13N2O8^3-" in n for n in res.notes)
