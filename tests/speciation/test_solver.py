@@ -252,3 +252,13 @@ def test_impossible_balance_is_a_convergence_error_naming_rows():
     with pytest.raises(act.ConvergenceError) as exc:
         speciate(act.Solution({"Na+": [0.01, 0.01], "H2PO4-": [0.01, 0.01]}), ph=[7.0, 3.0], balance="Cl-")
     assert list(exc.value.rows) == [0]
+
+
+@pytest.mark.parametrize("model", ["davies", "pitzer"])
+def test_gamma_is_self_consistent_with_the_speciated_solution(model):
+    """The model applied to the speciated (free-species) solution returns the γ the solver
+    converged to: what an electrode calculation on ``res.solution`` will see."""
+    res = speciate({"Ca^2+": 0.01, "Mg^2+": 0.005, "SO4^2-": 0.015, "Na+": 0.05, "Cl-": 0.05}, model)
+    again = get_model(model).activity_coefficients(res.solution)
+    for name in res.species:
+        assert again[name] == pytest.approx(res.gamma(name), rel=1e-9), name
