@@ -156,7 +156,7 @@ def _residual(
 
 
 def start(
-    system: System, lnk: np.ndarray, totals: np.ndarray, cols: np.ndarray, u0: np.ndarray, sweeps: int = 16
+    system: System, lnk: np.ndarray, totals: np.ndarray, cols: np.ndarray, u0: np.ndarray, sweeps: int = 6
 ) -> np.ndarray:
     """A starting point: rescale each free component so its computed total matches the given one.
 
