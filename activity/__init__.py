@@ -92,6 +92,12 @@ _EXPORTS: dict[str, str] = {
     "ValidationResult": "uncertainty",
     "BudgetRow": "uncertainty",
     "ModelSpread": "workflows.model_choice",
+    # speciation: free ions and pH from total compositions; metal-ion buffers
+    "speciate": "speciation",
+    "SpeciationResult": "speciation",
+    "free_activity": "speciation",
+    "metal_buffer": "speciation",
+    "free_metal": "speciation",
     # ion-selective electrode calibration: fit, selectivity, known addition, drift
     "calibrate_ise": "workflows.ise.calibration",
     "ISECalibration": "workflows.ise.calibration",

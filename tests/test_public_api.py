@@ -40,6 +40,7 @@ POTENTIAL_NAMES = [
     "henderson_potential",
     "molality_from_emf",
 ]
+SPECIATION_NAMES = ["speciate", "free_activity", "metal_buffer", "free_metal"]
 ISE_NAMES = [
     "calibrate_ise",
     "separate_solution",
@@ -60,7 +61,7 @@ def test_core_names_exist(name):
     assert name in dir(act)
 
 
-@pytest.mark.parametrize("name", POTENTIAL_NAMES + UNCERTAINTY_NAMES + PH_NAMES + ISE_NAMES)
+@pytest.mark.parametrize("name", POTENTIAL_NAMES + UNCERTAINTY_NAMES + PH_NAMES + ISE_NAMES + SPECIATION_NAMES)
 def test_electrode_and_uncertainty_names_exist(name):
     assert name in act.__all__
     assert callable(getattr(act, name))
@@ -86,6 +87,12 @@ def test_design_potential_examples_run():
 
 def test_builtin_models_are_registered():
     assert set(BUILTIN_MODELS) <= set(act.available_models())
+
+
+def test_speciate_signature():
+    params = inspect.signature(act.speciate).parameters
+    assert list(params)[:2] == ["solution", "model"] and params["model"].default == "davies"
+    assert {"ph", "balance", "gases"} <= set(params) and str(params["balance"].default).startswith("H+")
 
 
 def test_signatures():

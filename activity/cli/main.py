@@ -9,13 +9,13 @@ from collections.abc import Callable, Sequence
 
 from .. import __version__
 from ..errors import ActivityError, call_with_notes
-from . import electrode, ise, ph, solution
+from . import electrode, ise, ph, solution, speciate
 from .common import CAUTION, Parser
 
 __all__ = ["main", "build_parser", "CAUTION"]
 
 #: Command groups, in the order they are listed by ``--help``; each has ``register(subparsers)``.
-COMMAND_GROUPS = (solution, ise, ph, electrode)
+COMMAND_GROUPS = (solution, ise, ph, speciate, electrode)
 
 
 def build_parser() -> argparse.ArgumentParser:
