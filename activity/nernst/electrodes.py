@@ -11,6 +11,7 @@ An :class:`IonSelectiveElectrode` follows the Nikolsky–Eisenman equation.
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Mapping
 from typing import Any
 
@@ -216,6 +217,17 @@ def common_practice_potential(kind: str, filling: Any) -> tuple[float, str] | No
     return None
 
 
+def free_solution(sol: Solution, model: Any, speciation: Mapping[str, Any] | None) -> tuple[Solution, tuple[str, ...]]:
+    """``sol`` itself, or — when ``speciation`` is given — its free species after speciation
+    (:func:`activity.speciation.speciate` with those keyword arguments), with a note."""
+    if speciation is None:
+        return sol, ()
+    from ..speciation import speciate
+
+    res = speciate(sol, model, **dict(speciation))
+    return res.solution, (f"free ions from speciation ({res.closure})",) + tuple(res.notes)
+
+
 class IonSelectiveElectrode(Electrode):
     """An ion-selective electrode following the Nikolsky–Eisenman equation.
 
@@ -355,9 +367,25 @@ class IonSelectiveElectrode(Electrode):
         acts = {name: (lambda k=k: _log10_or_nan(sol.m[k] * 10.0 ** lg[k])) for name, k in [(self.ion, i)] + present}
         return ln_total, LazyMapping(acts)
 
-    def evaluate(self, sol: Solution, model: ModelLike = "davies", *, warn: bool = True) -> ElectrodeResult:
-        """Electrode potential in ``sol`` (same scale as E0), with activities used."""
-        res = self.evaluate_in(sol, resolve_model(model).activity_coefficients(sol, warn=False))
+    def evaluate(
+        self,
+        sol: Solution,
+        model: ModelLike = "davies",
+        *,
+        warn: bool = True,
+        speciation: Mapping[str, Any] | None = None,
+    ) -> ElectrodeResult:
+        """Electrode potential in ``sol`` (same scale as E0), with activities used.
+
+        With ``speciation`` (keyword arguments of :func:`activity.speciation.speciate`, ``{}``
+        for its defaults) ``sol`` holds totals: it is speciated first, and the electrode
+        answers to the free ions (pairs and complexes of the primary ion do not count).
+        """
+        model = resolve_model(model)
+        sol, free_notes = free_solution(sol, model, speciation)
+        res = self.evaluate_in(sol, model.activity_coefficients(sol, warn=False))
+        if free_notes:
+            res = dataclasses.replace(res, notes=res.notes + free_notes)
         if warn:
             warn_alerts(res.alerts)
         return res

@@ -15,6 +15,7 @@ Two questions, two functions:
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from typing import Any
@@ -30,6 +31,7 @@ from ..errors import ConvergenceError, InputError, warn_alerts
 from ..solution import Solution
 from ..species import parse_species
 from .cell import Cell
+from .electrodes import free_solution
 from .half_reaction import HalfReaction
 from .protocol import Electrode
 
@@ -249,6 +251,7 @@ def molality_from_potential(
     rtol: float = 1e-10,
     max_iter: int = 60,
     warn: bool = True,
+    speciation: Mapping[str, Any] | None = None,
 ) -> InverseResult:
     """Molality of the determinand in ``matrix`` from a measured electrode potential.
 
@@ -272,6 +275,11 @@ def molality_from_potential(
     max_iter : int, default 60
     warn : bool, default True
         Warn once about the final result's ``alerts`` (validity excursions).
+    speciation : Mapping, optional
+        Keyword arguments of :func:`activity.speciation.speciate` (``{}`` for its defaults):
+        the electrode answers to the free ion of the speciated sample, and the molality found
+        is the determinand's total (free plus paired and complexed); ``activity`` is the free
+        ion's and ``gamma`` the ratio activity/total molality.
 
     Returns
     -------
@@ -291,9 +299,21 @@ def molality_from_potential(
     model = resolve_model(model)
 
     def forward(s: Solution) -> Any:
+        s, _ = free_solution(s, model, speciation)
         return electrode.evaluate_in(s, model.activity_coefficients(s, warn=False), pressures=pressures).potential
 
-    return _solve(forward, E, matrix, name, counter_ion, model, rtol, max_iter, warn)
+    res = _solve(forward, E, matrix, name, counter_ion, model, rtol, max_iter, warn)
+    if speciation is None:
+        return res
+    free, notes = free_solution(res.solution, model, speciation)
+    g = model.activity_coefficients(free, warn=False)
+    a = _checks.scalar_or_array(free.m[free.index(name)] * 10.0 ** g.log10_gamma[free.index(name)])
+    return dataclasses.replace(
+        res,
+        activity=a,
+        gamma=_checks.scalar_or_array(np.asarray(a) / np.asarray(res.molality)),
+        notes=res.notes + notes,
+    )
 
 
 def molality_from_emf(

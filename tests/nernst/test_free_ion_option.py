@@ -1,0 +1,45 @@
+"""An electrode answers to the free ion: the ``speciation=`` option of the ISE potential and of
+the inverse (sulfate pairs Ca²⁺ as CaSO4⁰, constant from models/equilibria.toml)."""
+
+import warnings
+
+import numpy as np
+import pytest
+
+import activity as act
+from activity.nernst.inverse import molality_from_potential
+
+S25 = act.nernst_slope(298.15)  # RT ln10/F at 25 °C, CODATA constants
+
+
+@pytest.fixture(autouse=True)
+def _quiet():
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", act.ActivityWarning)
+        yield
+
+
+def test_potential_follows_the_free_calcium_activity():
+    ise = act.IonSelectiveElectrode("Ca^2+", E0=0.1)
+    sample = act.Solution({"Ca^2+": [0.002, 0.002], "Na+": [0.0, 0.02], "SO4^2-": [0.0, 0.01], "Cl-": 0.004})
+    res = ise.evaluate(sample, "davies", speciation={})
+    free = act.speciate(sample, "davies").activity("Ca^2+")
+    assert res.potential == pytest.approx(0.1 + S25 / 2 * np.log10(free), abs=1e-9)
+    # with sulfate, pairing lowers the free activity: the potential falls by several mV
+    total_based = ise.potential(sample, "davies")
+    assert total_based[1] - res.potential[1] > 3e-3
+    assert abs(total_based[0] - res.potential[0]) < 2e-5  # no ligand: the same within 0.02 mV
+    assert any("free ions from speciation" in n for n in res.notes)
+
+
+def test_inverse_with_speciation_recovers_the_total_from_the_free_ion_reading():
+    ise = act.IonSelectiveElectrode("Ca^2+", E0=0.1)
+    totals = np.array([5e-4, 2e-3, 8e-3])
+    sample = act.Solution({"Ca^2+": totals, "Na+": 0.02, "SO4^2-": 0.01, "Cl-": 2 * totals})
+    E = ise.evaluate(sample, "davies", speciation={}).potential
+    matrix = act.Solution({"Na+": np.full(3, 0.02), "SO4^2-": 0.01})
+    res = molality_from_potential(ise, E, matrix, "davies", counter_ion="Cl-", speciation={})
+    assert res.molality == pytest.approx(totals, rel=1e-8)
+    assert np.all(res.activity < res.molality * 0.6)  # γ·(free fraction) well below 1 here
+    plain = molality_from_potential(ise, E, matrix, "davies", counter_ion="Cl-")
+    assert np.all(plain.molality < totals)  # read without speciation, the pairs are missed
