@@ -10,9 +10,9 @@ import numpy as np
 import pytest
 
 from activity.coefficients._dh_form import DebyeHuckelForm, IonTerms
-from activity.species import parse_species
 from activity.speciation import speciate
 from activity.speciation.network import default_network
+from activity.species import parse_species
 from activity.workflows.ph.buffers import buffer_ph, get_buffer
 
 
