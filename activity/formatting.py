@@ -10,10 +10,11 @@ import csv
 import io
 import json
 import math
+import re
 from collections.abc import Iterable, Sequence
 from typing import Any
 
-__all__ = ["fmt", "table", "to_json", "to_csv"]
+__all__ = ["fmt", "table", "to_json", "to_csv", "ascii_fallback", "encodable"]
 
 
 def fmt(value: Any, digits: int = 5) -> str:
@@ -95,3 +96,44 @@ def to_csv(headers: Sequence[str], rows: Iterable[Sequence[Any]]) -> str:
             [repr(float(c)) if isinstance(c, float) or hasattr(c, "dtype") else ("" if c is None else c) for c in row]
         )
     return buf.getvalue()
+
+
+_ASCII = {
+    "γ": "gamma", "φ": "phi", "±": "+/-", "°C": "degC", "℃": "degC", "°": "deg", "≤": "<=", "≥": ">=",
+    "≈": "~", "≲": "<~", "—": "--", "–": "-", "−": "-", "×": "x", "·": ".", "µ": "u", "μ": "u", "‖": "||",
+    "…": "...", "Δ": "Delta", "σ": "sigma", "√": "sqrt", "→": "->", "’": "'", "‘": "'", "“": '"', "”": '"',
+    "Å": "A", "ü": "ue", "ö": "oe", "ä": "ae", "é": "e",
+}  # fmt: skip
+_SUPERSCRIPT = re.compile(r"([⁰¹²³⁴⁵⁶⁷⁸⁹]*)([⁺⁻])")
+_DIGITS = str.maketrans("⁰¹²³⁴⁵⁶⁷⁸⁹₀₁₂₃₄₅₆₇₈₉", "01234567890123456789")
+
+
+def ascii_fallback(text: str) -> str:
+    """Plain-ASCII spelling of report text: ``'γ(Ca²⁺) at 25 °C'`` → ``'gamma(Ca^2+) at 25 degC'``.
+
+    Examples
+    --------
+    >>> ascii_fallback("γ(Ca²⁺) ≤ 0.5 at 25 °C; H₂PO₄⁻")
+    'gamma(Ca^2+) <= 0.5 at 25 degC; H2PO4-'
+    """
+    text = _SUPERSCRIPT.sub(
+        lambda m: ("^" + m.group(1).translate(_DIGITS) if m.group(1) else "") + ("+" if m.group(2) == "⁺" else "-"),
+        text,
+    )
+    for k, v in _ASCII.items():
+        text = text.replace(k, v)
+    return text.translate(_DIGITS)
+
+
+def encodable(text: str, encoding: str | None) -> str:
+    """``text`` if ``encoding`` can encode it, else its ASCII fallback with any rest replaced by '?'."""
+    enc = encoding or "ascii"
+    try:
+        text.encode(enc)
+        return text
+    except (UnicodeEncodeError, LookupError):
+        plain = ascii_fallback(text)
+        try:
+            return plain.encode(enc, errors="replace").decode(enc)
+        except LookupError:
+            return plain.encode("ascii", errors="replace").decode("ascii")

@@ -29,7 +29,7 @@ from ..constants import P_ATM, T_REF
 from ..data import load_file
 from ..errors import InputError
 from ..solution import Solution
-from ..species import parse_species
+from ..species import check_solute
 from .units import parse_amount, parse_density, parse_pressure, parse_temperature
 
 __all__ = ["RECIPE_KEYS", "load_recipe", "parse_pairs", "solution_from_recipe"]
@@ -55,9 +55,17 @@ def parse_pairs(pairs: Iterable[str], field: str = "composition") -> dict[str, s
     """
     out: dict[str, str] = {}
     for pair in pairs:
+        if not isinstance(pair, str):
+            raise InputError("expected text SPECIES=AMOUNT UNIT", field=field, value=pair)
         name, sep, amount = pair.partition("=")
         if not sep or not name.strip() or not amount.strip():
             raise InputError("expected SPECIES=AMOUNT UNIT, e.g. 'Na+=0.1 mol/kg'", field=field, value=pair)
+        if name.strip() in out:
+            raise InputError(
+                f"given twice ({out[name.strip()]!r} and {amount.strip()!r}); give each once",
+                field=field,
+                value=name.strip(),
+            )
         out[name.strip()] = amount.strip()
     return out
 
@@ -83,9 +91,17 @@ def solution_from_recipe(recipe: Mapping[str, Any], **kw: Any) -> Solution:
     T = parse_temperature(recipe["temperature"]) if "temperature" in recipe else T_REF
     P = parse_pressure(recipe["pressure"]) if "pressure" in recipe else P_ATM
     amounts = {}
+    given: dict[str, str] = {}
     bases = set()
     for name, text in comp.items():
-        sp = parse_species(name)
+        sp = check_solute(name)
+        if sp.name in given:
+            raise InputError(
+                f"species given twice (as {given[sp.name]!r} and {name!r}); give each once",
+                field="composition",
+                value=name,
+            )
+        given[sp.name] = name
         amt = parse_amount(text, field=f"composition[{name!r}]")
         bases.add(amt.basis)
         amounts[sp.name] = amt.moles(sp.molar_mass)
