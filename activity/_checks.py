@@ -16,6 +16,8 @@ T_MIN, T_MAX = ZERO_CELSIUS, ZERO_CELSIUS + 150.0
 
 def finite_array(value: Any, field: str, *, nonnegative: bool = False, positive: bool = False) -> np.ndarray:
     """Convert to a float ndarray, refusing NaN, infinities and (optionally) negatives."""
+    if value is None:
+        raise InputError("not a number", field=field, value=value)
     try:
         arr = np.asarray(value, dtype=float)
     except (TypeError, ValueError):

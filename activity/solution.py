@@ -17,7 +17,7 @@ from numpy.typing import ArrayLike
 from . import _checks, data
 from .constants import P_ATM, T_REF
 from .errors import ElectroneutralityWarning, InputError
-from .species import check_solute, parse_species
+from .species import check_solute, parse_species, solute_key
 
 __all__ = ["Solution"]
 
@@ -51,9 +51,10 @@ def _items(composition: Any) -> list[tuple[str, Any]]:
     return items
 
 
-#: Plausible densities of aqueous solutions, kg/L: dilute solutions near 1, the densest
-#: brines of heavy salts (e.g. ZnBr2, caesium formate) about 2.3–2.6 (common practice).
-DENSITY_RANGE = (0.5, 3.0)
+#: Plausible densities of aqueous solutions, kg/L: water itself is 0.917 at 150 °C, dilute
+#: solutions are near 1, concentrated ammonia about 0.89, the densest brines of heavy salts
+#: (e.g. ZnBr2, caesium formate) about 2.3–2.6 (common practice).
+DENSITY_RANGE = (0.85, 3.0)
 
 
 class Solution:
@@ -323,10 +324,11 @@ class Solution:
 
         ``composition`` entries override or add species; other species are kept.
         """
-        comp: dict[str, Any] = {n: self._m[i] for i, n in enumerate(self._species)}
+        comp: dict[str, Any] = {solute_key(n): self._m[i] for i, n in enumerate(self._species)}
         if composition:
             for raw, value in composition.items():
-                comp[parse_species(raw).name] = value
+                check_solute(raw)
+                comp[solute_key(raw)] = value
         kw.setdefault("neutrality", "ignore")
         return Solution(comp, T=self._T if T is None else T, P=self._P if P is None else P, **kw)
 
@@ -431,4 +433,4 @@ class Solution:
                 raise InputError("concentrations too high for the density model", field="composition", value=None)
             rho_w = np.asarray(water_density(T_arr)) / 1000.0  # kg/L
             factor = 1.0 / (rho_w * (1.0 - vsum))  # L of solution per kg of water
-        return cls({n: ci * factor for n, ci in zip(names, c)}, T=T, P=P, **kw)
+        return cls({solute_key(n): ci * factor for n, ci in zip(names, c)}, T=T, P=P, **kw)

@@ -17,7 +17,7 @@ from types import MappingProxyType
 from . import data
 from .errors import InputError
 
-__all__ = ["Species", "parse_species", "canonical_name", "charge_of", "molar_mass", "check_solute"]
+__all__ = ["Species", "parse_species", "canonical_name", "charge_of", "molar_mass", "check_solute", "solute_key"]
 
 _PHASES = {"s": "s", "cr": "s", "l": "l", "g": "g", "aq": "aq"}
 _PHASE_RE = re.compile(r"\((s|cr|l|g|aq)\)$")
@@ -248,6 +248,10 @@ def _parse_species(name: str) -> Species:
         raise InputError("empty species name", field="species", value=name)
     if text in ("e-", "e^-", "e"):
         return Species("e-", "e", -1, "e", MappingProxyType({}), _ELECTRON_MOLAR_MASS)
+    if text[0].isdigit():
+        raise InputError(
+            "a species name starts with its formula; a leading number is a coefficient", field="species", value=name
+        )
     phase = "aq"
     m = _PHASE_RE.search(text)
     if m:
@@ -325,6 +329,16 @@ def _salt_ions(formula: str) -> list[tuple[str, int]] | None:
     if metal in _NONMETALS or z_m is None or z_a is None or z_m * n_metal + z_a * n_anion != 0:
         return None
     return [(metal + _charge_text(z_m, metal), n_metal), (anion + _charge_text(z_a, anion), n_anion)]
+
+
+def solute_key(name: str) -> str:
+    """The name under which a checked solute is passed on: canonical, with ``'(aq)'`` kept for a
+    neutral species, so that passing it on does not read it as a slip again (``'CaSO4(aq)'``)."""
+    sp = parse_species(name)
+    try:
+        return check_solute(sp.name, sp).name
+    except InputError:  # a neutral formula that reads like a slip, given on purpose with '(aq)'
+        return sp.name + "(aq)"
 
 
 def check_solute(raw: str, sp: Species | None = None) -> Species:

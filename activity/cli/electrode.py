@@ -15,6 +15,9 @@ from .common import add_output, add_solution_arguments, emit, show_cautions, sol
 __all__ = ["register", "electrode_from_spec"]
 
 _REFERENCE_KINDS = ("silver-chloride", "calomel")
+#: Upper bound of a KCl filling: saturation at 100 °C, about 7.6 mol/kg (CRC Handbook, aqueous
+#: solubility of KCl, 56.3 g per 100 g water; from memory) and, as a generous bound, as many mol/L.
+_KCL_MAX = {"kg": 7.6, "L": 7.6}
 
 
 def electrode_from_spec(text: str) -> Any:
@@ -46,6 +49,13 @@ def electrode_from_spec(text: str) -> Any:
         amount = parse_amount(filling, field="filling")
         if amount.mass:
             raise InputError("give the KCl filling in mol/L or mol/kg", field="filling", value=filling)
+        if amount.value > _KCL_MAX[amount.basis]:
+            raise InputError(
+                f"more KCl than dissolves at any temperature covered (saturation about "
+                f"{_KCL_MAX[amount.basis]:g} mol/{amount.basis} at 100 °C); use 'saturated'",
+                field="filling",
+                value=filling,
+            )
         return make(amount.value, basis="mol/kg" if amount.basis == "kg" else "mol/L")
     if filling:
         raise InputError(f"a filling applies only to {', '.join(_REFERENCE_KINDS)}", field="electrode", value=text)
@@ -372,6 +382,21 @@ def _same(a: str, b: str) -> bool:
         return False
 
 
+def _selectivity(ion: str, text: str) -> float:
+    """A selectivity coefficient: a finite, non-negative number (dimensionless)."""
+    import math
+
+    from ..errors import InputError
+
+    try:
+        value = float(text)
+    except ValueError:
+        raise InputError("expected a number (K is dimensionless)", field=f"selectivity {ion}", value=text) from None
+    if not math.isfinite(value) or value < 0:
+        raise InputError("must be a finite non-negative number", field=f"selectivity {ion}", value=text)
+    return value
+
+
 def _amount_uncertainties(args: argparse.Namespace, sample: Any) -> tuple[dict[str, float] | None, dict[str, float]]:
     """Relative and absolute (mol/kg) standard uncertainties by species, from --u-amount and --u.
 
@@ -503,7 +528,7 @@ def cmd_invert(args: argparse.Namespace) -> int:
     if args.ise is not None:
         if args.e0 is None:
             raise InputError("an ion-selective electrode needs --e0, e.g. '52.1 mV'", field="e0", value=None)
-        sel = {k: float(v) for k, v in parse_pairs(args.selectivity or [], field="selectivity").items()}
+        sel = {k: _selectivity(k, v) for k, v in parse_pairs(args.selectivity or [], field="selectivity").items()}
         electrode = IonSelectiveElectrode(args.ise, parse_potential(args.e0, field="e0"), selectivity=sel)
     else:
         electrode = electrode_from_spec(args.couple)
@@ -574,7 +599,9 @@ def cmd_invert(args: argparse.Namespace) -> int:
         from ..workflows.measurement import molality_with_uncertainty
 
         measured = cell if args.against else electrode
-        chain = _propagate(args, molality_with_uncertainty, measured, reading, matrix, args.model, species=species, **kw, **opts)
+        chain = _propagate(
+            args, molality_with_uncertainty, measured, reading, matrix, args.model, species=species, **kw, **opts
+        )
     rows = [
         ["species", res.species, ""],
         ["molality", _one(res.molality), "mol/kg"],

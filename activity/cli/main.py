@@ -51,7 +51,7 @@ class _FallbackStream:
     def write(self, text: str) -> int:
         from ..formatting import encodable
 
-        return self._stream.write(encodable(text, getattr(self._stream, "encoding", None)))
+        return self._stream.write(encodable(text, getattr(self._stream, "encoding", None) or "utf-8"))
 
     def __getattr__(self, name: str) -> Any:
         return getattr(self._stream, name)
@@ -59,7 +59,7 @@ class _FallbackStream:
 
 def _needs_fallback(stream: Any) -> bool:
     try:
-        "γ°≤²⁺—".encode(getattr(stream, "encoding", None) or "ascii")
+        "γ°≤²⁺—".encode(getattr(stream, "encoding", None) or "utf-8")  # no encoding: a str buffer
         return False
     except (UnicodeEncodeError, LookupError):
         return True

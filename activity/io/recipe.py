@@ -29,7 +29,7 @@ from ..constants import P_ATM, T_REF
 from ..data import load_file
 from ..errors import InputError
 from ..solution import Solution
-from ..species import check_solute
+from ..species import check_solute, solute_key
 from .units import parse_amount, parse_density, parse_pressure, parse_temperature
 
 __all__ = ["RECIPE_KEYS", "load_recipe", "parse_pairs", "solution_from_recipe"]
@@ -38,8 +38,16 @@ RECIPE_KEYS = ("label", "temperature", "pressure", "density", "balance_with", "c
 
 
 def load_recipe(path: str | Path) -> Mapping[str, Any]:
-    """Read a recipe TOML file (InputError names the file when it is malformed)."""
-    recipe = load_file(path)
+    """Read a recipe TOML file (InputError names the file when it is missing or malformed)."""
+    p = Path(path)
+    if p.is_dir():
+        raise InputError("a directory, not a recipe file", field="recipe", value=str(path))
+    try:
+        recipe = load_file(path)
+    except InputError as exc:
+        raise InputError(str(exc).split(": ", 1)[-1], field="recipe", value=str(path)) from None
+    except (UnicodeDecodeError, OSError) as exc:
+        raise InputError(f"cannot read it ({exc.__class__.__name__})", field="recipe", value=str(path)) from None
     if "composition" not in recipe:
         raise InputError("missing the [composition] table", field="recipe", value=str(path))
     return recipe
@@ -104,7 +112,7 @@ def solution_from_recipe(recipe: Mapping[str, Any], **kw: Any) -> Solution:
         given[sp.name] = name
         amt = parse_amount(text, field=f"composition[{name!r}]")
         bases.add(amt.basis)
-        amounts[sp.name] = amt.moles(sp.molar_mass)
+        amounts[solute_key(sp.name)] = amt.moles(sp.molar_mass)
     if len(bases) > 1:
         raise InputError(
             "amounts mix per-kg and per-litre units; use one basis for the whole recipe",

@@ -164,6 +164,7 @@ def solution_from_table(
     from ..errors import ActivityWarning
     from ..solution import Solution
     from ..species import check_solute as parse_species
+    from ..species import solute_key
     from .units import parse_amount, parse_density, parse_pressure, parse_temperature
 
     for key, given in (("temperature", temperature), ("pressure", pressure)):
@@ -176,7 +177,7 @@ def solution_from_table(
     amounts, bases = {}, set()
     for name, (unit, arr) in table.species.items():
         sp = parse_species(name)
-        if sp.name in amounts:
+        if solute_key(sp.name) in amounts:
             raise InputError(f"a second column for {sp.name}", field=f"column '{name} [{unit}]'", value=name)
         amt = parse_amount(f"1 {unit}", field=f"column '{name} [{unit}]'")
         if np.any(arr < 0):
@@ -185,7 +186,7 @@ def solution_from_table(
                 "must not be negative", field=f"{table.labels[row]}, column '{name}'", value=float(arr[row])
             )
         bases.add(amt.basis)
-        amounts[sp.name] = arr * amt.moles(sp.molar_mass)
+        amounts[solute_key(sp.name)] = arr * amt.moles(sp.molar_mass)
     if len(bases) > 1:
         raise InputError("species columns mix per-kg and per-litre units", field="table", value=table.path)
     T, P = T_REF, P_ATM

@@ -155,8 +155,10 @@ def parse_pressure(text: Any, field: str = "pressure") -> float:
     P = _scaled(text, field, _PRESSURE, "pressure", positive=True)
     try:
         notes = pressure_notes(P, field)
-    except InputError as exc:
-        raise InputError(str(exc).split(": ", 1)[1], field=field, value=text) from None
+    except InputError:
+        raise InputError(
+            "above 5000 bar, beyond the range of the water correlations", field=field, value=text
+        ) from None
     for note in notes:
         warnings.warn(f"{field} = {text!r}: {note}", ActivityWarning, stacklevel=2)
     return P
@@ -168,10 +170,15 @@ def parse_potential(text: Any, field: str = "potential") -> float:
 
 
 def parse_density(text: Any, field: str = "density") -> float:
-    """Parse ``'1.037 g/cm3'`` or ``'1037 kg/m3'`` into kg/L (0.5–3 kg/L; else an InputError)."""
+    """Parse ``'1.037 g/cm3'`` or ``'1037 kg/m3'`` into kg/L (0.85–3 kg/L; else an InputError)."""
     rho = _scaled(text, field, _DENSITY, "density", positive=True)
-    if not 0.5 <= rho <= 3.0:
+    from ..solution import DENSITY_RANGE
+
+    lo, hi = DENSITY_RANGE
+    if not lo <= rho <= hi:
         raise InputError(
-            f"{rho:g} kg/L is not a plausible density of an aqueous solution (0.5–3 g/cm³)", field=field, value=text
+            f"{rho:g} kg/L is not a plausible density of an aqueous solution ({lo:g}–{hi:g} g/cm³)",
+            field=field,
+            value=text,
         )
     return rho

@@ -254,9 +254,21 @@ def test_output_to_a_fifo_streams(tmp_path):
     assert got == ["through the pipe\n"] and stat.S_ISFIFO(os.stat(fifo).st_mode)
 
 
-def test_output_to_dev_null_is_not_replaced():
-    write_text(os.devnull, "nothing")
-    assert stat.S_ISCHR(os.stat(os.devnull).st_mode)
+def _null_device(tmp_path):
+    """A private null device node (a copy of /dev/null's numbers), so that a regression can only
+    replace this node, never the machine's /dev/null. Needs root; skipped otherwise."""
+    node = tmp_path / "null"
+    try:
+        os.mknod(node, stat.S_IFCHR | 0o666, os.makedev(1, 3))
+    except PermissionError:
+        pytest.skip("creating a device node needs root")
+    return node
+
+
+def test_output_to_a_device_is_not_replaced(tmp_path):
+    node = _null_device(tmp_path)
+    write_text(node, "nothing")
+    assert stat.S_ISCHR(os.stat(node).st_mode)
 
 
 def test_output_to_a_directory_is_refused(tmp_path, capsys):
