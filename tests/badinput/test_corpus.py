@@ -20,13 +20,7 @@ import warnings
 import numpy as np
 import pytest
 
-from activity import (
-    Cell,
-    IonSelectiveElectrode,
-    Solution,
-    get_model,
-    standard_couple,
-)
+from activity import Cell, IonSelectiveElectrode, Solution, get_model, standard_couple
 from activity.cli.main import main
 from activity.errors import ActivityError, ActivityWarning
 from activity.io.files import write_text
@@ -65,8 +59,29 @@ def test_cli_error(capsys, scratch, group, argv, line):
 
 
 def _namespace(d):
+    """The names the corpus expressions use."""
+    import activity
+    from activity.cli.electrode import electrode_from_spec
+    from activity.formatting import ascii_fallback
+    from activity.io import recipe, tables, units
+    from activity.nernst.inverse import molality_from_potential
+    from activity.species import check_solute
+
+    names = ["balance_half_reaction", "parse_reaction", "parse_species", "silver_chloride_electrode"]
+    names += ["Cell", "IonSelectiveElectrode", "Solution", "get_model", "standard_couple"]
     return {
-        **{k: v for k, v in globals().items() if not k.startswith("_")},
+        **{n: getattr(activity, n) for n in names},
+        **{n: getattr(units, n) for n in units.__all__},
+        "parse_pairs": recipe.parse_pairs,
+        "solution_from_recipe": recipe.solution_from_recipe,
+        "read_table": tables.read_table,
+        "solution_from_table": tables.solution_from_table,
+        "electrode_from_spec": electrode_from_spec,
+        "ascii_fallback": ascii_fallback,
+        "molality_from_potential": molality_from_potential,
+        "check_solute": check_solute,
+        "write_text": write_text,
+        "np": np,
         "HARNED": Cell(left=standard_couple("H+/H2"), right=standard_couple("AgCl/Ag")),
         "HCL": Solution({"H+": 0.01, "Cl-": 0.01}),
         "KNO3": Solution({"K+": 0.1, "NO3-": 0.1}),
