@@ -104,7 +104,18 @@ def show_cautions(sol):
 
 
 def emit(args: argparse.Namespace, text: str) -> None:
-    """Print, or write to ``--output`` (``-`` is standard output; files are written whole)."""
+    """Print, or write to ``--output`` (``-`` is standard output; files are written whole).
+
+    Text for people (no --json or --csv) is kept within 100 columns: tables wrap their own
+    text columns; a longer line of prose (a note, a title) is wrapped here.
+    """
+    if output_format(args) == "table":
+        import textwrap
+
+        text = "\n".join(
+            textwrap.fill(line, 100, subsequent_indent="    ", break_long_words=False) if len(line) > 100 else line
+            for line in text.splitlines()
+        )
     if getattr(args, "output", None) not in (None, "-"):
         from ..io.files import write_text
 

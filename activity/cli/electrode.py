@@ -92,8 +92,18 @@ def _render(
     if args.csv:
         if chain is not None:
             budget = chain.propagation.budget_table()
+            result = dict.fromkeys(budget[0])  # the result itself, last, in the budget's columns
+            result.update(
+                name=f"result: {chain.quantity} [{chain.unit}]",
+                distribution="-",
+                value=chain.value,
+                standard_uncertainty=chain.standard_uncertainty,
+                dof=chain.propagation.dof,
+            )
+            budget = budget + [result]
             return to_csv(list(budget[0]), [list(r.values()) for r in budget]).rstrip("\n")
         return to_csv(["quantity", "value", "unit"], rows).rstrip("\n")
+    rows = [_in_millivolts(r) for r in rows]
     text = table(["quantity", "value", "unit"], rows, digits=6, title=title)
     if chain is not None:
         text += (
@@ -101,6 +111,14 @@ def _render(
             f"{chain.format_budget()}"
         )
     return text + "".join(f"\nnote: {n}" for n in dict.fromkeys(notes))
+
+
+def _in_millivolts(row: list[Any]) -> list[Any]:
+    """A potential row in mV for people (V stays in JSON and CSV, where the unit is in the key)."""
+    name, value, unit = row
+    if isinstance(unit, str) and (unit == "V" or unit.startswith("V ")) and isinstance(value, (int, float)):
+        return [name, float(value) * 1000.0, "m" + unit]
+    return row
 
 
 def _render_table(args: argparse.Namespace, labels: tuple, reading: Any, res: Any, T: Any = 298.15) -> str:

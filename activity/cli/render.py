@@ -252,7 +252,7 @@ def models_report(form: str = "table") -> str:
         if "narrowest_T_min_K" in r:
             t_range = (
                 f"{r['narrowest_T_min_K'] - 273.15:g}–{r['narrowest_T_max_K'] - 273.15:g} "
-                f"({r['entries_with_narrowest_range']} entries; others to {t_range})"
+                f"({r['entries_with_narrowest_range']}; rest {t_range})"
             )
         trows.append([r["model"], imax, t_range, f"{r['species']} ({r['basis']})"])
     return table(["model", "I max / (mol/kg)", "T / °C", "species covered (basis)"], trows)
