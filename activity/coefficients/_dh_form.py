@@ -112,7 +112,10 @@ class DebyeHuckelForm(ActivityModel):
         return notes, ()
 
     def check_range(self, sol, I):
+        from .._checks import pressure_notes
+
         ok, notes = super().check_range(sol, I)
+        notes = notes + tuple(f"{self.name}: {n}" for n in pressure_notes(sol.P_compact))  # A, B from 1-atm density
         z = sol.charges
         m = sol.m.reshape(len(z), -1)
         n_rows = m.shape[1]

@@ -196,6 +196,10 @@ API_NOTES = [  # (callable, text expected among the warnings or the result's not
         "do not satisfy Gibbs–Duhem",
     ),
     (lambda: Solution({"Na+": 0.1, "Cl-": 0.2}), "composition is not electrically neutral"),
+    (
+        lambda: get_model("davies").activity_coefficients(Solution({"Na+": 0.1, "Cl-": 0.1}, P=5e8), warn=False),
+        "davies: pressure up to 5000 bar: the water density model ignores pressure",
+    ),
 ]
 
 
