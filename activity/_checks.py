@@ -16,6 +16,8 @@ T_MIN, T_MAX = ZERO_CELSIUS, ZERO_CELSIUS + 150.0
 
 def finite_array(value: Any, field: str, *, nonnegative: bool = False, positive: bool = False) -> np.ndarray:
     """Convert to a float ndarray, refusing NaN, infinities and (optionally) negatives."""
+    if value is None:
+        raise InputError("not a number", field=field, value=value)
     try:
         arr = np.asarray(value, dtype=float)
     except (TypeError, ValueError):
@@ -41,7 +43,7 @@ def temperature(T: ArrayLike, field: str = "T", t_min: float = T_MIN, t_max: flo
     lo = float(arr.min()) if arr.size else t_min
     hi = float(arr.max()) if arr.size else t_max
     if lo < t_min:
-        if lo >= -50.0 and lo < t_min:
+        if t_min <= lo + ZERO_CELSIUS <= t_max:  # a plausible Celsius number given as kelvin
             raise InputError(
                 f"{lo:g} K is below {t_min:g} K — did you mean {lo:g} °C = "
                 f"{lo + ZERO_CELSIUS:.2f} K? Temperatures are in kelvin",
@@ -61,3 +63,25 @@ def temperature(T: ArrayLike, field: str = "T", t_min: float = T_MIN, t_max: flo
 def scalar_or_array(arr: np.ndarray) -> Any:
     """Return a Python float for 0-d arrays, else the array itself."""
     return float(arr) if np.ndim(arr) == 0 else arr
+
+
+#: Pressures: the water density model ignores pressure (1 atm), which is good to about
+#: 0.5 % in density up to 10 MPa (compressibility of water 4.6e-10 1/Pa, common practice);
+#: the permittivity correlation holds to 500 MPa (Bradley & Pitzer 1979).
+P_NOTE, P_MAX = 10e6, 500e6
+
+
+def pressure_notes(P: ArrayLike, field: str = "P") -> tuple[str, ...]:
+    """Refuse pressures beyond every correlation; return a note for those beyond the density model."""
+    arr = finite_array(P, field, positive=True)
+    hi = float(arr.max()) if arr.size else 0.0
+    if hi > P_MAX:
+        raise InputError(
+            f"above {P_MAX / 1e5:g} bar, beyond the water correlations (pressures are in Pa)", field=field, value=hi
+        )
+    if hi > P_NOTE:
+        return (
+            f"pressure up to {hi / 1e5:g} bar: the water density model ignores pressure (good to about 0.5 % "
+            f"up to {P_NOTE / 1e5:g} bar), so A, B and molarities are approximate",
+        )
+    return ()

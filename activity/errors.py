@@ -66,8 +66,16 @@ class InputError(ActivityError, ValueError):
 class ConvergenceError(ActivityError, RuntimeError):
     """An iterative solution did not converge; ``rows`` lists the rows that failed."""
 
+    #: Added to a message about reproducing a potential: the usual cause is a unit slip.
+    POTENTIAL_HINT = (
+        "; potentials are in volts in the Python API (a reading of -35.2 mV is -0.0352): check the unit, "
+        "the sign and the electrode constant E0"
+    )
+
     def __init__(self, message: str, rows: Any = None):
         self.rows = rows
+        if "potential" in message and "volts" not in message:
+            message += self.POTENTIAL_HINT
         super().__init__(message)
 
 

@@ -10,10 +10,11 @@ import csv
 import io
 import json
 import math
+import re
 from collections.abc import Iterable, Sequence
 from typing import Any
 
-__all__ = ["fmt", "table", "to_json", "to_csv"]
+__all__ = ["fmt", "table", "to_json", "to_csv", "ascii_fallback", "encodable"]
 
 
 def fmt(value: Any, digits: int = 5) -> str:
@@ -38,8 +39,22 @@ def fmt(value: Any, digits: int = 5) -> str:
     return str(value)
 
 
-def table(headers: Sequence[str], rows: Iterable[Sequence[Any]], *, digits: int = 5, title: str | None = None) -> str:
+def _numeric(c: str) -> bool:
+    return c[:1].isdigit() or (c[:1] in "-+." and c[1:2].isdigit())
+
+
+def table(
+    headers: Sequence[str],
+    rows: Iterable[Sequence[Any]],
+    *,
+    digits: int = 5,
+    title: str | None = None,
+    width: int | None = 100,
+) -> str:
     """An aligned plain-text table (numbers right-aligned, text left-aligned).
+
+    A table wider than ``width`` characters has its widest text columns wrapped onto
+    several lines (numbers are never wrapped); ``width=None`` never wraps.
 
     Examples
     --------
@@ -48,23 +63,46 @@ def table(headers: Sequence[str], rows: Iterable[Sequence[Any]], *, digits: int 
     -------  ------
     Na+       0.778
     Cl-      0.7701
+    >>> print(table(["model", "where it holds"], [["davies", "all ions, up to I = 0.2 mol/kg"]], width=30))
+    model   where it holds
+    ------  ----------------------
+    davies  all ions, up to I =
+            0.2 mol/kg
     """
+    import textwrap
+
     cells = [[fmt(c, digits) for c in row] for row in rows]
     widths = [len(h) for h in headers]
     for row in cells:
         for j, c in enumerate(row):
             widths[j] = max(widths[j], len(c))
+    text_cols = {j for j in range(len(widths)) if any(j < len(r) and not _numeric(r[j]) for r in cells)}
+    if width is not None:
+        excess = sum(widths) + 2 * (len(widths) - 1) - width
+        while excess > 0:
+            shrinkable = [j for j in text_cols if widths[j] > max(12, len(headers[j]))]
+            if not shrinkable:
+                break
+            j = max(shrinkable, key=lambda k: widths[k])
+            new = max(12, len(headers[j]), widths[j] - excess)
+            excess -= widths[j] - new
+            widths[j] = new
     lines = []
     if title:
-        lines.append(title)
+        lines.extend(textwrap.wrap(title, width) if width else [title])
     lines.append("  ".join(h.ljust(w) for h, w in zip(headers, widths)).rstrip())
     lines.append("  ".join("-" * w for w in widths))
     for row in cells:
-        out = []
-        for c, w in zip(row, widths):
-            numeric = c[:1].isdigit() or (c[:1] in "-+." and c[1:2].isdigit())
-            out.append(c.rjust(w) if numeric else c.ljust(w))
-        lines.append("  ".join(out).rstrip())
+        parts = [
+            textwrap.wrap(c, w, break_long_words=False) or [""] if len(c) > w else [c] for c, w in zip(row, widths)
+        ]
+        right = [_numeric(c) for c in row]  # alignment of the cell, kept on its continuation lines
+        for k in range(max(len(p) for p in parts)):
+            out = []
+            for p, w, r in zip(parts, widths, right):
+                c = p[k] if k < len(p) else ""
+                out.append(c.rjust(w) if r else c.ljust(w))
+            lines.append("  ".join(out).rstrip())
     return "\n".join(lines)
 
 
@@ -95,3 +133,44 @@ def to_csv(headers: Sequence[str], rows: Iterable[Sequence[Any]]) -> str:
             [repr(float(c)) if isinstance(c, float) or hasattr(c, "dtype") else ("" if c is None else c) for c in row]
         )
     return buf.getvalue()
+
+
+_ASCII = {
+    "γ": "gamma", "φ": "phi", "±": "+/-", "°C": "degC", "℃": "degC", "°": "deg", "≤": "<=", "≥": ">=",
+    "≈": "~", "≲": "<~", "—": "--", "–": "-", "−": "-", "×": "x", "·": ".", "µ": "u", "μ": "u", "‖": "||",
+    "…": "...", "Δ": "Delta", "σ": "sigma", "√": "sqrt", "→": "->", "’": "'", "‘": "'", "“": '"', "”": '"',
+    "Å": "A", "ü": "ue", "ö": "oe", "ä": "ae", "é": "e",
+}  # fmt: skip
+_SUPERSCRIPT = re.compile(r"([⁰¹²³⁴⁵⁶⁷⁸⁹]*)([⁺⁻])")
+_DIGITS = str.maketrans("⁰¹²³⁴⁵⁶⁷⁸⁹₀₁₂₃₄₅₆₇₈₉", "01234567890123456789")
+
+
+def ascii_fallback(text: str) -> str:
+    """Plain-ASCII spelling of report text: ``'γ(Ca²⁺) at 25 °C'`` → ``'gamma(Ca^2+) at 25 degC'``.
+
+    Examples
+    --------
+    >>> ascii_fallback("γ(Ca²⁺) ≤ 0.5 at 25 °C; H₂PO₄⁻")
+    'gamma(Ca^2+) <= 0.5 at 25 degC; H2PO4-'
+    """
+    text = _SUPERSCRIPT.sub(
+        lambda m: ("^" + m.group(1).translate(_DIGITS) if m.group(1) else "") + ("+" if m.group(2) == "⁺" else "-"),
+        text,
+    )
+    for k, v in _ASCII.items():
+        text = text.replace(k, v)
+    return text.translate(_DIGITS)
+
+
+def encodable(text: str, encoding: str | None) -> str:
+    """``text`` if ``encoding`` can encode it, else its ASCII fallback with any rest replaced by '?'."""
+    enc = encoding or "ascii"
+    try:
+        text.encode(enc)
+        return text
+    except (UnicodeEncodeError, LookupError):
+        plain = ascii_fallback(text)
+        try:
+            return plain.encode(enc, errors="replace").decode(enc)
+        except LookupError:
+            return plain.encode("ascii", errors="replace").decode("ascii")

@@ -17,7 +17,7 @@ from numpy.typing import ArrayLike
 from . import _checks, data
 from .constants import P_ATM, T_REF
 from .errors import ElectroneutralityWarning, InputError
-from .species import parse_species
+from .species import check_solute, parse_species, solute_key
 
 __all__ = ["Solution"]
 
@@ -36,7 +36,25 @@ def _items(composition: Any) -> list[tuple[str, Any]]:
             ) from None
     if not items:
         raise InputError("empty composition: give at least one species", field="composition", value={})
+    seen: dict[str, Any] = {}
+    for item in items:
+        if len(item) != 2:
+            raise InputError("expected (species, amount) pairs", field="composition", value=item)
+        name = check_solute(item[0]).name  # refuses salts and bare elements read as neutral solutes
+        if name in seen:
+            raise InputError(
+                f"species given twice (as {seen[name]!r} and {item[0]!r}, both {name!r}); give each once",
+                field="composition",
+                value=item[0],
+            )
+        seen[name] = item[0]
     return items
+
+
+#: Plausible densities of aqueous solutions, kg/L: water itself is 0.917 at 150 °C, dilute
+#: solutions are near 1, concentrated ammonia about 0.89, the densest brines of heavy salts
+#: (e.g. ZnBr2, caesium formate) about 2.3–2.6 (common practice).
+DENSITY_RANGE = (0.85, 3.0)
 
 
 class Solution:
@@ -178,11 +196,20 @@ class Solution:
         """Species name → molality (float, or array for a batch)."""
         return {n: _checks.scalar_or_array(self._m[i]) for i, n in enumerate(self._species)}
 
-    def molality(self, name: str) -> Any:
-        """Molality of one species (0 if absent from the composition)."""
+    def molality(self, name: str, default: Any = 0.0) -> Any:
+        """Molality of one species, mol/kg.
+
+        A species absent from the composition gives ``default`` broadcast to the batch
+        shape (0 by default); pass ``default=None`` to get an InputError naming the
+        species instead.
+        """
         key = parse_species(name).name
         if key not in self._species:
-            return _checks.scalar_or_array(np.zeros(self._shape))
+            if default is None:
+                raise InputError(
+                    f"not in this solution (species: {', '.join(self._species)})", field="species", value=name
+                )
+            return _checks.scalar_or_array(np.broadcast_to(np.asarray(default, dtype=float), self._shape).copy())
         return _checks.scalar_or_array(self._m[self._species.index(key)])
 
     def index(self, name: str) -> int:
@@ -297,10 +324,11 @@ class Solution:
 
         ``composition`` entries override or add species; other species are kept.
         """
-        comp: dict[str, Any] = {n: self._m[i] for i, n in enumerate(self._species)}
+        comp: dict[str, Any] = {solute_key(n): self._m[i] for i, n in enumerate(self._species)}
         if composition:
             for raw, value in composition.items():
-                comp[parse_species(raw).name] = value
+                check_solute(raw)
+                comp[solute_key(raw)] = value
         kw.setdefault("neutrality", "ignore")
         return Solution(comp, T=self._T if T is None else T, P=self._P if P is None else P, **kw)
 
@@ -345,7 +373,8 @@ class Solution:
         T, P : array_like
             Temperature (K) and pressure (Pa).
         density : array_like, optional
-            Solution density in kg/L (= g/cm³). Without it the density is modelled as
+            Solution density in kg/L (= g/cm³), between 0.5 and 3 kg/L; a value such as
+            1000 (the kg/m³ habit) is refused with a hint. Without it the density is modelled as
             pure water at T (Kell 1975) plus the ions' partial molar volumes at infinite
             dilution at 25 °C (``models/species.toml``); this neglects the excess volume
             and is good to a few tenths of a percent in molality up to about 1 mol/L.
@@ -362,6 +391,26 @@ class Solution:
         T_arr = _checks.temperature(T)
         if density is not None:
             rho = _checks.finite_array(density, "density", positive=True)  # kg/L
+            lo, hi = DENSITY_RANGE
+            if np.any(rho > hi):
+                bad = float(np.max(rho))
+                hint = (
+                    f"; {bad:g} looks like kg/m³ — density is in kg/L (g/cm³): {bad:g} kg/m³ = {bad / 1000:g} kg/L"
+                    if 500 <= bad <= 3000
+                    else ""
+                )
+                raise InputError(
+                    f"not a plausible density of an aqueous solution ({lo:g}–{hi:g} kg/L){hint}",
+                    field="density",
+                    value=bad,
+                )
+            if np.any(rho < lo):
+                bad = float(np.min(rho))
+                raise InputError(
+                    f"not a plausible density of an aqueous solution ({lo:g}–{hi:g} kg/L, i.e. g/cm³)",
+                    field="density",
+                    value=bad,
+                )
             solute = sum(ci * parse_species(n).molar_mass for n, ci in zip(names, c))
             water = rho - solute  # kg water per L
             if np.any(water <= 0):
@@ -384,4 +433,4 @@ class Solution:
                 raise InputError("concentrations too high for the density model", field="composition", value=None)
             rho_w = np.asarray(water_density(T_arr)) / 1000.0  # kg/L
             factor = 1.0 / (rho_w * (1.0 - vsum))  # L of solution per kg of water
-        return cls({n: ci * factor for n, ci in zip(names, c)}, T=T, P=P, **kw)
+        return cls({solute_key(n): ci * factor for n, ci in zip(names, c)}, T=T, P=P, **kw)

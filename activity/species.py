@@ -17,7 +17,7 @@ from types import MappingProxyType
 from . import data
 from .errors import InputError
 
-__all__ = ["Species", "parse_species", "canonical_name", "charge_of", "molar_mass"]
+__all__ = ["Species", "parse_species", "canonical_name", "charge_of", "molar_mass", "check_solute", "solute_key"]
 
 _PHASES = {"s": "s", "cr": "s", "l": "l", "g": "g", "aq": "aq"}
 _PHASE_RE = re.compile(r"\((s|cr|l|g|aq)\)$")
@@ -73,6 +73,40 @@ def _charge_text(z: int, formula: str = "") -> str:
     return sign
 
 
+# Unicode spellings, as printed in reports and typeset texts: 'Ca²⁺', 'H₂PO₄⁻', 'SO₄²⁻', 'Cl−'.
+_SUBSCRIPTS = str.maketrans("₀₁₂₃₄₅₆₇₈₉", "0123456789")
+_SUPER_DIGITS = str.maketrans("⁰¹²³⁴⁵⁶⁷⁸⁹", "0123456789")
+_SUPER_CHARGE = re.compile(r"([⁰¹²³⁴⁵⁶⁷⁸⁹]*)([⁺⁻]+)$")
+_MINUS_SIGNS = str.maketrans({"−": "-", "–": "-", "‐": "-", "＋": "+"})
+
+# Elements whose only aqueous ion in ordinary chemistry has this charge number: a digit
+# between such a symbol and its sign ('Na2+', 'Cl2-') is more likely a typo than the ion
+# the digit implies, so it is refused unless written with a caret ('Na^2+'). Common practice.
+_USUAL_CHARGE = {
+    **dict.fromkeys(("H", "Li", "Na", "K", "Rb", "Cs", "Ag"), 1),
+    **dict.fromkeys(("Be", "Mg", "Ca", "Sr", "Ba", "Zn", "Cd"), 2),
+    **dict.fromkeys(("Al", "Sc", "Ga", "La"), 3),
+    **dict.fromkeys(("F", "Cl", "Br", "I"), -1),
+}
+
+
+def _normalise(text: str, original: str) -> str:
+    """Plain-ASCII spelling of a name typed with Unicode sub/superscripts or minus signs."""
+    text = text.translate(_MINUS_SIGNS).translate(_SUBSCRIPTS)
+    m = _SUPER_CHARGE.search(text)
+    if m:
+        digits = m.group(1).translate(_SUPER_DIGITS)
+        signs = m.group(2).replace("⁺", "+").replace("⁻", "-")
+        if digits and len(signs) > 1:
+            raise InputError(
+                "write the charge as one number and one sign, e.g. 'Ca²⁺'", field="species", value=original
+            )
+        text = text[: m.start()] + (f"^{digits}{signs}" if digits else signs)
+    if re.search(r"[⁰¹²³⁴⁵⁶⁷⁸⁹⁺⁻]", text):
+        raise InputError("superscripts belong only in the charge, at the end", field="species", value=original)
+    return text
+
+
 def _parse_charge(text: str, original: str) -> tuple[str, int]:
     """Split ``text`` into (formula, charge)."""
     m = re.fullmatch(r"(.*?)\^(\d*)([+-])", text)
@@ -96,6 +130,18 @@ def _parse_charge(text: str, original: str) -> tuple[str, int]:
     digits = d.group(1)
     base = formula[: -len(digits)]
     if re.fullmatch(r"[A-Z][a-z]?", base) and len(digits) == 1:
+        usual = _USUAL_CHARGE.get(base)
+        if usual is not None and usual != sign * int(digits):
+            plain = (
+                f"{base}{'+' if usual > 0 else '-'}"
+                if abs(usual) == 1
+                else f"{base}^{abs(usual)}{'+' if usual > 0 else '-'}"
+            )
+            raise InputError(
+                f"{base} forms {plain!r} in water; write {plain!r}, or '{base}^{digits}{signs}' if you mean that ion",
+                field="species",
+                value=original,
+            )
         return base, sign * int(digits)  # Ca2+ → Ca^2+
     if len(digits) == 1:
         return formula, sign  # NH4+, NO3-, H2PO4-
@@ -161,7 +207,6 @@ def _parse_group(text: str, original: str, weights: Mapping[str, float]) -> dict
     return stack[0]
 
 
-@functools.lru_cache(maxsize=4096)
 def parse_species(name: str) -> Species:
     """Parse a species name into a :class:`Species`.
 
@@ -193,11 +238,20 @@ def parse_species(name: str) -> Species:
     """
     if not isinstance(name, str):
         raise InputError("a species name must be a string", field="species", value=name)
-    text = name.strip().replace(" ", "")
+    return _parse_species(name)
+
+
+@functools.lru_cache(maxsize=4096)
+def _parse_species(name: str) -> Species:
+    text = _normalise(name.strip().replace(" ", ""), name)
     if not text:
         raise InputError("empty species name", field="species", value=name)
     if text in ("e-", "e^-", "e"):
         return Species("e-", "e", -1, "e", MappingProxyType({}), _ELECTRON_MOLAR_MASS)
+    if text[0].isdigit():
+        raise InputError(
+            "a species name starts with its formula; a leading number is a coefficient", field="species", value=name
+        )
     phase = "aq"
     m = _PHASE_RE.search(text)
     if m:
@@ -234,3 +288,100 @@ def charge_of(name: str) -> int:
 def molar_mass(name: str) -> float:
     """Molar mass in kg/mol."""
     return parse_species(name).molar_mass
+
+
+# ------------------------------------------------------------------ solutes
+_NONMETALS = frozenset("H He B C N O F Ne Si P S Cl Ar As Se Br Kr Te I Xe Rn At".split())
+_STRONG_ACIDS = {"HCl": "Cl-", "HBr": "Br-", "HI": "I-", "HNO3": "NO3-", "HClO4": "ClO4-", "H2SO4": "SO4^2-"}
+_ANIONS = {
+    "F": -1,
+    "Cl": -1,
+    "Br": -1,
+    "I": -1,
+    "OH": -1,
+    "NO3": -1,
+    "NO2": -1,
+    "ClO4": -1,
+    "HCO3": -1,
+    "H2PO4": -1,
+    "HSO4": -1,
+    "SO4": -2,
+    "CO3": -2,
+    "HPO4": -2,
+    "S2O3": -2,
+    "PO4": -3,
+}  # common practice
+
+
+def _salt_ions(formula: str) -> list[tuple[str, int]] | None:
+    """``'Na2SO4'`` → ``[('Na+', 2), ('SO4^2-', 1)]``; None when the formula is not read as a salt."""
+    m = re.fullmatch(r"([A-Z][a-z]?)(\d*)(?:\(([A-Za-z0-9]+)\)(\d+)|([A-Z][a-z]?)(\d*)|([A-Za-z0-9]+))", formula)
+    if not m:
+        return None
+    metal, n_metal = m.group(1), int(m.group(2) or 1)
+    if m.group(3):
+        anion, n_anion = m.group(3), int(m.group(4))
+    elif m.group(5):
+        anion, n_anion = m.group(5), int(m.group(6) or 1)
+    else:
+        anion, n_anion = m.group(7), 1
+    z_m, z_a = _USUAL_CHARGE.get(metal), _ANIONS.get(anion)
+    if metal in _NONMETALS or z_m is None or z_a is None or z_m * n_metal + z_a * n_anion != 0:
+        return None
+    return [(metal + _charge_text(z_m, metal), n_metal), (anion + _charge_text(z_a, anion), n_anion)]
+
+
+def solute_key(name: str) -> str:
+    """The name under which a checked solute is passed on: canonical, with ``'(aq)'`` kept for a
+    neutral species, so that passing it on does not read it as a slip again (``'CaSO4(aq)'``)."""
+    sp = parse_species(name)
+    try:
+        return check_solute(sp.name, sp).name
+    except InputError:  # a neutral formula that reads like a slip, given on purpose with '(aq)'
+        return sp.name + "(aq)"
+
+
+def check_solute(raw: str, sp: Species | None = None) -> Species:
+    """Parse ``raw`` as a dissolved species, refusing names that stand for something else.
+
+    A salt (``'NaCl'``, ``'CaCl2'``), a strong acid (``'HCl'``) or a bare element (``'Ca'``)
+    given as a species would be read as a neutral solute with γ = 1 and no charge — almost
+    always a slip for its ions. Such names are refused with the ions to give instead; write
+    ``'(aq)'`` after a name (``'CaSO4(aq)'``) to mean a neutral species on purpose.
+
+    Examples
+    --------
+    >>> check_solute("Ca2+").name
+    'Ca^2+'
+    >>> check_solute("CaCl2")
+    Traceback (most recent call last):
+    ...
+    activity.errors.InputError: species = 'CaCl2': read as an uncharged solute (no charge, γ = 1); a salt: give its \
+ions, 'Ca^2+' and 'Cl-' in the ratio 1:2, or write 'CaCl2(aq)' for a neutral species on purpose
+    """
+    sp = parse_species(raw) if sp is None else sp
+    if sp.charge != 0 or sp.phase != "aq" or str(raw).strip().endswith("(aq)"):
+        return sp
+    hint = None
+    if sp.formula in _STRONG_ACIDS:
+        hint = f"a strong acid is dissociated: give 'H+' and {_STRONG_ACIDS[sp.formula]!r}"
+    elif len(sp.elements) == 1 and sum(sp.elements.values()) == 1 and sp.formula not in ("He", "Ne", "Ar", "Kr", "Xe"):
+        usual = _USUAL_CHARGE.get(sp.formula)
+        ion = sp.formula + _charge_text(usual, sp.formula) if usual else None
+        hint = "a bare element: give the ion" + (f", e.g. {ion!r}" if ion else " with its charge")
+    elif any(el not in _NONMETALS for el in sp.elements):
+        ions = _salt_ions(sp.formula)
+        if ions:
+            (cat, nc), (an, na) = ions
+            ratio = "" if (nc, na) == (1, 1) else f" in the ratio {nc}:{na}"
+            hint = f"a salt: give its ions, {cat!r} and {an!r}{ratio}"
+        else:
+            hint = "a metal compound: give its ions with their charges"
+    if hint is None:
+        return sp
+    raise InputError(
+        f"read as an uncharged solute (no charge, γ = 1); {hint}, or write '{sp.formula}(aq)' for a neutral "
+        "species on purpose",
+        field="species",
+        value=raw,
+    )

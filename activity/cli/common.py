@@ -40,7 +40,10 @@ def add_output(p: argparse.ArgumentParser) -> None:
     g.add_argument("--json", action="store_true", help="print JSON instead of a table")
     g.add_argument("--csv", action="store_true", help="print CSV instead of a table")
     p.add_argument(
-        "-o", "--output", metavar="FILE", help="write to FILE (whole or not at all) instead of standard output"
+        "-o",
+        "--output",
+        metavar="FILE",
+        help="write to FILE (whole or not at all; '-' is standard output) instead of standard output",
     )
 
 
@@ -65,8 +68,22 @@ def solution_from_args(args: argparse.Namespace):
     if args.recipe:
         recipe.update(load_recipe(args.recipe))
     if args.pairs:
+        import warnings
+
+        from ..errors import ActivityWarning
+        from ..species import parse_species
+
         comp = dict(recipe.get("composition", {}))
-        comp.update(parse_pairs(args.pairs))
+        in_recipe = {parse_species(k).name: k for k in comp}
+        for name, amount in parse_pairs(args.pairs).items():
+            key = in_recipe.get(parse_species(name).name)
+            if key is not None:  # the command line overrides the recipe, and says so
+                warnings.warn(
+                    f"{name}={amount} on the command line replaces {key} = {comp.pop(key)!r} of the recipe",
+                    ActivityWarning,
+                    stacklevel=2,
+                )
+            comp[name] = amount
         recipe["composition"] = comp
     if not recipe.get("composition"):
         raise InputError("give a composition as SPECIES=AMOUNT pairs or --recipe FILE", field="composition", value=None)
@@ -87,8 +104,19 @@ def show_cautions(sol):
 
 
 def emit(args: argparse.Namespace, text: str) -> None:
-    """Print, or write to ``--output`` atomically."""
-    if getattr(args, "output", None):
+    """Print, or write to ``--output`` (``-`` is standard output; files are written whole).
+
+    Text for people (no --json or --csv) is kept within 100 columns: tables wrap their own
+    text columns; a longer line of prose (a note, a title) is wrapped here.
+    """
+    if output_format(args) == "table":
+        import textwrap
+
+        text = "\n".join(
+            textwrap.fill(line, 100, subsequent_indent="    ", break_long_words=False) if len(line) > 100 else line
+            for line in text.splitlines()
+        )
+    if getattr(args, "output", None) not in (None, "-"):
         from ..io.files import write_text
 
         write_text(args.output, text if text.endswith("\n") else text + "\n")

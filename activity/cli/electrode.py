@@ -15,6 +15,9 @@ from .common import add_output, add_solution_arguments, emit, show_cautions, sol
 __all__ = ["register", "electrode_from_spec"]
 
 _REFERENCE_KINDS = ("silver-chloride", "calomel")
+#: Upper bound of a KCl filling: saturation at 100 °C, about 7.6 mol/kg (CRC Handbook, aqueous
+#: solubility of KCl, 56.3 g per 100 g water; from memory) and, as a generous bound, as many mol/L.
+_KCL_MAX = {"kg": 7.6, "L": 7.6}
 
 
 def electrode_from_spec(text: str) -> Any:
@@ -46,6 +49,13 @@ def electrode_from_spec(text: str) -> Any:
         amount = parse_amount(filling, field="filling")
         if amount.mass:
             raise InputError("give the KCl filling in mol/L or mol/kg", field="filling", value=filling)
+        if amount.value > _KCL_MAX[amount.basis]:
+            raise InputError(
+                f"more KCl than dissolves at any temperature covered (saturation about "
+                f"{_KCL_MAX[amount.basis]:g} mol/{amount.basis} at 100 °C); use 'saturated'",
+                field="filling",
+                value=filling,
+            )
         return make(amount.value, basis="mol/kg" if amount.basis == "kg" else "mol/L")
     if filling:
         raise InputError(f"a filling applies only to {', '.join(_REFERENCE_KINDS)}", field="electrode", value=text)
@@ -82,8 +92,18 @@ def _render(
     if args.csv:
         if chain is not None:
             budget = chain.propagation.budget_table()
+            result = dict.fromkeys(budget[0])  # the result itself, last, in the budget's columns
+            result.update(
+                name=f"result: {chain.quantity} [{chain.unit}]",
+                distribution="-",
+                value=chain.value,
+                standard_uncertainty=chain.standard_uncertainty,
+                dof=chain.propagation.dof,
+            )
+            budget = budget + [result]
             return to_csv(list(budget[0]), [list(r.values()) for r in budget]).rstrip("\n")
         return to_csv(["quantity", "value", "unit"], rows).rstrip("\n")
+    rows = [_in_millivolts(r) for r in rows]
     text = table(["quantity", "value", "unit"], rows, digits=6, title=title)
     if chain is not None:
         text += (
@@ -93,13 +113,22 @@ def _render(
     return text + "".join(f"\nnote: {n}" for n in dict.fromkeys(notes))
 
 
-def _render_table(args: argparse.Namespace, labels: tuple, reading: Any, res: Any) -> str:
+def _in_millivolts(row: list[Any]) -> list[Any]:
+    """A potential row in mV for people (V stays in JSON and CSV, where the unit is in the key)."""
+    name, value, unit = row
+    if isinstance(unit, str) and (unit == "V" or unit.startswith("V ")) and isinstance(value, (int, float)):
+        return [name, float(value) * 1000.0, "m" + unit]
+    return row
+
+
+def _render_table(args: argparse.Namespace, labels: tuple, reading: Any, res: Any, T: Any = 298.15) -> str:
     """One row per reading of a --table batch."""
     import numpy as np
 
     from ..formatting import table, to_csv, to_json
 
     cols = {
+        "temperature_K": T,
         "reading_V": reading,
         "molality_mol_per_kg": res.molality,
         "activity": res.activity,
@@ -117,6 +146,7 @@ def _render_table(args: argparse.Namespace, labels: tuple, reading: Any, res: An
     rows = [
         [
             lab,
+            float(cols["temperature_K"][i]) - 273.15,
             float(cols["reading_V"][i]) * 1000,
             float(cols["molality_mol_per_kg"][i]),
             float(cols["activity"][i]),
@@ -126,7 +156,7 @@ def _render_table(args: argparse.Namespace, labels: tuple, reading: Any, res: An
         for i, lab in enumerate(labels)
     ]
     text = table(
-        ["label", "reading / mV", "m / (mol/kg)", "activity", "γ", "I / (mol/kg)"],
+        ["label", "t / °C", "reading / mV", "m / (mol/kg)", "activity", "γ", "I / (mol/kg)"],
         rows,
         digits=6,
         title=f"{res.species} from {len(labels)} readings by {res.model}",
@@ -197,6 +227,21 @@ def _percent(text: str, field: str) -> float:
     if not m:
         raise InputError("expected a relative standard uncertainty with %, e.g. '1%'", field=field, value=text)
     return _not_negative(float(m.group(1)) / 100.0, field, text)
+
+
+def _relative_amount(text: str, field: str) -> float:
+    """A relative standard uncertainty of an amount: below 100 % (else the amount can go negative)."""
+    from ..errors import InputError
+
+    u = _percent(text, field)
+    if u >= 1.0:
+        raise InputError(
+            "a relative standard uncertainty of 100 % or more puts the amount at or below zero within one "
+            "standard uncertainty; give the uncertainty of the amount, e.g. '2%'",
+            field=field,
+            value=text,
+        )
+    return u
 
 
 def _not_negative(value: float, field: str, text: str) -> float:
@@ -325,6 +370,51 @@ def _chain_options(
     return opts
 
 
+def _propagate(args: argparse.Namespace, func: Any, *a: Any, **kw: Any) -> Any:
+    """Run an uncertainty chain; a perturbed amount that goes negative is blamed on the option that
+    stated the uncertainty, not reported as if the user had typed a negative amount."""
+    from ..errors import InputError
+
+    try:
+        return func(*a, **kw)
+    except InputError as exc:
+        if not (exc.field or "").startswith("composition["):
+            raise
+        species = exc.field[len("composition[") : -1].strip("'\"")
+        given = [t for t in (args.u or []) if t.split("=", 1)[0].strip() and _same(t.split("=", 1)[0], species)]
+        option, text = ("--u", given[-1]) if given else ("--u-amount", args.u_amount)
+        raise InputError(
+            f"this uncertainty lets the amount of {species} go below zero during the propagation ({args.method}); "
+            "give a smaller uncertainty (a normal distribution needs u well below the amount)",
+            field=option,
+            value=text,
+        ) from None
+
+
+def _same(a: str, b: str) -> bool:
+    from ..species import parse_species
+
+    try:
+        return parse_species(a.strip()).name == parse_species(b).name
+    except ValueError:  # pragma: no cover - the names were parsed before
+        return False
+
+
+def _selectivity(ion: str, text: str) -> float:
+    """A selectivity coefficient: a finite, non-negative number (dimensionless)."""
+    import math
+
+    from ..errors import InputError
+
+    try:
+        value = float(text)
+    except ValueError:
+        raise InputError("expected a number (K is dimensionless)", field=f"selectivity {ion}", value=text) from None
+    if not math.isfinite(value) or value < 0:
+        raise InputError("must be a finite non-negative number", field=f"selectivity {ion}", value=text)
+    return value
+
+
 def _amount_uncertainties(args: argparse.Namespace, sample: Any) -> tuple[dict[str, float] | None, dict[str, float]]:
     """Relative and absolute (mol/kg) standard uncertainties by species, from --u-amount and --u.
 
@@ -338,7 +428,7 @@ def _amount_uncertainties(args: argparse.Namespace, sample: Any) -> tuple[dict[s
 
     relative: dict[str, float] = {}
     if args.u_amount is not None:
-        every = _percent(args.u_amount, "--u-amount")
+        every = _relative_amount(args.u_amount, "--u-amount")
         relative = {name: every for name in sample.species}
     absolute: dict[str, float] = {}
     stated = None
@@ -348,7 +438,7 @@ def _amount_uncertainties(args: argparse.Namespace, sample: Any) -> tuple[dict[s
         absolute.pop(key, None)
         relative.pop(key, None)
         if text.rstrip().endswith("%"):
-            relative[key] = _percent(text, field)
+            relative[key] = _relative_amount(text, field)
             continue
         u = parse_amount(text, field=field)
         molar_mass = parse_species(key).molar_mass
@@ -386,7 +476,7 @@ def cmd_potential(args: argparse.Namespace) -> int:
     if opts is not None:
         from ..workflows.measurement import potential_with_uncertainty
 
-        chain = potential_with_uncertainty(hr, sol, args.model, pressures=_gases(args.gas), **opts)
+        chain = _propagate(args, potential_with_uncertainty, hr, sol, args.model, pressures=_gases(args.gas), **opts)
     emit(args, _render(args, f"{hr.name} by {res.model}", rows, notes, chain=chain))
     return 0
 
@@ -422,7 +512,7 @@ def cmd_cell(args: argparse.Namespace) -> int:
     junction = None if args.junction == "none" else args.junction
     cell = Cell(left=electrode_from_spec(args.left), right=electrode_from_spec(args.right), junction=junction)
     sol = solution_from_args(args)
-    res = cell.evaluate(sol, args.model, pressures=_gases(args.gas))
+    res = cell.evaluate(sol, args.model, pressures=_gases(args.gas), low_pressure=True)  # units were explicit
     rows = [
         _temperature_row(float(sol.T)),
         ["E(right)", _one(res.right_potential), "V vs SHE"],
@@ -435,7 +525,7 @@ def cmd_cell(args: argparse.Namespace) -> int:
     if opts is not None:
         from ..workflows.measurement import emf_with_uncertainty
 
-        chain = emf_with_uncertainty(cell, sol, args.model, pressures=_gases(args.gas), **opts)
+        chain = _propagate(args, emf_with_uncertainty, cell, sol, args.model, pressures=_gases(args.gas), **opts)
     emit(args, _render(args, f"{args.left} | sample | {args.right} by {res.model}", rows, res.notes, chain=chain))
     return 0
 
@@ -456,7 +546,7 @@ def cmd_invert(args: argparse.Namespace) -> int:
     if args.ise is not None:
         if args.e0 is None:
             raise InputError("an ion-selective electrode needs --e0, e.g. '52.1 mV'", field="e0", value=None)
-        sel = {k: float(v) for k, v in parse_pairs(args.selectivity or [], field="selectivity").items()}
+        sel = {k: _selectivity(k, v) for k, v in parse_pairs(args.selectivity or [], field="selectivity").items()}
         electrode = IonSelectiveElectrode(args.ise, parse_potential(args.e0, field="e0"), selectivity=sel)
     else:
         electrode = electrode_from_spec(args.couple)
@@ -483,7 +573,15 @@ def cmd_invert(args: argparse.Namespace) -> int:
             raise InputError("needs a 'reading [mV]' (or [V]) column", field="table", value=args.table)
         unit, values = tbl.extra["reading"]
         reading = values * parse_potential(f"1 {unit}", field="column 'reading'")
-        matrix = show_cautions(solution_from_table(tbl))
+        matrix = show_cautions(
+            solution_from_table(
+                tbl,
+                temperature=args.temperature,
+                pressure=args.pressure,
+                density=args.density,
+                balance_with=args.balance_with,
+            )
+        )
         labels = tbl.labels
     else:
         if args.reading is None:
@@ -511,7 +609,7 @@ def cmd_invert(args: argparse.Namespace) -> int:
         species = args.species
         res = molality_from_potential(electrode, reading, matrix, args.model, species=species, **kw)
     if labels is not None:
-        emit(args, _render_table(args, labels, reading, res))
+        emit(args, _render_table(args, labels, reading, res, matrix.T))
         return 0
     chain = None
     opts = _chain_options(args, matrix, {parse_species(k).name: v for k, v in sel.items()})
@@ -519,7 +617,9 @@ def cmd_invert(args: argparse.Namespace) -> int:
         from ..workflows.measurement import molality_with_uncertainty
 
         measured = cell if args.against else electrode
-        chain = molality_with_uncertainty(measured, reading, matrix, args.model, species=species, **kw, **opts)
+        chain = _propagate(
+            args, molality_with_uncertainty, measured, reading, matrix, args.model, species=species, **kw, **opts
+        )
     rows = [
         ["species", res.species, ""],
         ["molality", _one(res.molality), "mol/kg"],

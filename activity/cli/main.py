@@ -6,6 +6,7 @@ from __future__ import annotations
 import argparse
 import sys
 from collections.abc import Callable, Sequence
+from typing import Any
 
 from .. import __version__
 from ..errors import ActivityError, call_with_notes
@@ -40,8 +41,44 @@ def _run(func: Callable[[argparse.Namespace], int], args: argparse.Namespace) ->
     return rc
 
 
+class _FallbackStream:
+    """A text stream that writes what its encoding cannot hold in ASCII spellings (γ → gamma),
+    so that a console with a legacy code page gets a readable report instead of a traceback."""
+
+    def __init__(self, stream: Any):
+        self._stream = stream
+
+    def write(self, text: str) -> int:
+        from ..formatting import encodable
+
+        return self._stream.write(encodable(text, getattr(self._stream, "encoding", None) or "utf-8"))
+
+    def __getattr__(self, name: str) -> Any:
+        return getattr(self._stream, name)
+
+
+def _needs_fallback(stream: Any) -> bool:
+    try:
+        "γ°≤²⁺—".encode(getattr(stream, "encoding", None) or "utf-8")  # no encoding: a str buffer
+        return False
+    except (UnicodeEncodeError, LookupError):
+        return True
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Entry point of the ``activity`` console script; returns the exit status."""
+    saved = sys.stdout, sys.stderr
+    if _needs_fallback(sys.stdout):
+        sys.stdout = _FallbackStream(sys.stdout)
+    if _needs_fallback(sys.stderr):
+        sys.stderr = _FallbackStream(sys.stderr)
+    try:
+        return _main(argv)
+    finally:
+        sys.stdout, sys.stderr = saved
+
+
+def _main(argv: Sequence[str] | None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "func", None):

@@ -152,14 +152,15 @@ def table_report(sol, labels, model: str = "davies", form: str = "table") -> str
             }
         )
     if form == "csv":
+        T_rows = np.broadcast_to(sol.T, sol.shape)
         headers = (
-            ["label", "model", "ionic_strength_mol_per_kg"]
+            ["label", "model", "temperature_K", "ionic_strength_mol_per_kg"]
             + [f"gamma {n}" for n in sol.species]
             + [f"activity {n}" for n in sol.species]
             + ["in_range"]
         )
         rows = [
-            [lab, r["model"], float(I[k])]
+            [lab, r["model"], float(T_rows[k]), float(I[k])]
             + [float(r["gamma"][i, k]) for i in range(len(sol.species))]
             + [float(r["gamma"][i, k] * sol.m[i, k]) for i in range(len(sol.species))]
             + [bool(r["in_range"][k])]
@@ -168,10 +169,11 @@ def table_report(sol, labels, model: str = "davies", form: str = "table") -> str
         ]
         return to_csv(headers, rows)
     out = []
+    T_rows = np.broadcast_to(sol.T, sol.shape)
     for r in ok:
-        headers = ["label", "I mol/kg"] + [f"a({n})" for n in sol.species]
+        headers = ["label", "t / °C", "I mol/kg"] + [f"a({n})" for n in sol.species]
         rows = [
-            [lab, float(I[k])]
+            [lab, round(float(T_rows[k]) - 273.15, 2), float(I[k])]
             + [
                 fmt(r["gamma"][i, k] * sol.m[i, k], 5) + ("" if r["in_range"][k] else "*")
                 for i in range(len(sol.species))
@@ -185,27 +187,55 @@ def table_report(sol, labels, model: str = "davies", form: str = "table") -> str
     return "\n".join(out).rstrip()
 
 
+def _entry_ranges(model) -> tuple[float, float, int, int] | None:
+    """(T_min, T_max, count, total) of the narrowest temperature range held by the entries of a
+    parameter-set model such as Pitzer (None for a model without per-entry ranges)."""
+    table = getattr(model, "table", None)
+    if table is None or not hasattr(table, "values"):
+        return None
+    ranges = [getattr(e, "T_range", None) for e in table.values()]
+    ranges = [tuple(r) for r in ranges if r]
+    if not ranges:
+        return None
+    narrowest = min(ranges, key=lambda r: r[1] - r[0])
+    return narrowest[0], narrowest[1], ranges.count(narrowest), len(ranges)
+
+
 def models_report(form: str = "table") -> str:
-    """The registered models with their validity ranges."""
+    """The registered models with their validity ranges (for a parameter set, also the
+    narrowest range that its entries hold: a mixture is only as good as its narrowest pair)."""
     rows = []
     for name in available_models():
         try:
-            v = get_model(name).validity
-            rows.append(
-                {
-                    "model": name,
-                    "max_ionic_strength_mol_per_kg": v.max_ionic_strength,
-                    "T_min_K": v.T_min,
-                    "T_max_K": v.T_max,
-                    "species": v.species,
-                    "basis": v.basis,
-                }
-            )
+            model = get_model(name)
+            v = model.validity
+            row = {
+                "model": name,
+                "max_ionic_strength_mol_per_kg": v.max_ionic_strength,
+                "T_min_K": v.T_min,
+                "T_max_K": v.T_max,
+                "species": v.species,
+                "basis": v.basis,
+            }
+            narrow = _entry_ranges(model)
+            if narrow is not None:
+                row["narrowest_T_min_K"], row["narrowest_T_max_K"] = narrow[0], narrow[1]
+                row["entries_with_narrowest_range"] = f"{narrow[2]} of {narrow[3]}"
+            rows.append(row)
         except ActivityError as exc:
             rows.append({"model": name, "error": str(exc)})
     if form == "json":
         return to_json(rows)
-    cols = ["model", "max_ionic_strength_mol_per_kg", "T_min_K", "T_max_K", "species", "basis"]
+    cols = [
+        "model",
+        "max_ionic_strength_mol_per_kg",
+        "T_min_K",
+        "T_max_K",
+        "narrowest_T_min_K",
+        "narrowest_T_max_K",
+        "species",
+        "basis",
+    ]
     if form == "csv":
         return to_csv(cols, [[r.get(c) for c in cols] for r in rows])
     trows = []
@@ -218,9 +248,13 @@ def models_report(form: str = "table") -> str:
             if not np.isfinite(r["max_ionic_strength_mol_per_kg"])
             else f"{r['max_ionic_strength_mol_per_kg']:g}"
         )
-        trows.append(
-            [r["model"], imax, f"{r['T_min_K'] - 273.15:g}–{r['T_max_K'] - 273.15:g}", f"{r['species']} ({r['basis']})"]
-        )
+        t_range = f"{r['T_min_K'] - 273.15:g}–{r['T_max_K'] - 273.15:g}"
+        if "narrowest_T_min_K" in r:
+            t_range = (
+                f"{r['narrowest_T_min_K'] - 273.15:g}–{r['narrowest_T_max_K'] - 273.15:g} "
+                f"({r['entries_with_narrowest_range']}; rest {t_range})"
+            )
+        trows.append([r["model"], imax, t_range, f"{r['species']} ({r['basis']})"])
     return table(["model", "I max / (mol/kg)", "T / °C", "species covered (basis)"], trows)
 
 

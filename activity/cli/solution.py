@@ -20,7 +20,15 @@ def cmd_solution(args: argparse.Namespace) -> int:
         if args.pairs or args.recipe:
             raise InputError("give either --table FILE or a composition, not both", field="table", value=args.table)
         tbl = read_table(args.table)
-        sol = show_cautions(solution_from_table(tbl, balance_with=args.balance_with))
+        sol = show_cautions(
+            solution_from_table(
+                tbl,
+                temperature=args.temperature,
+                pressure=args.pressure,
+                density=args.density,
+                balance_with=args.balance_with,
+            )
+        )
         emit(args, table_report(sol, tbl.labels, args.model, form=form))
         return 0
     sol = solution_from_args(args)

@@ -89,8 +89,54 @@ class DebyeHuckelForm(ActivityModel):
         )
         return _Bound(charges.astype(float) ** 2, terms, groups)
 
+    #: In rows where a cation and an anion both of charge magnitude ≥ 2 are present (MgSO4,
+    #: CaSO4, ZnSO4, CuSO4, MgCO3 …), the ions associate (Bjerrum pairs) and a Debye–Hückel
+    #: form without ion pairs leaves its tolerance above about this ionic strength (mol/kg).
+    #: None: no such limit. Subclasses set it.
+    associated_max_ionic_strength: float | None = None
+    #: Limit (mol/kg) for rows with an anion of charge ≤ −2 (SO4^2-, CO3^2-, HPO4^2- …).
+    multivalent_anion_max_ionic_strength: float | None = None
+
     def binding_notes(self, bound):
-        return bound.terms.notes, ()
+        notes = bound.terms.notes
+        ions = np.flatnonzero(bound.z2 > 0)
+        if len(ions) >= 3:
+            t = bound.terms
+            params = {(float(t.size[i]), float(t.d[i]), float(t.b[i] / bound.z2[i])) for i in ions}
+            if len(params) > 1:
+                notes = notes + (
+                    f"{self.name}: in a mixture of ions with different size or linear parameters the osmotic "
+                    "coefficient and water activity do not satisfy Gibbs–Duhem with these γ (the single-ion "
+                    "equations derive from no common excess Gibbs energy); treat φ and a(H2O) as estimates",
+                )
+        return notes, ()
+
+    def check_range(self, sol, I):
+        from .._checks import pressure_notes
+
+        ok, notes = super().check_range(sol, I)
+        notes = notes + tuple(f"{self.name}: {n}" for n in pressure_notes(sol.P_compact))  # A, B from 1-atm density
+        z = sol.charges
+        m = sol.m.reshape(len(z), -1)
+        n_rows = m.shape[1]
+        multi_cat = (m[z >= 2] > 0).any(axis=0) if np.any(z >= 2) else np.zeros(n_rows, bool)
+        multi_an = (m[z <= -2] > 0).any(axis=0) if np.any(z <= -2) else np.zeros(n_rows, bool)
+        flat_I = np.asarray(I, dtype=float).reshape(-1)
+        for limit, rows, what in (
+            (self.associated_max_ionic_strength, multi_cat & multi_an, "a 2:2 pair (ion association)"),
+            (self.multivalent_anion_max_ionic_strength, multi_an, "a divalent or higher anion"),
+        ):
+            if limit is None:
+                continue
+            bad = rows & (flat_I > limit)
+            if np.any(bad):
+                ok = ok & ~bad.reshape(np.shape(ok))
+                notes = notes + (
+                    f"{self.name}: with {what} the model holds to I = {limit:g} mol/kg; I up to "
+                    f"{float(np.max(flat_I[bad])):.4g} in {int(np.count_nonzero(bad))} of {sol.size} row(s): "
+                    "outside the model's validity",
+                )
+        return ok, notes
 
     @staticmethod
     def _AB(sol):

@@ -74,6 +74,9 @@ class ExtendedDebyeHuckel(DebyeHuckelForm):
         0.1, species="ions with a Kielland size (models/species.toml)", basis="common practice: ≲ 0.1 mol/kg"
     )
 
+    # Kielland sizes do not describe ion association of 2:2 salts (common practice: I ≤ 0.01).
+    associated_max_ionic_strength = 0.01
+
     def __init__(self, sizes=None, fallback_size: float | None = None, **kw):
         super().__init__(**kw)
         self._sizes = _clean(sizes, "sizes")

@@ -34,10 +34,17 @@ class TruesdellJones(DebyeHuckelForm):
     name = "truesdell-jones"
     validity = Validity(
         2.0,
-        T_max=273.15 + 100.0,
-        species="Na, K, Mg, Ca, Cl, SO4, HCO3, CO3 (models/species.toml)",
-        basis="Truesdell & Jones 1974: fitted to single-salt data to about 2 mol/kg (from memory)",
+        T_min=273.15 + 15.0,
+        T_max=273.15 + 35.0,
+        species="Na, K, Mg, Ca, Cl, SO4, HCO3, CO3 (models/species.toml); with a divalent anion to "
+        "I = 0.1, with a 2:2 pair to I = 0.01",
+        basis="Truesdell & Jones 1974: b fitted at 25 °C to chloride data to about 2 mol/kg (from memory); "
+        "15–35 °C for 25 °C constants (common practice, as for 25 °C Pitzer parameters)",
     )
+    # Against Robinson & Stokes (1959, App. 8.10; from memory): MgSO4 +73 % at 0.1 mol/kg and +210 %
+    # at 0.5; Na2SO4 +14 % at 0.1 and +55 % at 0.5. Chlorides hold to 2 mol/kg (CaCl2 0.5: 0.2 %).
+    associated_max_ionic_strength = 0.01
+    multivalent_anion_max_ionic_strength = 0.1
 
     def __init__(self, params=None, fallback_size: float | None = None, **kw):
         super().__init__(**kw)

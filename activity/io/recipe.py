@@ -29,7 +29,7 @@ from ..constants import P_ATM, T_REF
 from ..data import load_file
 from ..errors import InputError
 from ..solution import Solution
-from ..species import parse_species
+from ..species import check_solute, solute_key
 from .units import parse_amount, parse_density, parse_pressure, parse_temperature
 
 __all__ = ["RECIPE_KEYS", "load_recipe", "parse_pairs", "solution_from_recipe"]
@@ -38,8 +38,16 @@ RECIPE_KEYS = ("label", "temperature", "pressure", "density", "balance_with", "c
 
 
 def load_recipe(path: str | Path) -> Mapping[str, Any]:
-    """Read a recipe TOML file (InputError names the file when it is malformed)."""
-    recipe = load_file(path)
+    """Read a recipe TOML file (InputError names the file when it is missing or malformed)."""
+    p = Path(path)
+    if p.is_dir():
+        raise InputError("a directory, not a recipe file", field="recipe", value=str(path))
+    try:
+        recipe = load_file(path)
+    except InputError as exc:
+        raise InputError(str(exc).split(": ", 1)[-1], field="recipe", value=str(path)) from None
+    except (UnicodeDecodeError, OSError) as exc:
+        raise InputError(f"cannot read it ({exc.__class__.__name__})", field="recipe", value=str(path)) from None
     if "composition" not in recipe:
         raise InputError("missing the [composition] table", field="recipe", value=str(path))
     return recipe
@@ -55,9 +63,17 @@ def parse_pairs(pairs: Iterable[str], field: str = "composition") -> dict[str, s
     """
     out: dict[str, str] = {}
     for pair in pairs:
+        if not isinstance(pair, str):
+            raise InputError("expected text SPECIES=AMOUNT UNIT", field=field, value=pair)
         name, sep, amount = pair.partition("=")
         if not sep or not name.strip() or not amount.strip():
             raise InputError("expected SPECIES=AMOUNT UNIT, e.g. 'Na+=0.1 mol/kg'", field=field, value=pair)
+        if name.strip() in out:
+            raise InputError(
+                f"given twice ({out[name.strip()]!r} and {amount.strip()!r}); give each once",
+                field=field,
+                value=name.strip(),
+            )
         out[name.strip()] = amount.strip()
     return out
 
@@ -83,12 +99,20 @@ def solution_from_recipe(recipe: Mapping[str, Any], **kw: Any) -> Solution:
     T = parse_temperature(recipe["temperature"]) if "temperature" in recipe else T_REF
     P = parse_pressure(recipe["pressure"]) if "pressure" in recipe else P_ATM
     amounts = {}
+    given: dict[str, str] = {}
     bases = set()
     for name, text in comp.items():
-        sp = parse_species(name)
+        sp = check_solute(name)
+        if sp.name in given:
+            raise InputError(
+                f"species given twice (as {given[sp.name]!r} and {name!r}); give each once",
+                field="composition",
+                value=name,
+            )
+        given[sp.name] = name
         amt = parse_amount(text, field=f"composition[{name!r}]")
         bases.add(amt.basis)
-        amounts[sp.name] = amt.moles(sp.molar_mass)
+        amounts[solute_key(sp.name)] = amt.moles(sp.molar_mass)
     if len(bases) > 1:
         raise InputError(
             "amounts mix per-kg and per-litre units; use one basis for the whole recipe",

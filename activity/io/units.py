@@ -7,12 +7,15 @@ Inside the package everything is SI (K, Pa, V, mol/kg). These helpers turn text 
 
 from __future__ import annotations
 
+import math
 import re
+import warnings
 from dataclasses import dataclass
 from typing import Any
 
+from .._checks import T_MAX, T_MIN, pressure_notes
 from ..constants import P_ATM, ZERO_CELSIUS
-from ..errors import InputError
+from ..errors import ActivityWarning, InputError
 
 __all__ = ["Amount", "parse_amount", "parse_temperature", "parse_pressure", "parse_potential", "parse_density"]
 
@@ -47,7 +50,12 @@ def _split(text: Any, field: str) -> tuple[float, str]:
     unit = m.group(2).replace(" ", "")
     if not unit:
         raise InputError("a unit is required (e.g. '0.1 mol/kg', '25 °C')", field=field, value=text)
-    return float(m.group(1)), unit
+    if "," in unit or ";" in unit:
+        raise InputError("one quantity per field, with a decimal point (not a comma)", field=field, value=text)
+    value = float(m.group(1))
+    if not math.isfinite(value):
+        raise InputError("must be finite", field=field, value=text)
+    return value, unit
 
 
 def _lookup(table: dict, unit: str, field: str, text: str, kind: str):
@@ -117,7 +125,17 @@ def parse_temperature(text: Any, field: str = "temperature") -> float:
     """
     value, unit = _split(text, field)
     scale, offset = _lookup(_TEMPERATURE, unit, field, text, "temperature")
-    return round(value * scale + offset, 10)
+    T = round(value * scale + offset, 10)
+    if not T_MIN <= T <= T_MAX:
+        side = "below" if T < T_MIN else "above"
+        hint = f"; did you mean {value:g} °C?" if unit == "K" and T_MIN <= value + ZERO_CELSIUS <= T_MAX else ""
+        raise InputError(
+            f"{T:g} K is {side} the range covered, {T_MIN - ZERO_CELSIUS:g}–{T_MAX - ZERO_CELSIUS:g} °C "
+            f"({T_MIN:g}–{T_MAX:g} K){hint}",
+            field=field,
+            value=text,
+        )
+    return T
 
 
 def _scaled(text: Any, field: str, table: dict, kind: str, positive: bool = False) -> float:
@@ -129,8 +147,21 @@ def _scaled(text: Any, field: str, table: dict, kind: str, positive: bool = Fals
 
 
 def parse_pressure(text: Any, field: str = "pressure") -> float:
-    """Parse ``'1 atm'``, ``'1 bar'``, ``'101.325 kPa'`` into pascal."""
-    return _scaled(text, field, _PRESSURE, "pressure", positive=True)
+    """Parse ``'1 atm'``, ``'1 bar'``, ``'101.325 kPa'`` into pascal.
+
+    Above 5 kbar (beyond the water correlations) it is an InputError; above 100 bar an
+    :class:`~activity.errors.ActivityWarning` says that the density model ignores pressure.
+    """
+    P = _scaled(text, field, _PRESSURE, "pressure", positive=True)
+    try:
+        notes = pressure_notes(P, field)
+    except InputError:
+        raise InputError(
+            "above 5000 bar, beyond the range of the water correlations", field=field, value=text
+        ) from None
+    for note in notes:
+        warnings.warn(f"{field} = {text!r}: {note}", ActivityWarning, stacklevel=2)
+    return P
 
 
 def parse_potential(text: Any, field: str = "potential") -> float:
@@ -139,5 +170,15 @@ def parse_potential(text: Any, field: str = "potential") -> float:
 
 
 def parse_density(text: Any, field: str = "density") -> float:
-    """Parse ``'1.037 g/cm3'`` or ``'1037 kg/m3'`` into kg/L."""
-    return _scaled(text, field, _DENSITY, "density", positive=True)
+    """Parse ``'1.037 g/cm3'`` or ``'1037 kg/m3'`` into kg/L (0.85–3 kg/L; else an InputError)."""
+    rho = _scaled(text, field, _DENSITY, "density", positive=True)
+    from ..solution import DENSITY_RANGE
+
+    lo, hi = DENSITY_RANGE
+    if not lo <= rho <= hi:
+        raise InputError(
+            f"{rho:g} kg/L is not a plausible density of an aqueous solution ({lo:g}–{hi:g} g/cm³)",
+            field=field,
+            value=text,
+        )
+    return rho

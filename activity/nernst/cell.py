@@ -67,6 +67,27 @@ class CellResult:
         return self.left.potential
 
 
+#: Below this gas pressure (Pa) a value is most likely a pressure in bar or atm given as Pa.
+LOW_PRESSURE = 100.0
+
+
+def check_pressures(pressures: Mapping[str, Any] | None, low_pressure: bool = False) -> None:
+    """Refuse gas pressures that are not finite and positive, or (unless ``low_pressure``) below 100 Pa."""
+    if pressures is None:
+        return
+    if not isinstance(pressures, Mapping):
+        raise InputError("expected a mapping of gas to pressure in Pa", field="pressures", value=pressures)
+    for gas, value in pressures.items():
+        arr = _checks.finite_array(value, f"pressures[{gas!r}]", positive=True)
+        if not low_pressure and arr.size and float(arr.min()) < LOW_PRESSURE:
+            raise InputError(
+                f"below {LOW_PRESSURE:g} Pa: pressures are in Pa (1 bar = 1e5 Pa, 1 atm = 101325 Pa); "
+                "pass low_pressure=True for a trace gas on purpose",
+                field=f"pressures[{gas!r}]",
+                value=float(arr.min()),
+            )
+
+
 class Cell:
     """A galvanic cell ``left | … | right``.
 
@@ -89,10 +110,17 @@ class Cell:
     def __init__(self, left: Any, right: Any, junction: Any = None):
         for side, e in (("left", left), ("right", right)):
             if not isinstance(e, Electrode):
+                hint = (
+                    f" (a name? use standard_couple({e!r}) or a reference electrode such as "
+                    "silver_chloride_electrode('saturated'))"
+                    if isinstance(e, str)
+                    else ""
+                )
                 raise InputError(
-                    "expected a HalfReaction, ReferenceElectrode or IonSelectiveElectrode",
+                    f"expected a HalfReaction, ReferenceElectrode or IonSelectiveElectrode, "
+                    f"not a {type(e).__name__}{hint}",
                     field=side,
-                    value=type(e).__name__,
+                    value=e,
                 )
         if not (junction is None or junction == "henderson" or isinstance(junction, (int, float))):
             raise InputError("must be None, 'henderson' or a number in V", field="junction", value=junction)
@@ -107,6 +135,7 @@ class Cell:
         right_solution: Solution | None = None,
         pressures: Mapping[str, Any] | None = None,
         warn: bool = True,
+        low_pressure: bool = False,
     ) -> CellResult:
         """EMF with both electrode potentials and the junction term.
 
@@ -119,10 +148,14 @@ class Cell:
         left_solution, right_solution : Solution, optional
             Compartment solutions of a two-compartment cell.
         pressures : Mapping[str, array_like], optional
-            Gas partial pressures in Pa.
+            Gas partial pressures in Pa. A pressure below 100 Pa is refused as a likely unit
+            slip (``1`` meaning 1 bar or 1 atm) unless ``low_pressure=True``.
         warn : bool, default True
             Warn once about the result's ``alerts`` (validity excursions of either side).
+        low_pressure : bool, default False
+            Accept gas pressures below 100 Pa (e.g. a trace gas on purpose).
         """
+        check_pressures(pressures, low_pressure)
         model = resolve_model(model)
         comp = {}
         for side, e, given in (("left", self.left, left_solution), ("right", self.right, right_solution)):

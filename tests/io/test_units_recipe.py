@@ -63,7 +63,7 @@ def test_recipe_file(tmp_path):
 @pytest.mark.parametrize(
     "body, field",
     [
-        ("[composition\n", "parameter file"),
+        ("[composition\n", "recipe"),  # a recipe names itself, not a "parameter file"
         ('colour = "blue"\n[composition]\n"Na+" = "1 mol/kg"\n"Cl-" = "1 mol/kg"\n', "recipe"),
         ('[composition]\n"Na+" = "1 mol/kg"\n"Cl-" = "1 mol/L"\n', "composition"),
         ('[composition]\n"Na+" = 1\n', "composition['Na+']"),

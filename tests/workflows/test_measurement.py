@@ -280,7 +280,8 @@ def test_cli_monte_carlo_and_csv(capsys):
     lines = capsys.readouterr().out.strip().splitlines()
     assert lines[0] == "name,distribution,value,standard_uncertainty,dof,sensitivity,contribution,share"
     assert lines[1].startswith("reading [V],normal,-0.26,0.0003,")
-    assert len(lines) == 2
+    assert lines[2].startswith("result: m(Ca^2+) [mol/kg],-,")  # the result itself closes the budget
+    assert len(lines) == 3
 
 
 def test_cli_relative_selectivity_uncertainty(capsys):
