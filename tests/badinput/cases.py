@@ -378,7 +378,7 @@ CLI_ERRORS = [
     ('CLI_ARGPARSE', ['solution', '--json', '--csv', 'Na+=0.1 mol/kg', 'Cl-=0.1 mol/kg'],
      'activity solution: error: argument --csv: not allowed with argument --json (see --help)'),
     ('CLI_ARGPARSE', ['nosuchcommand'],
-     "activity: error: argument COMMAND: invalid choice: 'nosuchcommand' (choose from 'solution', 'models', 'demo', 'potential', 'reference', 'cell', 'invert') (see --help)"),
+     "activity: error: argument COMMAND: invalid choice: 'nosuchcommand' (choose from 'solution', 'models', 'demo', 'calibrate', 'ise-examples', 'ph-calibrate', 'ph-buffers', 'ph-harned', 'speciate', 'potential', 'reference', 'cell', 'invert') (see --help)"),
     ('CLI_ARGPARSE', ['reference'],
      'activity reference: error: the following arguments are required: kind (see --help)'),
     ('CLI_ARGPARSE', ['cell', '--right', 'AgCl/Ag', 'Na+=0.1 mol/kg', 'Cl-=0.1 mol/kg'],

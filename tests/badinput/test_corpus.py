@@ -132,7 +132,7 @@ CLI_NOTES = [  # (argv, text expected on standard error (warning) or standard ou
         ["solution", "Na+=0.05 mol/kg", "K+=0.05 mol/kg", "Cl-=0.1 mol/kg", "-m", "extended-debye-huckel"],
         "do not satisfy Gibbs–Duhem",
     ),
-    (["models"], "15–35 (104 of 116; rest 0–50)"),
+    (["models"], "15–35 (108 of 120; rest 0–50)"),
     (["reference", "silver-chloride"], "note: common-practice value"),
     (
         ["invert", "--couple", "Ag+/Ag", "--table", "{d}/read.csv", "--counter-ion", "NO3-", "-t", "37 °C"],
