@@ -196,12 +196,12 @@ class Solution:
         """Species name → molality (float, or array for a batch)."""
         return {n: _checks.scalar_or_array(self._m[i]) for i, n in enumerate(self._species)}
 
-    def molality(self, name: str, default: Any = 0.0) -> Any:
+    def molality(self, name: str, default: Any = None) -> Any:
         """Molality of one species, mol/kg.
 
-        A species absent from the composition gives ``default`` broadcast to the batch
-        shape (0 by default); pass ``default=None`` to get an InputError naming the
-        species instead.
+        A species absent from the composition is an :class:`InputError` naming it (a
+        misspelt name must not read as zero); pass ``default=0.0`` to get that value,
+        broadcast to the batch shape, instead.
         """
         key = parse_species(name).name
         if key not in self._species:

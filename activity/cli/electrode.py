@@ -462,7 +462,7 @@ def cmd_potential(args: argparse.Namespace) -> int:
 
     hr = standard_couple(args.couple)
     sol = solution_from_args(args)
-    res = hr.evaluate(sol, args.model, pressures=_gases(args.gas))
+    res = hr.evaluate(sol, args.model, pressures=_gases(args.gas), low_pressure=True)  # units were explicit
     rows = [
         ["reaction", str(hr.reaction), ""],
         _temperature_row(_one(res.T)),

@@ -23,6 +23,7 @@ from ..coefficients import resolve_model
 from ..coefficients.base import ModelLike
 from ..errors import InputError, warn_alerts
 from ..solution import Solution
+from .half_reaction import check_pressures
 from .junction import henderson_potential
 from .protocol import Electrode, ElectrodeResult
 
@@ -65,27 +66,6 @@ class CellResult:
     def left_potential(self) -> Any:
         """Potential of the left electrode, V vs SHE."""
         return self.left.potential
-
-
-#: Below this gas pressure (Pa) a value is most likely a pressure in bar or atm given as Pa.
-LOW_PRESSURE = 100.0
-
-
-def check_pressures(pressures: Mapping[str, Any] | None, low_pressure: bool = False) -> None:
-    """Refuse gas pressures that are not finite and positive, or (unless ``low_pressure``) below 100 Pa."""
-    if pressures is None:
-        return
-    if not isinstance(pressures, Mapping):
-        raise InputError("expected a mapping of gas to pressure in Pa", field="pressures", value=pressures)
-    for gas, value in pressures.items():
-        arr = _checks.finite_array(value, f"pressures[{gas!r}]", positive=True)
-        if not low_pressure and arr.size and float(arr.min()) < LOW_PRESSURE:
-            raise InputError(
-                f"below {LOW_PRESSURE:g} Pa: pressures are in Pa (1 bar = 1e5 Pa, 1 atm = 101325 Pa); "
-                "pass low_pressure=True for a trace gas on purpose",
-                field=f"pressures[{gas!r}]",
-                value=float(arr.min()),
-            )
 
 
 class Cell:

@@ -75,6 +75,27 @@ def best_available_model(
     raise InputError("none of the preferred models covers these species", field="model", value=list(preference))
 
 
+#: Below this gas pressure (Pa) a value is most likely a pressure in bar or atm given as Pa.
+LOW_PRESSURE = 100.0
+
+
+def check_pressures(pressures: Mapping[str, Any] | None, low_pressure: bool = False) -> None:
+    """Refuse gas pressures that are not finite and positive, or (unless ``low_pressure``) below 100 Pa."""
+    if pressures is None:
+        return
+    if not isinstance(pressures, Mapping):
+        raise InputError("expected a mapping of gas to pressure in Pa", field="pressures", value=pressures)
+    for gas, value in pressures.items():
+        arr = _checks.finite_array(value, f"pressures[{gas!r}]", positive=True)
+        if not low_pressure and arr.size and float(arr.min()) < LOW_PRESSURE:
+            raise InputError(
+                f"below {LOW_PRESSURE:g} Pa: pressures are in Pa (1 bar = 1e5 Pa, 1 atm = 101325 Pa); "
+                "pass low_pressure=True for a trace gas on purpose",
+                field=f"pressures[{gas!r}]",
+                value=float(arr.min()),
+            )
+
+
 class HalfReaction(Electrode):
     """A reduction half-reaction with its standard potential.
 
@@ -270,6 +291,7 @@ class HalfReaction(Electrode):
         pressures: Mapping[str, Any] | None = None,
         activities: Mapping[str, Any] | None = None,
         warn: bool = True,
+        low_pressure: bool = False,
     ) -> ElectrodeResult:
         """Potential vs SHE at the solution's temperature, with everything used.
 
@@ -284,6 +306,9 @@ class HalfReaction(Electrode):
             Activities that override the model for named species.
         warn : bool, default True
             Warn (:class:`~activity.errors.ValidityWarning`) about the result's ``alerts``.
+        low_pressure : bool, default False
+            Allow gas pressures below 100 Pa (refused otherwise: ``1`` meaning 1 bar is the
+            usual slip).
 
         Returns
         -------
@@ -291,6 +316,7 @@ class HalfReaction(Electrode):
         """
         if not isinstance(sol, Solution):
             raise InputError("expected an activity.Solution", field="solution", value=type(sol).__name__)
+        check_pressures(pressures, low_pressure)
         g = resolve_model(model).activity_coefficients(sol, warn=False)
         res = self.evaluate_in(sol, g, pressures=pressures, activities=activities)
         if warn:

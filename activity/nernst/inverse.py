@@ -170,8 +170,8 @@ def _solve(
             "expected an activity.Solution for the sample matrix", field="matrix", value=type(matrix).__name__
         )
     counter, ratio = _counter_amount(species, counter_ion)
-    base_c = np.asarray(matrix.molality(counter), float) if counter else 0.0
-    base_d = np.asarray(matrix.molality(species), float)
+    base_c = np.asarray(matrix.molality(counter, default=0.0), float) if counter else 0.0
+    base_d = np.asarray(matrix.molality(species, default=0.0), float)
     if np.any(base_d > 0):
         raise InputError(
             "the matrix already holds the determinand; give the matrix without it", field="matrix", value=species

@@ -88,8 +88,8 @@ def henderson_potential(
     lam = np.array([limiting_conductivity(n, table) for n in ions])
     z = np.array([parse_species(n).charge for n in ions], dtype=float)
     batch = np.broadcast_shapes(left.shape, right.shape)
-    cl = np.array([np.broadcast_to(left.molality(n), batch) for n in ions])
-    cr = np.array([np.broadcast_to(right.molality(n), batch) for n in ions])
+    cl = np.array([np.broadcast_to(left.molality(n, default=0.0), batch) for n in ions])
+    cr = np.array([np.broadcast_to(right.molality(n, default=0.0), batch) for n in ions])
     shape = cl.shape
     ex = (slice(None),) + (None,) * (len(shape) - 1)
     dc = cr - cl

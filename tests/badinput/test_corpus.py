@@ -375,7 +375,7 @@ API_CORRECT = [  # (expression, expected value); tolerances are round-off unless
     ("check_solute('CaSO4(aq)').name", "CaSO4"),
     ("Solution({'Na+': '0.1', 'Cl-': 0.1}).ionic_strength", 0.1),  # a number in text, unit by contract: valid
     ("Solution({'Na⁺': 0.1, 'Cl⁻': 0.1}).species", ("Na+", "Cl-")),
-    ("Solution({'Na+': 0.1, 'Cl-': 0.1}).molality('K+')", 0.0),
+    ("Solution({'Na+': 0.1, 'Cl-': 0.1}).molality('K+', default=0.0)", 0.0),
     ("Solution({'Na+': 0.1, 'Cl-': 0.1}).molality('K+', default=-1.0)", -1.0),
     ("Solution({'Na+': 0.1, 'Cl-': 0.1}, T=423.15).T", 423.15),
     ("Solution({'Na+': 0.1, 'Cl-': 0.1}, P=5e8).P", 5e8),

@@ -113,11 +113,11 @@ def test_species_given_twice_in_from_molarity():
         Solution.from_molarity([("Na+", 0.1), ("Na+", 0.2), ("Cl-", 0.3)])
 
 
-def test_molality_of_an_absent_species_can_be_an_error():
+def test_molality_of_an_absent_species_is_an_error():
     sol = Solution({"Na+": 0.1, "Cl-": 0.1})
     with pytest.raises(InputError, match=r"species = 'K\+': not in this solution"):
-        sol.molality("K+", default=None)
-    assert sol.molality("K+") == 0.0  # the default stays 0 until nernst/inverse and junction pass default=0
+        sol.molality("K+")
+    assert sol.molality("K+", default=0.0) == 0.0  # asked for explicitly
 
 
 # ------------------------------------------------------------------ unit traps in Python
@@ -410,3 +410,16 @@ def test_gibbs_duhem_note_exactly_where_phi_breaks_it():
     # Davies: one form for every ion (derivable from one excess Gibbs energy): consistent, no note
     defect, notes = _gibbs_duhem_defect(davies, mix, add)
     assert defect < 1e-4 and not any("Gibbs–Duhem" in n for n in notes)
+
+
+def test_half_reaction_refuses_a_gas_pressure_in_bar_given_as_pa():
+    """The same check as the cell's: 1 'Pa' of hydrogen is almost always 1 bar mistyped."""
+    from activity.nernst import standard_couple
+
+    hcl = Solution({"H+": 0.01, "Cl-": 0.01})
+    with pytest.raises(InputError, match=r"pressures\['H2\(g\)'\] = 1.0: below 100 Pa"):
+        standard_couple("H+/H2").potential(hcl, "davies", pressures={"H2(g)": 1})
+    low = standard_couple("H+/H2").potential(hcl, "davies", pressures={"H2(g)": 1}, low_pressure=True)
+    std = standard_couple("H+/H2").potential(hcl, "davies", pressures={"H2(g)": 1e5})
+    # E = E° − (RT/2F) ln(p/p°) + …: 1 Pa instead of 1 bar raises E by (RT/2F)·ln 1e5 = 147.9 mV at 25 °C
+    assert low - std == pytest.approx(0.0591593 / 2 * 5, abs=1e-6)
