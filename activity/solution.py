@@ -285,7 +285,7 @@ class Solution:
             flat = self._m.reshape(len(self._species), -1)
             out = np.empty((4, flat.shape[1]))
             for s in range(0, flat.shape[1], _SUM_BLOCK):
-                np.matmul(w, flat[:, s : s + _SUM_BLOCK], out=out[:, s : s + _SUM_BLOCK])
+                out[:, s : s + _SUM_BLOCK] = w @ flat[:, s : s + _SUM_BLOCK]
             sums = self._cache["sums"] = out.reshape((4,) + self._shape)
             sums.setflags(write=False)
         return sums

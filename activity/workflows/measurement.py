@@ -243,6 +243,31 @@ def _cell_at(cell: Cell, K: Mapping[str, Any]) -> Cell:
 # ------------------------------------------------------------------ running
 Quantity = Callable[[_Point, Any, list], Any]
 
+#: Models of the spread, kept between calls: a model named by a string is otherwise built
+#: afresh each time, and a parameter-based model (Pitzer) then re-reads and re-binds its
+#: parameter set on every call — about 80 % of a GUM evaluation. The key is the class and
+#: the parameters of the freshly resolved model, so a model registered anew under the same
+#: name, or with other parameters, is not confused with the kept one. A memo, bounded in
+#: size; the models in it are never changed (their bindings are caches of their own).
+_SPREAD_MODELS: dict[tuple, Any] = {}
+_SPREAD_MODELS_MAX = 32
+
+
+def _spread_model(item: Any) -> Any:
+    model = resolve_model(item)
+    if not isinstance(item, str):
+        return model  # an object given by the caller is used as it is
+    try:
+        key = (type(model), repr(sorted(model.params.items(), key=lambda kv: kv[0])))
+    except Exception:  # parameters without a usable repr: no memo
+        return model
+    kept = _SPREAD_MODELS.get(key)
+    if kept is None:
+        if len(_SPREAD_MODELS) >= _SPREAD_MODELS_MAX:
+            _SPREAD_MODELS.clear()
+        kept = _SPREAD_MODELS[key] = model
+    return kept
+
 
 def _spread(quantity: Quantity, point: _Point, names: Any) -> tuple[ModelSpread | None, list[str]]:
     """The quantity at the estimates by each model; notes for the models not counted."""
@@ -251,7 +276,7 @@ def _spread(quantity: Quantity, point: _Point, names: Any) -> tuple[ModelSpread 
         name = getattr(item, "name", item)
         alerts: list[str] = []
         try:
-            y = float(quantity(point, resolve_model(item), alerts))
+            y = float(quantity(point, _spread_model(item), alerts))
         except (ActivityError, ImportError) as exc:
             notes.append(f"model choice: {name} not counted, cannot evaluate this sample ({exc})")
             continue
