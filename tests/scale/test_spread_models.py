@@ -30,8 +30,9 @@ def test_spread_results_unchanged_by_the_memo():
     measurement._SPREAD_MODELS.clear()
     ise = IonSelectiveElectrode("Ca^2+", E0=0.1)
     sample = Solution({"Ca^2+": 0.001, "K+": 0.1, "Cl-": 0.102})
-    first = potential_with_uncertainty(ise, sample, u_amount=0.01, u_e0=1e-4)
-    second = potential_with_uncertainty(ise, sample, u_amount=0.01, u_e0=1e-4)  # kept models
+    names = ["davies", "truesdell-jones", "pitzer"]
+    first = potential_with_uncertainty(ise, sample, u_amount=0.01, u_e0=1e-4, spread_models=names)
+    second = potential_with_uncertainty(ise, sample, u_amount=0.01, u_e0=1e-4, spread_models=names)  # kept
     assert first.spread.values == second.spread.values
     # the same spread from freshly built models, with no memo involved
     fresh = potential_with_uncertainty(
