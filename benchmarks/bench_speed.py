@@ -133,8 +133,9 @@ def row_pitzer(name, quick):
     model = act.get_model("pitzer")
 
     def run():
-        r = model.activity_coefficients(act.Solution._from_arrays(sol.species, sol.charges, sol.m, sol.T_compact,
-                                                                  sol.P_compact), warn=False)
+        r = model.activity_coefficients(
+            act.Solution._from_arrays(sol.species, sol.charges, sol.m, sol.T_compact, sol.P_compact), warn=False
+        )
         return r.log10_gamma, r.osmotic_coefficient, r.in_range
 
     t = interleaved({"run": run}, repeat=3 if quick else 5)

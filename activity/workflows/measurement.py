@@ -47,6 +47,7 @@ from ..solution import Solution
 from ..species import parse_species
 from ..uncertainty import Normal, PropagationResult, propagate
 from .model_choice import ModelSpread, model_spread
+from .progress import Progress, counting
 
 __all__ = ["ChainResult", "potential_with_uncertainty", "emf_with_uncertainty", "molality_with_uncertainty"]
 
@@ -303,6 +304,7 @@ def _run(
     seed: Any = None,
     coverage: float = 0.95,
     spread_models: Any = None,
+    progress: bool = False,
 ) -> ChainResult:
     if not inputs:
         raise InputError("no uncertain input: state at least one non-zero uncertainty", field="uncertainty", value=None)
@@ -314,7 +316,9 @@ def _run(
         return quantity(build(cols), model, alerts)
 
     dists = {i.key: i.dist for i in inputs}
-    result = propagate(f, dists, method, trials=trials, seed=seed, coverage=coverage)
+    mc = str(method).replace("_", "-").lower() in ("monte-carlo", "mc")
+    with Progress(trials if mc else None, progress=progress and mc, desc="Monte Carlo", unit="trial") as bar:
+        result = propagate(counting(f, bar), dists, method, trials=trials, seed=seed, coverage=coverage)
     labels = {i.key: i.label for i in inputs}
     result = dataclasses.replace(
         result, budget=tuple(dataclasses.replace(r, name=labels[r.name]) for r in result.budget)
@@ -348,6 +352,9 @@ _OPTIONS_DOC = """
         As for :func:`activity.uncertainty.propagate`.
     spread_models : sequence of str or ActivityModel, optional
         Models for the model-choice spread (default: every registered model).
+    progress : bool, default False
+        Show a progress bar of the Monte Carlo trials on standard error (only when it is a
+        terminal; see :mod:`activity.workflows.progress`).
 """
 
 

@@ -25,9 +25,7 @@ def old_at(bound, T):
     T = np.asarray(T, dtype=float)
     b = basis(T)
     P = {
-        k: np.tensordot(w, b, axes=(-1, 0))
-        for k, w in bound.blocks.items()
-        if bound.flags[k] or k in ("b0", "Bk", "C")
+        k: np.tensordot(w, b, axes=(-1, 0)) for k, w in bound.blocks.items() if bound.flags[k] or k in ("b0", "Bk", "C")
     }
     P.update(b0T=P["b0"].swapaxes(0, 1), BkT=P["Bk"].swapaxes(1, 2), CT=P["C"].swapaxes(0, 1))
     return P
