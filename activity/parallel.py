@@ -49,6 +49,24 @@ def _kind(x: Any) -> str:
     return "numpy"
 
 
+#: Models resolved from a name in this process (a worker evaluates many blocks: a model
+#: such as Pitzer then reads its parameter set and binds its species once, not per block).
+#: A memo keyed by the class and parameters of the freshly resolved model.
+_MODELS: dict[tuple, Any] = {}
+
+
+def _model(model: ModelLike) -> Any:
+    fresh = resolve_model(model)
+    if not isinstance(model, str):
+        return fresh
+    key = (type(fresh), repr(sorted(fresh.params.items(), key=lambda kv: kv[0])))
+    if key not in _MODELS:
+        if len(_MODELS) >= 32:
+            _MODELS.clear()
+        _MODELS[key] = fresh
+    return _MODELS[key]
+
+
 def _evaluate_block(model: Any, species: tuple, output: str, in_range: bool, *blocks: np.ndarray) -> np.ndarray:
     """One block: molality blocks (one per species), then T and P blocks → stacked results.
 
@@ -59,7 +77,7 @@ def _evaluate_block(model: Any, species: tuple, output: str, in_range: bool, *bl
 
     *ms, T, P = blocks
     sol = Solution(dict(zip(species, ms)), T=T, P=P, neutrality="ignore")
-    res = resolve_model(model).activity_coefficients(sol, warn=False)
+    res = _model(model).activity_coefficients(sol, warn=False)
     lg = np.asarray(res.log10_gamma)
     out = 10.0**lg if output == "gamma" else lg
     if in_range:
