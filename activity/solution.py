@@ -45,11 +45,6 @@ def _check_each(names: list[str], values: list[Any]) -> None:
         _checks.finite_array(value, f"composition[{name!r}]", nonnegative=True)
 
 
-#: Rows per block when the species sums are formed (a block of the stacked molalities stays
-#: in cache and the product runs single-threaded in BLAS: faster than one call on 10⁶ rows).
-_SUM_BLOCK = 8192
-
-
 class Solution:
     """An aqueous solution (or a batch of them) on the molal scale.
 
@@ -274,8 +269,8 @@ class Solution:
     def _sums(self) -> np.ndarray:
         """Σ z m, ½ Σ |z| m, ½ Σ z² m (= I) and Σ m, shape ``(4,) + shape``, formed once.
 
-        One product of a 4 × n weight matrix with the molalities, by blocks of rows: the
-        molalities are read once for all four sums (the neutrality check, the ionic
+        One product of a 4 × n weight matrix with the molalities: the molalities are read
+        once for all four sums (the neutrality check, the ionic
         strength and the total molality of every model call share them).
         """
         sums = self._cache.get("sums")
@@ -283,10 +278,7 @@ class Solution:
             z = self._charges.astype(float)
             w = np.stack([z, 0.5 * np.abs(z), 0.5 * z * z, np.ones_like(z)])
             flat = self._m.reshape(len(self._species), -1)
-            out = np.empty((4, flat.shape[1]))
-            for s in range(0, flat.shape[1], _SUM_BLOCK):
-                out[:, s : s + _SUM_BLOCK] = w @ flat[:, s : s + _SUM_BLOCK]
-            sums = self._cache["sums"] = out.reshape((4,) + self._shape)
+            sums = self._cache["sums"] = (w @ flat).reshape((4,) + self._shape)
             sums.setflags(write=False)
         return sums
 
