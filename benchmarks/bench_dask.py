@@ -1,4 +1,4 @@
-"""Beyond one process: activity.parallel on dask (prints figures; asserts nothing).
+"""Beyond one process: activity.coefficients.parallel on dask (prints figures; asserts nothing).
 
 Run::
 
@@ -43,7 +43,7 @@ SEAWATER = {
 def pitzer_graph(n, chunk):
     import dask.array as da
 
-    from activity.parallel import activity_coefficients
+    from activity.coefficients.parallel import activity_coefficients
 
     k = da.random.default_rng(1).uniform(0.2, 2.0, n, chunks=chunk)  # a scale factor per row
     g = activity_coefficients({s: v * k for s, v in SEAWATER.items()}, "pitzer", output="log10_gamma")
@@ -91,7 +91,7 @@ def davies_child(side, chunk):
     import dask.array as da
     import numpy as np
 
-    from activity.parallel import activity_coefficients
+    from activity.coefficients.parallel import activity_coefficients
 
     warnings.simplefilter("ignore")
     m = da.linspace(1e-4, 0.5, side, chunks=chunk)[:, None]

@@ -8,8 +8,8 @@ import numpy as np
 import pytest
 
 from activity.coefficients import get_model
+from activity.coefficients.parallel import activity_coefficients
 from activity.errors import InputError
-from activity.parallel import activity_coefficients
 from activity.solution import Solution
 
 da = pytest.importorskip("dask.array")

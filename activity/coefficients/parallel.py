@@ -28,11 +28,11 @@ from typing import Any
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .coefficients import resolve_model
-from .coefficients.base import ModelLike
-from .constants import P_ATM, T_REF
-from .errors import InputError
-from .species import parse_species
+from ..constants import P_ATM, T_REF
+from ..errors import InputError
+from ..species import parse_species
+from . import resolve_model
+from .base import ModelLike
 
 __all__ = ["activity_coefficients"]
 
@@ -73,7 +73,7 @@ def _evaluate_block(model: Any, species: tuple, output: str, in_range: bool, *bl
     Runs in the worker; the model (an object or a registered name) is resolved there.
     Returns shape ``(n_species [+ 1],) + block shape``; the extra row is the in-range flag.
     """
-    from .solution import Solution
+    from ..solution import Solution
 
     *ms, T, P = blocks
     sol = Solution(dict(zip(species, ms)), T=T, P=P, neutrality="ignore")
