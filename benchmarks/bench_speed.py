@@ -44,6 +44,7 @@ ROWS = {
     "pitzer-one-T": ("Pitzer 8-ion seawater, one T, γ+φ+checks, 10⁶ rows", "rows/s", "≥ 2.5e6"),
     "pitzer-T-per-row": ("Pitzer 8-ion seawater, T per row, γ+φ+checks, 10⁶ rows", "rows/s", "≥ 1e6"),
     "pitzer-memory": ("Pitzer peak memory above the output (γ, φ, in_range), 10⁶ rows", "MB", "≤ 150"),
+    "pitzer-checks": ("  of which the per-interaction range checks alone (see report)", "MB", ""),
     "ise": ("ISE potential / the model alone, 10⁶ rows", "x", "≤ 1.3"),
     "inverse": ("inverse (reading → molality) / bare numpy secant, 10⁵ rows", "x", "≤ 1.5"),
     "monte-carlo": ("10⁶ Monte Carlo trials, full chain / bare numpy MC", "x", "≤ 1.2"),
@@ -160,6 +161,31 @@ def row_pitzer_memory(name, quick):
     peak = tracemalloc.get_traced_memory()[1]
     tracemalloc.stop()
     return (peak - sum(np.asarray(a).nbytes for a in out)) / 1e6
+
+
+def row_pitzer_checks(name, quick):
+    """Peak memory of the per-interaction range checks alone: Bound.pair_checks where the
+    checkout has it (the lean form, not yet called by the model), else the model's own."""
+    import tracemalloc
+
+    import numpy as np
+
+    import activity as act
+
+    n = 100_000 if quick else 1_000_000
+    sol = _seawater(n, False)
+    model = act.get_model("pitzer")
+    bound = model.bind(sol.species, sol.charges)
+    I = np.asarray(sol.ionic_strength)
+    lean = getattr(bound, "pair_checks", None)
+    tracemalloc.start()
+    if lean is not None:
+        lean(sol.m.reshape(len(sol.species), n), I, sol.T_compact)
+    else:
+        model._pair_checks(sol, bound)
+    peak = tracemalloc.get_traced_memory()[1]
+    tracemalloc.stop()
+    return peak / 1e6
 
 
 def row_ise(name, quick):
@@ -326,6 +352,7 @@ RUNNERS = {
     "pitzer-one-T": row_pitzer,
     "pitzer-T-per-row": row_pitzer,
     "pitzer-memory": row_pitzer_memory,
+    "pitzer-checks": row_pitzer_checks,
     "ise": row_ise,
     "inverse": row_inverse,
     "monte-carlo": row_monte_carlo,

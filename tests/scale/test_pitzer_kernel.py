@@ -254,3 +254,25 @@ def test_model_results_for_seawater_unchanged_by_blocking():
         one = model.activity_coefficients(sol[i], warn=False)
         np.testing.assert_allclose(batch.log10_gamma[:, i], one.log10_gamma, rtol=0, atol=1e-14)
         assert batch.osmotic_coefficient[i] == pytest.approx(one.osmotic_coefficient, rel=1e-14)
+
+
+@settings(deadline=None, max_examples=25)
+@given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 400), t_rows=st.booleans(), hot=st.booleans())
+def test_lean_pair_checks_equal_the_models(seed, n, t_rows, hot):
+    rng = np.random.default_rng(seed)
+    species = ["Na+", "K+", "Mg^2+", "Cl-", "SO4^2-", "CO2"]
+    comp = {s: rng.uniform(0, 1, n) * rng.choice([0.01, 1.0, 8.0]) for s in species}
+    comp["K+"][rng.random(n) < 0.3] = 0.0  # absent in some rows: its checks do not apply there
+    T0 = 340.0 if hot else 298.15  # 340 K lies outside every shipped 0–50 °C range
+    T = rng.uniform(275.0, T0 + 10, n) if t_rows else T0
+    sol = Solution(comp, T=T, neutrality="ignore")
+    model = PitzerModel()
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        bound = model.bind(sol.species, sol.charges)
+    ok_ref, notes_ref = model._pair_checks(sol, bound)
+    ok, notes = bound.pair_checks(sol.m.reshape(len(species), n), np.asarray(sol.ionic_strength), sol.T_compact)
+    np.testing.assert_array_equal(ok, ok_ref)
+    assert notes == notes_ref  # same notes, same order

@@ -17,9 +17,11 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from itertools import combinations
+from typing import Any
 
 import numpy as np
 
+from ...constants import ZERO_CELSIUS
 from ._params import ParameterSet, basis
 
 __all__ = ["Bound", "bind"]
@@ -154,6 +156,57 @@ class Bound:
         self._all_weights = (
             np.concatenate([c.weights for c in self.contractions.values()]) if sum(sizes) else np.zeros((0, 5))
         )
+
+    def pair_checks(self, m: np.ndarray, I: np.ndarray, T: Any) -> tuple[np.ndarray, tuple]:
+        """Rows beyond an interaction's fitted ionic strength or temperature range.
+
+        ``m`` (n, N), ``I`` (N,), ``T`` scalar or (N,). Returns (ok (N,), notes), the same as
+        ``PitzerModel._pair_checks`` (the notes word for word), with memory O(N) instead of
+        O(n_checks · N): the checks run one at a time, and a check that cannot fail (no
+        ionic-strength limit, T inside its range) costs nothing.
+        """
+        N = m.shape[1]
+        ok = np.ones(N, dtype=bool)
+        notes = []
+        T = np.asarray(T, dtype=float)
+        scalar_T = T.ndim == 0
+        positive: dict[int, np.ndarray] = {}
+
+        def present(idx: np.ndarray) -> np.ndarray:
+            out = None
+            for i in idx.tolist():
+                if i not in positive:
+                    positive[i] = m[i] > 0
+                out = positive[i] if out is None else out & positive[i]
+            return out
+
+        for label, idx, i_max, t_lo, t_hi in self.checks:
+            if scalar_T:
+                t_out = bool(T < t_lo - 1e-9 or T > t_hi + 1e-9)
+                if not np.isfinite(i_max) and not t_out:
+                    continue
+            # 1e-9 (relative for I, in K for T): round-off slack, as in the model's check
+            pres = present(idx)
+            high = pres & (I > i_max * (1 + 1e-9)) if np.isfinite(i_max) else None
+            if scalar_T:
+                cold = pres if t_out else None
+            else:
+                cold = pres & ((T < t_lo - 1e-9) | (T > t_hi + 1e-9))
+            nh = int(np.count_nonzero(high)) if high is not None else 0
+            nc = int(np.count_nonzero(cold)) if cold is not None else 0
+            if nh:
+                notes.append(
+                    f"pitzer: {label} parameters hold to I = {i_max:g} mol/kg; "
+                    f"I up to {float(np.max(I[high])):.4g} in {nh} of {N} row(s)"
+                )
+                ok &= ~high
+            if nc:
+                notes.append(
+                    f"pitzer: {label} parameters hold at {t_lo - ZERO_CELSIUS:g}–{t_hi - ZERO_CELSIUS:g} °C; "
+                    f"outside in {nc} of {N} row(s)"
+                )
+                ok &= ~cold
+        return ok, tuple(notes)
 
     def at(self, T: np.ndarray) -> dict:
         """Non-zero coefficients of every contraction at ``T``: scalar T gives vectors (nnz,)
