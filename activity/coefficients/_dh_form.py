@@ -112,10 +112,18 @@ class DebyeHuckelForm(ActivityModel):
         out = np.empty((k,) + I.shape)
         As = A * s
         for (size, d), idx in bound.groups:
-            K = B * size + d
-            h = np.asarray(-As / (1.0 + K * s) if (size or d) else -As)
+            if size or d:
+                # q = A√I / (1 + K√I), formed in place; K = 1 (Davies) needs no product
+                K = B * size + d
+                q = np.add(s, 1.0) if (not size and d == 1.0) else np.add(np.multiply(K, s), 1.0)
+                q = np.divide(As, q, out=q) if np.ndim(q) and np.shape(q) == np.shape(As) else As / q
+            else:
+                q = As
             if t.c:
-                h = h + (t.c * A) * I if h.ndim == 0 else np.add(h, (t.c * A) * I, out=h)
+                h = np.asarray((t.c * A) * I)
+                h = h - q if h.ndim == 0 or h.shape != np.shape(q) else np.subtract(h, q, out=h)
+            else:
+                h = np.negative(q)
             for i in idx:
                 np.multiply(h, bound.z2[i], out=out[i, ...])
                 if t.b[i]:
