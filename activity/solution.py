@@ -57,6 +57,12 @@ def _items(composition: Any) -> list[tuple[str, Any]]:
 DENSITY_RANGE = (0.85, 3.0)
 
 
+def _check_each(names: list[str], values: list[Any]) -> None:
+    """Check every species' molalities, raising the InputError that names the first bad one."""
+    for name, value in zip(names, values):
+        _checks.finite_array(value, f"composition[{name!r}]", nonnegative=True)
+
+
 class Solution:
     """An aqueous solution (or a batch of them) on the molal scale.
 
@@ -105,6 +111,7 @@ class Solution:
             raise InputError(f"must be one of {_NEUTRALITY}", field="neutrality", value=neutrality)
         names: list[str] = []
         values: list[np.ndarray] = []
+        raw_values: list[Any] = []
         charges: list[int] = []
         for raw, value in _items(composition):
             sp = parse_species(raw)
@@ -119,18 +126,29 @@ class Solution:
                 raise InputError(f"species given twice (as {sp.name!r})", field="composition", value=raw)
             names.append(sp.name)
             charges.append(sp.charge)
-            values.append(_checks.finite_array(value, f"composition[{sp.name!r}]", nonnegative=True))
+            try:
+                values.append(np.asarray(value, dtype=float))  # checked below, all at once
+            except (TypeError, ValueError):
+                raise InputError("not a number", field=f"composition[{sp.name!r}]", value=value) from None
+            raw_values.append(value)
         T_arr = _checks.temperature(T)
         P_arr = _checks.finite_array(P, "P", positive=True)
         try:
             shape = np.broadcast_shapes(*(v.shape for v in values), T_arr.shape, P_arr.shape)
         except ValueError:
+            _check_each(names, raw_values)  # a bad value is named before a shape mismatch
             lengths = {n: v.shape for n, v in zip(names, values)}
             lengths.update(T=T_arr.shape, P=P_arr.shape)
             raise InputError(f"batch shapes do not broadcast: {lengths}", field="composition", value=None) from None
         m = np.empty((len(names),) + shape)
         for i, v in enumerate(values):
             m[i] = v
+        # One pass over the stacked array instead of three per species: min is NaN when any
+        # value is NaN, so "min ≥ 0 and max finite" holds exactly when every value is finite
+        # and non-negative. Only when it fails are the species checked one by one, which
+        # names the first offending species and value as before.
+        if m.size == 0 or not (m.min() >= 0.0 and np.isfinite(m.max())):
+            _check_each(names, raw_values)
         self._init(tuple(names), np.array(charges, dtype=int), m, T_arr, P_arr, shape)
         if balance_with is not None:
             balanced = self.balance(balance_with)
@@ -163,6 +181,19 @@ class Solution:
             np.asarray(P, float),
             shape,
         )
+        return obj
+
+    @classmethod
+    def _adopt(cls, species: tuple, charges: np.ndarray, m: np.ndarray, T: np.ndarray, P: np.ndarray) -> Solution:
+        """Wrap arrays that are already checked and owned by the caller (internal, no copy).
+
+        ``m`` must be a float array of shape ``(len(species),) + shape`` that the caller
+        will not change afterwards (it is made read-only), ``T`` and ``P`` float arrays
+        broadcasting to ``shape``; nothing is validated. For inner loops such as the
+        inverse's secant, which build a solution per step from a checked one.
+        """
+        obj = cls.__new__(cls)
+        obj._init(species, charges, m, T, P, m.shape[1:])
         return obj
 
     # ------------------------------------------------------------------ views
@@ -250,31 +281,44 @@ class Solution:
     @property
     def ionic_strength(self) -> Any:
         """Ionic strength I = ½ Σ z² m in mol/kg."""
-        if "I" not in self._cache:
-            self._cache["I"] = self._weighted(0.5 * self._charges.astype(float) ** 2)
-        return _checks.scalar_or_array(self._cache["I"])
+        return _checks.scalar_or_array(self._sums()[2])
 
     @property
     def total_molality(self) -> Any:
         """Σ m over all solute species, mol/kg."""
-        return _checks.scalar_or_array(self._weighted(np.ones(len(self._species))))
+        return _checks.scalar_or_array(self._sums()[3])
 
     @property
     def charge_balance(self) -> Any:
         """Σ z m in mol/kg (0 for an electrically neutral solution)."""
-        return _checks.scalar_or_array(self._weighted(self._charges.astype(float)))
+        return _checks.scalar_or_array(self._sums()[0])
 
-    def _weighted(self, w: np.ndarray) -> np.ndarray:
-        flat = self._m.reshape(len(self._species), -1)
-        return (w @ flat).reshape(self._shape)
+    def _sums(self) -> np.ndarray:
+        """Σ z m, ½ Σ |z| m, ½ Σ z² m (= I) and Σ m, shape ``(4,) + shape``, formed once.
+
+        One product of a 4 × n weight matrix with the molalities: the molalities are read
+        once for all four sums (the neutrality check, the ionic
+        strength and the total molality of every model call share them).
+        """
+        sums = self._cache.get("sums")
+        if sums is None:
+            z = self._charges.astype(float)
+            w = np.stack([z, 0.5 * np.abs(z), 0.5 * z * z, np.ones_like(z)])
+            flat = self._m.reshape(len(self._species), -1)
+            sums = self._cache["sums"] = (w @ flat).reshape((4,) + self._shape)
+            sums.setflags(write=False)
+        return sums
 
     # -------------------------------------------------------------- changes
     def _check_neutrality(self, mode: str, tol: float) -> None:
-        imbalance = np.abs(self._weighted(self._charges.astype(float)))
-        scale = self._weighted(0.5 * np.abs(self._charges.astype(float)))
-        rel = np.divide(imbalance, scale, out=np.zeros_like(imbalance), where=scale > 0)
-        bad = rel > tol
+        sums = self._sums()
+        imbalance = np.abs(sums[0])
+        scale = sums[1]
+        # |Σ z m| > tol · ½ Σ |z| m is "relative imbalance above tol" without a division; rows
+        # with no ions (scale 0) have no imbalance and pass.
+        bad = imbalance > tol * scale
         if np.any(bad):
+            rel = np.divide(imbalance, scale, out=np.zeros_like(imbalance), where=scale > 0)
             worst = float(np.max(rel))
             n_bad = int(np.count_nonzero(bad))
             msg = (

@@ -144,24 +144,39 @@ class DebyeHuckelForm(ActivityModel):
         return np.asarray(debye_huckel_A(T, P)), np.asarray(debye_huckel_B(T, P))
 
     def compute_log10_gamma(self, sol, bound, I):
-        A, B = self._AB(sol)
+        # Per group of ions sharing a denominator: h = −A √I/(1 + K √I) + c A I, then
+        # log10 γ_i = z_i² h + b_i I, one pass per ion (the row arrays are formed once per
+        # group, not once per ion). B(T) is evaluated only when an ion size multiplies it
+        # (not for Davies or the limiting law: it costs a second pass of the water model).
+        if any(size for (size, _), _ in bound.groups):
+            A, B = self._AB(sol)
+        else:
+            A, B = np.asarray(debye_huckel_A(sol.T_compact, sol.P_compact)), 0.0
         s = np.sqrt(I)
         k = len(bound.z2)
+        t = bound.terms
         out = np.empty((k,) + I.shape)
         As = A * s
         for (size, d), idx in bound.groups:
-            K = B * size + d
-            f = As / (1.0 + K * s) if (size or d) else As
+            if size or d:
+                # q = A√I / (1 + K√I), formed in place; K = 1 (Davies) needs no product
+                K = B * size + d
+                q = np.add(s, 1.0) if (not size and d == 1.0) else np.add(np.multiply(K, s), 1.0)
+                q = np.divide(As, q, out=q) if np.ndim(q) and np.shape(q) == np.shape(As) else As / q
+            else:
+                q = As
+            if t.c:
+                h = np.asarray((t.c * A) * I)
+                h = h - q if h.ndim == 0 or h.shape != np.shape(q) else np.subtract(h, q, out=h)
+            else:
+                h = np.negative(q)
             for i in idx:
-                np.multiply(f, -bound.z2[i], out=out[i, ...])
-        t = bound.terms
+                np.multiply(h, bound.z2[i], out=out[i, ...])
+                if t.b[i]:
+                    out[i] += t.b[i] * I
         for i in range(k):
             if bound.z2[i] == 0:
                 out[i] = t.b[i] * I
-                continue
-            beta = t.c * A * bound.z2[i] + t.b[i] if t.c else t.b[i]
-            if np.any(beta):
-                out[i] += beta * I
         return out
 
     def compute_osmotic(self, sol, bound, I):

@@ -356,10 +356,18 @@ class IonSelectiveElectrode(Electrode):
         if any(sol.charges[k] != self.z or not np.array_equal(lg[k], lg[i]) for _, k in present):
             return None
         shape = np.broadcast_shapes(sol.shape, *(np.shape(self.selectivity[j]) for j, _ in present))
-        total = np.array(np.broadcast_to(sol.m[i], shape), dtype=float)
-        for j, k in present:
-            total += self.selectivity[j] * sol.m[k]
-        if not np.all(total > 0):
+        # mᵢ + Σ Kᵢⱼ mⱼ written into one new array (no copy of mᵢ first); "min > 0" is
+        # False for NaN as well, without a boolean temporary
+        total = np.empty(shape)
+        if present:
+            (j0, k0), rest = present[0], present[1:]
+            np.multiply(self.selectivity[j0], sol.m[k0], out=total)
+            for j, k in rest:
+                total += self.selectivity[j] * sol.m[k]
+            total += sol.m[i]
+        else:
+            np.copyto(total, np.broadcast_to(sol.m[i], shape))
+        if not (total.size == 0 or total.min() > 0):
             return None  # the general path raises the error naming the field
         ln_total = np.log(total, out=total)
         ln_total += LN10 * lg[i]

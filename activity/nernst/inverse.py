@@ -25,7 +25,7 @@ from numpy.typing import ArrayLike
 
 from .. import _checks
 from ..coefficients import resolve_model
-from ..coefficients.base import ModelLike
+from ..coefficients.base import CoefficientResult, ModelLike
 from ..constants import F, R
 from ..errors import ConvergenceError, InputError, warn_alerts
 from ..solution import Solution
@@ -154,6 +154,49 @@ def _counter_amount(species: str, counter_ion: str | None) -> tuple[str | None, 
     return parse_species(counter_ion).name, abs(zd / zc)
 
 
+def _builder(
+    matrix: Solution, species: str, counter: str | None, ratio: float, base_c: Any, shape: tuple
+) -> Callable[[np.ndarray], Solution]:
+    """x = ln m ↦ the matrix with the determinand (and its counter-ion) at m.
+
+    The species order, charges, the matrix molalities broadcast to the batch, T and P are
+    fixed once; each step only writes the determinand's row and the counter-ion's row into
+    a copy and wraps it without re-validating (the matrix was checked when it was built,
+    and exp(x) is finite and positive), so a step costs a copy and two row writes rather
+    than a new :class:`Solution` from a mapping.
+    """
+    names = list(matrix.species)
+    charges = list(matrix.charges)
+    for name in (species, counter):
+        if name is not None and name not in names:
+            names.append(name)
+            charges.append(parse_species(name).charge)
+    k = len(names)
+    base = np.zeros((k,) + shape)
+    n0 = len(matrix.species)
+    lead = (1,) * (len(shape) - len(matrix.shape))  # batch axes align on the right
+    base[:n0] = np.broadcast_to(matrix.m.reshape((n0,) + lead + matrix.shape), (n0,) + shape)
+    i_d = names.index(species)
+    i_c = names.index(counter) if counter is not None else None
+    c_row = np.broadcast_to(base_c, shape)
+    species_t = tuple(names)
+    charges_a = np.array(charges, dtype=int)
+    T = np.asarray(matrix.T_compact, float)
+    P = np.asarray(matrix.P_compact, float)
+
+    def build(x: np.ndarray) -> Solution:
+        m = base.copy()
+        row = m[i_d, ...]
+        np.exp(x, out=row)
+        if i_c is not None:
+            crow = m[i_c, ...]
+            np.multiply(row, ratio, out=crow)
+            crow += c_row
+        return Solution._adopt(species_t, charges_a, m, T, P)
+
+    return build
+
+
 def _solve(
     forward: Callable[[Solution], Any],
     target: Any,
@@ -178,13 +221,7 @@ def _solve(
         )
     target = _checks.finite_array(target, "potential")
     shape = np.broadcast_shapes(matrix.shape, target.shape)
-
-    def build(x: np.ndarray) -> Solution:
-        m = np.exp(x)
-        comp = {species: m}
-        if counter:
-            comp[counter] = base_c + ratio * m
-        return matrix.replace(comp, neutrality="ignore")
+    build = _builder(matrix, species, counter, ratio, base_c, shape)
 
     def f(x: np.ndarray) -> np.ndarray:
         return np.broadcast_to(np.asarray(forward(build(x)), float), shape) - target
@@ -300,7 +337,11 @@ def molality_from_potential(
 
     def forward(s: Solution) -> Any:
         s, _ = free_solution(s, model, speciation)
-        return electrode.evaluate_in(s, model.activity_coefficients(s, warn=False), pressures=pressures).potential
+        # Per step only log10 γ is needed: the validity checks, notes and φ come from the
+        # full evaluation of the converged solution in _solve.
+        lg = model.log10_gamma(s)
+        g = CoefficientResult(s.species, lg, s.ionic_strength, model.name)
+        return electrode.evaluate_in(s, g, pressures=pressures).potential
 
     res = _solve(forward, E, matrix, name, counter_ion, model, rtol, max_iter, warn)
     if speciation is None:

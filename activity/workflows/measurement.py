@@ -47,6 +47,7 @@ from ..solution import Solution
 from ..species import parse_species
 from ..uncertainty import Normal, PropagationResult, propagate
 from .model_choice import ModelSpread, model_spread
+from .progress import Progress, counting
 
 __all__ = ["ChainResult", "potential_with_uncertainty", "emf_with_uncertainty", "molality_with_uncertainty"]
 
@@ -243,6 +244,31 @@ def _cell_at(cell: Cell, K: Mapping[str, Any]) -> Cell:
 # ------------------------------------------------------------------ running
 Quantity = Callable[[_Point, Any, list], Any]
 
+#: Models of the spread, kept between calls: a model named by a string is otherwise built
+#: afresh each time, and a parameter-based model (Pitzer) then re-reads and re-binds its
+#: parameter set on every call — about 80 % of a GUM evaluation. The key is the class and
+#: the parameters of the freshly resolved model, so a model registered anew under the same
+#: name, or with other parameters, is not confused with the kept one. A memo, bounded in
+#: size; the models in it are never changed (their bindings are caches of their own).
+_SPREAD_MODELS: dict[tuple, Any] = {}
+_SPREAD_MODELS_MAX = 32
+
+
+def _spread_model(item: Any) -> Any:
+    model = resolve_model(item)
+    if not isinstance(item, str):
+        return model  # an object given by the caller is used as it is
+    try:
+        key = (type(model), repr(sorted(model.params.items(), key=lambda kv: kv[0])))
+    except Exception:  # parameters without a usable repr: no memo
+        return model
+    kept = _SPREAD_MODELS.get(key)
+    if kept is None:
+        if len(_SPREAD_MODELS) >= _SPREAD_MODELS_MAX:
+            _SPREAD_MODELS.clear()
+        kept = _SPREAD_MODELS[key] = model
+    return kept
+
 
 def _spread(quantity: Quantity, point: _Point, names: Any) -> tuple[ModelSpread | None, list[str]]:
     """The quantity at the estimates by each model; notes for the models not counted."""
@@ -251,7 +277,7 @@ def _spread(quantity: Quantity, point: _Point, names: Any) -> tuple[ModelSpread 
         name = getattr(item, "name", item)
         alerts: list[str] = []
         try:
-            y = float(quantity(point, resolve_model(item), alerts))
+            y = float(quantity(point, _spread_model(item), alerts))
         except (ActivityError, ImportError) as exc:
             notes.append(f"model choice: {name} not counted, cannot evaluate this sample ({exc})")
             continue
@@ -278,6 +304,7 @@ def _run(
     seed: Any = None,
     coverage: float = 0.95,
     spread_models: Any = None,
+    progress: bool = False,
 ) -> ChainResult:
     if not inputs:
         raise InputError("no uncertain input: state at least one non-zero uncertainty", field="uncertainty", value=None)
@@ -289,7 +316,9 @@ def _run(
         return quantity(build(cols), model, alerts)
 
     dists = {i.key: i.dist for i in inputs}
-    result = propagate(f, dists, method, trials=trials, seed=seed, coverage=coverage)
+    mc = str(method).replace("_", "-").lower() in ("monte-carlo", "mc")
+    with Progress(trials if mc else None, progress=progress and mc, desc="Monte Carlo", unit="trial") as bar:
+        result = propagate(counting(f, bar), dists, method, trials=trials, seed=seed, coverage=coverage)
     labels = {i.key: i.label for i in inputs}
     result = dataclasses.replace(
         result, budget=tuple(dataclasses.replace(r, name=labels[r.name]) for r in result.budget)
@@ -323,6 +352,9 @@ _OPTIONS_DOC = """
         As for :func:`activity.uncertainty.propagate`.
     spread_models : sequence of str or ActivityModel, optional
         Models for the model-choice spread (default: every registered model).
+    progress : bool, default False
+        Show a progress bar of the Monte Carlo trials on standard error (only when it is a
+        terminal; see :mod:`activity.workflows.progress`).
 """
 
 

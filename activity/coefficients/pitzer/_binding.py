@@ -4,15 +4,24 @@ Everything here depends on the species set only. Coefficients are kept as basis 
 (last axis of length 5, see :func:`._params.basis`) so that evaluating them at one
 temperature or at an array of temperatures is a single matrix product
 (:meth:`Bound.at`).
+
+The kernel contracts coefficient blocks with molality vectors ("Σ_a β0_ca m_a" for every
+c). Most entries of those blocks are zero (in the shipped seawater set, 137 of 368), so
+each contraction is stored sparse (:class:`Contraction`: the non-zero (row, column) pairs
+and their basis weights) and evaluated by a gather, a product and a segmented sum —
+no BLAS call, so no thread pool to contend for, and no multiplication of zeros. With a
+temperature per row only the non-zero coefficients are evaluated per row.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
 from itertools import combinations
+from typing import Any
 
 import numpy as np
 
+from ...constants import ZERO_CELSIUS
 from ._params import ParameterSet, basis
 
 __all__ = ["Bound", "bind"]
@@ -27,6 +36,90 @@ def default_alpha(zc: int, za: int) -> tuple[float, float]:
     if abs(zc) == 2 and abs(za) == 2:
         return 1.4, 12.0
     return 2.0, 12.0
+
+
+@dataclass(frozen=True)
+class Contraction:
+    """out[r] = Σ_j A[r, j] x[j] over the non-zero entries of a block A of shape lead + (J,).
+
+    ``rows``/``cols`` are the non-zero pairs in row order, ``weights`` their basis weights
+    (nnz, 5); ``urows`` the distinct rows and ``starts`` where each begins in the pairs.
+    """
+
+    lead: tuple
+    cols: np.ndarray
+    urows: np.ndarray
+    starts: np.ndarray
+    weights: np.ndarray
+
+    @classmethod
+    def of(cls, w: np.ndarray) -> Contraction:
+        lead, J = w.shape[:-2], w.shape[-2]
+        flat = w.reshape(int(np.prod(lead, dtype=int)), J, w.shape[-1])
+        rows, cols = np.nonzero(np.any(flat != 0, axis=-1))  # C order: sorted by row, then column
+        urows, starts = np.unique(rows, return_index=True)
+        return cls(tuple(lead), cols, urows, starts, np.ascontiguousarray(flat[rows, cols]))
+
+    @property
+    def nrows(self) -> int:
+        return int(np.prod(self.lead, dtype=int))
+
+    @property
+    def plan(self) -> tuple:
+        """((row, ((col, k), ...)), ...): per output row, its columns and coefficient index."""
+        plan = self.__dict__.get("_plan")
+        if plan is None:
+            ends = list(self.starts[1:]) + [len(self.cols)]
+            plan = tuple(
+                (int(r), tuple((int(self.cols[k]), k) for k in range(s, e)))
+                for r, s, e in zip(self.urows, self.starts, ends)
+            )
+            object.__setattr__(self, "_plan", plan)
+        return plan
+
+    def __call__(self, coef: np.ndarray, x: np.ndarray) -> np.ndarray:
+        """Contract with ``x`` (J, N); ``coef`` (nnz,) at one T or (nnz, N) with T per row.
+
+        A loop over the non-zero entries with in-place products on rows of the block (the
+        kernel works on blocks of a few thousand rows, which stay in cache): no BLAS thread
+        pool, no multiplication of zeros, no gathered copy of ``x``.
+        """
+        N = x.shape[1]
+        out = np.zeros((self.nrows, N))
+        if not len(self.cols):
+            return out.reshape(self.lead + (N,))
+        c = coef.tolist() if coef.ndim == 1 else coef
+        tmp = np.empty(N)
+        for r, entries in self.plan:
+            o = out[r]
+            (j, k), rest = entries[0], entries[1:]
+            np.multiply(x[j], c[k], out=o)
+            for j, k in rest:
+                np.multiply(x[j], c[k], out=tmp)
+                o += tmp
+        return out.reshape(self.lead + (N,))
+
+
+#: Which block each contraction of the kernel reads, and how it is laid out:
+#: name → (block, axes to move so that the contracted axis comes last).
+_CONTRACTIONS = {
+    "b0": ("b0", None),
+    "b0T": ("b0", (1, 0)),
+    "Bk": ("Bk", None),
+    "BkT": ("Bk", (0, 2, 1)),
+    "C": ("C", None),
+    "CT": ("C", (1, 0)),
+    "thc": ("thc", None),
+    "tha": ("tha", None),
+    "psiC": ("psiC", None),
+    "psiA": ("psiA", None),
+    "psiAM": ("psiAM", None),
+    "psiCX": ("psiCX", None),
+    "lam": ("lam", None),
+    "zN": ("zN", None),
+    "zC": ("zC", None),
+    "zA": ("zA", None),
+}
 
 
 @dataclass
@@ -48,10 +141,76 @@ class Bound:
     missing: tuple
     notes: tuple
     _cache: dict = field(default_factory=dict, repr=False)
+    contractions: dict = field(default_factory=dict, repr=False)
+
+    def __post_init__(self):
+        for name, (block, axes) in _CONTRACTIONS.items():
+            w = self.blocks[block]
+            if axes is not None:
+                w = w.transpose(*axes, w.ndim - 1)  # the weight axis stays last
+            self.contractions[name] = Contraction.of(w)
+        # all non-zero weights in one matrix, so that one product evaluates every coefficient
+        sizes = [len(c.cols) for c in self.contractions.values()]
+        self._offsets = dict(zip(self.contractions, np.cumsum([0] + sizes[:-1]).tolist()))
+        self._sizes = dict(zip(self.contractions, sizes))
+        self._all_weights = (
+            np.concatenate([c.weights for c in self.contractions.values()]) if sum(sizes) else np.zeros((0, 5))
+        )
+
+    def pair_checks(self, m: np.ndarray, I: np.ndarray, T: Any) -> tuple[np.ndarray, tuple]:
+        """Rows beyond an interaction's fitted ionic strength or temperature range.
+
+        ``m`` (n, N), ``I`` (N,), ``T`` scalar or (N,). Returns (ok (N,), notes), the same as
+        ``PitzerModel._pair_checks`` (the notes word for word), with memory O(N) instead of
+        O(n_checks · N): the checks run one at a time, and a check that cannot fail (no
+        ionic-strength limit, T inside its range) costs nothing.
+        """
+        N = m.shape[1]
+        ok = np.ones(N, dtype=bool)
+        notes = []
+        T = np.asarray(T, dtype=float)
+        scalar_T = T.ndim == 0
+        positive: dict[int, np.ndarray] = {}
+
+        def present(idx: np.ndarray) -> np.ndarray:
+            out = None
+            for i in idx.tolist():
+                if i not in positive:
+                    positive[i] = m[i] > 0
+                out = positive[i] if out is None else out & positive[i]
+            return out
+
+        for label, idx, i_max, t_lo, t_hi in self.checks:
+            if scalar_T:
+                t_out = bool(T < t_lo - 1e-9 or T > t_hi + 1e-9)
+                if not np.isfinite(i_max) and not t_out:
+                    continue
+            # 1e-9 (relative for I, in K for T): round-off slack, as in the model's check
+            pres = present(idx)
+            high = pres & (I > i_max * (1 + 1e-9)) if np.isfinite(i_max) else None
+            if scalar_T:
+                cold = pres if t_out else None
+            else:
+                cold = pres & ((T < t_lo - 1e-9) | (T > t_hi + 1e-9))
+            nh = int(np.count_nonzero(high)) if high is not None else 0
+            nc = int(np.count_nonzero(cold)) if cold is not None else 0
+            if nh:
+                notes.append(
+                    f"pitzer: {label} parameters hold to I = {i_max:g} mol/kg; "
+                    f"I up to {float(np.max(I[high])):.4g} in {nh} of {N} row(s)"
+                )
+                ok &= ~high
+            if nc:
+                notes.append(
+                    f"pitzer: {label} parameters hold at {t_lo - ZERO_CELSIUS:g}–{t_hi - ZERO_CELSIUS:g} °C; "
+                    f"outside in {nc} of {N} row(s)"
+                )
+                ok &= ~cold
+        return ok, tuple(notes)
 
     def at(self, T: np.ndarray) -> dict:
-        """Coefficient blocks at ``T``: scalar T gives arrays without a row axis (cached per
-        value); T of shape (N,) gives arrays with a trailing row axis of length N."""
+        """Non-zero coefficients of every contraction at ``T``: scalar T gives vectors (nnz,)
+        (cached per value); T of shape (N,) gives arrays (nnz, N)."""
         T = np.asarray(T, dtype=float)
         if T.ndim == 0:
             key = float(T)
@@ -64,15 +223,10 @@ class Bound:
         return self._evaluate(basis(T))
 
     def _evaluate(self, b: np.ndarray) -> dict:
-        # All-zero blocks are skipped: the kernel reads them only when flagged, except the
-        # B and C blocks, which it always reads. The cation-major transposes are views.
-        P = {
-            k: np.tensordot(w, b, axes=(-1, 0))
-            for k, w in self.blocks.items()
-            if self.flags[k] or k in ("b0", "Bk", "C")
-        }
-        P.update(b0T=P["b0"].swapaxes(0, 1), BkT=P["Bk"].swapaxes(1, 2), CT=P["C"].swapaxes(0, 1))
-        return P
+        # One product of the stacked non-zero weights with the basis, without BLAS (einsum
+        # loops in C): a BLAS call here would start its thread pool for a small product.
+        allc = np.einsum("kb,b...->k...", self._all_weights, b)
+        return {k: allc[o : o + self._sizes[k]] for k, o in self._offsets.items()}
 
 
 def _weights(entries, kind, key, name) -> np.ndarray:

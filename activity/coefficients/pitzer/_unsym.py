@@ -70,6 +70,49 @@ def _spline():
     return CubicSpline(u, np.log(j_integral(np.exp(u))))
 
 
+@functools.lru_cache(maxsize=1)
+def _table() -> tuple[float, float, np.ndarray, np.ndarray]:
+    """The spline's knots (uniform in ln x: first knot, spacing) and its cubic pieces,
+    coefficients (n − 1, 4) highest power first, for evaluation without scipy's per-call
+    overhead (the pieces are those of :func:`_spline`, so the values are the same)."""
+    sp = _spline()
+    u0, h = float(sp.x[0]), float(sp.x[1] - sp.x[0])
+    return u0, h, np.ascontiguousarray(sp.x[:-1]), np.ascontiguousarray(sp.c.T)
+
+
+def _ln_j(u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """S(u) = ln J(e^u) and dS/du from the cubic pieces (u inside the table)."""
+    u0, h, knots, c = _table()
+    i = np.floor((u - u0) * (1.0 / h)).astype(np.intp)
+    np.clip(i, 0, len(c) - 1, out=i)
+    t = u - knots[i]
+    ci = c[i]  # (N, 4)
+    c0, c1, c2, c3 = ci[:, 0], ci[:, 1], ci[:, 2], ci[:, 3]
+    S = ((c0 * t + c1) * t + c2) * t + c3
+    dS = (3.0 * c0 * t + 2.0 * c1) * t + c2
+    return S, dS
+
+
+def _j_xdj(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """J(x) and x J′(x) (what Eθ′ needs), x ≥ 0, continued outside the table as j_exact."""
+    x = np.asarray(x, dtype=float)
+    shape = x.shape
+    x = x.reshape(-1)
+    xs = np.clip(x, _X_MIN, _X_MAX)
+    S, dS = _ln_j(np.log(xs))
+    J = np.exp(S)
+    xdJ = J * dS * (x / xs)  # x J′ = J dS/du · x/xs (x/xs = 1 inside the table)
+    low, high = x < _X_MIN, x > _X_MAX
+    if np.any(low):
+        J0 = J
+        J = np.where(low, J0 * (x / _X_MIN) ** 2, J)
+        xdJ = np.where(low, 2.0 * J0 * (x / _X_MIN) ** 2, xdJ)
+    if np.any(high):
+        J = np.where(high, J + (x - _X_MAX) / 4.0, J)
+        xdJ = np.where(high, 0.25 * x, xdJ)
+    return J.reshape(shape), xdJ.reshape(shape)
+
+
 def j_exact(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """J(x) and J′(x) from the tabulated defining integral; x ≥ 0, J(0) = 0.
 
@@ -148,8 +191,7 @@ def e_theta(zi: float, zj: float, Aphi, I: np.ndarray, cache: dict | None = None
 
     def jx(p):
         if p not in cache:
-            J, dJ = j_exact(p * base)
-            cache[p] = (J, p * base * dJ)
+            cache[p] = _j_xdj(p * base)
         return cache[p]
 
     zz = zi * zj

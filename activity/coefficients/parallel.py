@@ -1,0 +1,202 @@
+"""Activity coefficients of grids larger than memory: dask arrays and xarray objects.
+
+:func:`activity_coefficients` takes a mapping of species to molality arrays — numpy
+arrays, dask arrays or xarray ``DataArray`` objects — and returns one array per species
+of the same kind:
+
+* numpy in, numpy out (one call of the model, as :class:`~activity.solution.Solution`);
+* dask in, dask out, lazily: the model runs block by block (``map_blocks``) when the
+  result is computed, on whatever scheduler is active — threads, processes, or a
+  ``dask.distributed`` cluster of many machines — so a grid of 10⁸ compositions never has
+  to fit in memory and can be reduced or written chunk by chunk;
+* xarray in, xarray out: inputs are aligned and broadcast by their dimension names and
+  the results keep those dimensions and coordinates (a dask-backed ``DataArray`` stays lazy).
+
+Temperature and pressure may be scalars or arrays of the same kinds. dask and xarray are
+optional (``pip install 'activity[dask]'``) and imported only when such an input arrives.
+
+Each block is evaluated with ``warn=False``: rows outside a model's validity are not
+warned about block by block; ask for ``in_range=True`` to get the per-row flag as one
+more array (key ``"in_range"``), and reduce it like any other.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from ..constants import P_ATM, T_REF
+from ..errors import InputError
+from ..species import parse_species
+from . import resolve_model
+from .base import ModelLike
+
+__all__ = ["activity_coefficients"]
+
+_OUTPUTS = ("gamma", "log10_gamma")
+
+
+def _kind(x: Any) -> str:
+    """'xarray', 'dask' or 'numpy', without importing dask or xarray."""
+    mod = type(x).__module__
+    if mod.startswith("xarray"):
+        return "xarray"
+    if mod.startswith("dask"):
+        return "dask"
+    return "numpy"
+
+
+#: Models resolved from a name in this process (a worker evaluates many blocks: a model
+#: such as Pitzer then reads its parameter set and binds its species once, not per block).
+#: A memo keyed by the class and parameters of the freshly resolved model.
+_MODELS: dict[tuple, Any] = {}
+
+
+def _model(model: ModelLike) -> Any:
+    fresh = resolve_model(model)
+    if not isinstance(model, str):
+        return fresh
+    key = (type(fresh), repr(sorted(fresh.params.items(), key=lambda kv: kv[0])))
+    if key not in _MODELS:
+        if len(_MODELS) >= 32:
+            _MODELS.clear()
+        _MODELS[key] = fresh
+    return _MODELS[key]
+
+
+def _evaluate_block(model: Any, species: tuple, output: str, in_range: bool, *blocks: np.ndarray) -> np.ndarray:
+    """One block: molality blocks (one per species), then T and P blocks → stacked results.
+
+    Runs in the worker; the model (an object or a registered name) is resolved there.
+    Returns shape ``(n_species [+ 1],) + block shape``; the extra row is the in-range flag.
+    """
+    from ..solution import Solution
+
+    *ms, T, P = blocks
+    sol = Solution(dict(zip(species, ms)), T=T, P=P, neutrality="ignore")
+    res = _model(model).activity_coefficients(sol, warn=False)
+    lg = np.asarray(res.log10_gamma)
+    out = 10.0**lg if output == "gamma" else lg
+    if in_range:
+        flag = np.broadcast_to(np.asarray(res.in_range, dtype=float), sol.shape)[None]
+        out = np.concatenate([out, flag])
+    return out
+
+
+def _split(stacked: Any, species: tuple, in_range: bool) -> dict[str, Any]:
+    out = {s: stacked[i] for i, s in enumerate(species)}
+    if in_range:
+        out["in_range"] = stacked[len(species)] > 0.5
+    return out
+
+
+def _numpy(model, species, output, in_range, values):
+    stacked = _evaluate_block(model, species, output, in_range, *values)
+    return _split(stacked, species, in_range)
+
+
+def _dask(model, species, output, in_range, values):
+    import dask.array as da
+
+    arrays = da.broadcast_arrays(*[da.asarray(v) for v in values])
+    ref = max(arrays, key=lambda a: a.npartitions)  # the most finely chunked input sets the blocks
+    arrays = [a.rechunk(ref.chunks) for a in arrays]
+    n_out = len(species) + (1 if in_range else 0)
+    stacked = da.map_blocks(
+        _evaluate_block,
+        model,
+        species,
+        output,
+        in_range,
+        *arrays,
+        new_axis=0,
+        chunks=((n_out,),) + ref.chunks,
+        dtype=float,
+        meta=np.empty((0,) * (ref.ndim + 1)),
+    )
+    return _split(stacked, species, in_range)
+
+
+def _xarray(model, species, output, in_range, values):
+    import xarray as xr
+
+    for v in values:
+        if _kind(v) != "xarray" and np.ndim(v) > 0:
+            raise InputError(
+                "with xarray inputs give the other arrays as DataArray too (or scalars), so that "
+                "their dimensions are named",
+                field="composition",
+                value=type(v).__name__,
+            )
+    das = xr.broadcast(*[v if _kind(v) == "xarray" else xr.DataArray(v) for v in values])
+    template = das[0]
+    data = [d.transpose(*template.dims).data for d in das]
+    inner = _dask if any(_kind(x) == "dask" for x in data) else _numpy
+    raw = inner(model, species, output, in_range, data)
+    out = {}
+    for key, arr in raw.items():
+        label = key if key == "in_range" else f"{'gamma' if output == 'gamma' else 'log10_gamma'}({key})"
+        out[key] = xr.DataArray(arr, dims=template.dims, coords=template.coords, name=label)
+    return out
+
+
+def activity_coefficients(
+    composition: Mapping[str, Any],
+    model: ModelLike = "davies",
+    *,
+    T: ArrayLike = T_REF,
+    P: ArrayLike = P_ATM,
+    output: str = "gamma",
+    in_range: bool = False,
+) -> dict[str, Any]:
+    """Activity coefficients for numpy, dask or xarray molality arrays, keeping their kind.
+
+    Parameters
+    ----------
+    composition : Mapping[str, array_like]
+        Species → molality (mol/kg): numpy arrays or scalars, dask arrays, or xarray
+        DataArrays (dask-backed or not). All broadcast together with ``T`` and ``P``.
+    model : str or ActivityModel, default 'davies'
+        Sent to the workers as it is: a name is resolved in each worker (Pitzer then reads
+        its parameter set once per worker process and block binding is cached there).
+    T, P : array_like
+        Temperature (K) and pressure (Pa), scalars or arrays of the same kinds.
+    output : {'gamma', 'log10_gamma'}
+    in_range : bool, default False
+        Add the key ``'in_range'``: whether each row lies inside the model's validity.
+
+    Returns
+    -------
+    dict
+        Species (canonical names) → array of the input's kind (lazy for dask), plus
+        ``'in_range'`` when asked.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> g = activity_coefficients({"Na+": np.array([0.01, 0.1]), "Cl-": np.array([0.01, 0.1])})
+    >>> np.round(g["Na+"], 4)
+    array([0.9019, 0.7812])
+    """
+    if output not in _OUTPUTS:
+        raise InputError(f"must be one of {_OUTPUTS}", field="output", value=output)
+    if not isinstance(composition, Mapping) or not composition:
+        raise InputError("expected a non-empty mapping of species to molalities", field="composition", value=None)
+    species = []
+    for raw in composition:
+        name = parse_species(raw).name
+        if name in species:
+            raise InputError(f"species given twice (as {name!r})", field="composition", value=raw)
+        species.append(name)
+    species_t = tuple(species)
+    resolve_model(model)  # a bad name fails here, not inside a worker
+    values = list(composition.values()) + [T, P]
+    kinds = {_kind(v) for v in values}
+    if "xarray" in kinds:
+        return _xarray(model, species_t, output, in_range, values)
+    if "dask" in kinds:
+        return _dask(model, species_t, output, in_range, values)
+    return _numpy(model, species_t, output, in_range, [np.asarray(v, dtype=float) for v in values])
