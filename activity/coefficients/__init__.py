@@ -60,8 +60,9 @@ def register_model(name: str, factory: Callable[..., ActivityModel], *, replace:
 
     Examples
     --------
+    >>> from functools import partial
     >>> from activity.coefficients.davies import DaviesModel
-    >>> register_model("davies-0.2", lambda: DaviesModel(c=0.2))
+    >>> register_model("davies-0.2", partial(DaviesModel, c=0.2))   # no closure over this session
     >>> get_model("davies-0.2").params
     {'c': 0.2}
     """

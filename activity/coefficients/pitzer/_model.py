@@ -185,34 +185,13 @@ class PitzerModel(ActivityModel):
         return ok.reshape(sol.shape), tuple(notes)
 
     def _pair_checks(self, sol, bound) -> tuple[np.ndarray, tuple]:
-        """Rows beyond an interaction's fitted ionic strength or temperature range."""
+        """Rows beyond an interaction's fitted ionic strength or temperature range (one check
+        at a time, memory O(rows): see ``Bound.pair_checks``)."""
         if not bound.checks:
             return np.ones(sol.shape, dtype=bool), ()
-        idx, i_max, t_lo, t_hi = bound.check_arrays
         n, N = len(sol.species), sol.size
-        pos = np.ones((n + 1, N), dtype=bool)
-        pos[:n] = sol.m.reshape(n, N) > 0
-        present = pos[idx].all(axis=1)  # (n_checks, N)
         I = np.asarray(sol.ionic_strength, dtype=float).reshape(N)
         T = np.asarray(sol.T_compact, dtype=float)
         T = T.reshape(()) if T.size == 1 else np.broadcast_to(T, sol.shape).reshape(N)
-        # 1e-9 (relative for I, in K for T): round-off slack, so that a row given exactly
-        # at a limit (e.g. 6 mol/kg, or 50 °C converted to K) counts as inside it.
-        high = present & (I > i_max[:, None] * (1 + 1e-9))
-        cold = present & ((T < t_lo[:, None] - 1e-9) | (T > t_hi[:, None] + 1e-9))
-        notes = []
-        for r in np.flatnonzero(high.any(axis=1) | cold.any(axis=1)):
-            label = bound.checks[r][0]
-            nh, nc = int(np.count_nonzero(high[r])), int(np.count_nonzero(cold[r]))
-            if nh:
-                notes.append(
-                    f"pitzer: {label} parameters hold to I = {i_max[r]:g} mol/kg; "
-                    f"I up to {float(np.max(I[high[r]])):.4g} in {nh} of {N} row(s)"
-                )
-            if nc:
-                notes.append(
-                    f"pitzer: {label} parameters hold at {t_lo[r] - ZERO_CELSIUS:g}–{t_hi[r] - ZERO_CELSIUS:g} °C; "
-                    f"outside in {nc} of {N} row(s)"
-                )
-        ok = ~(high | cold).any(axis=0)
-        return ok.reshape(sol.shape), tuple(notes)
+        ok, notes = bound.pair_checks(sol.m.reshape(n, N), I, T)
+        return ok.reshape(sol.shape), notes
