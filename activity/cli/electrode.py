@@ -591,6 +591,12 @@ def cmd_invert(args: argparse.Namespace) -> int:
         reading = parse_potential(args.reading, field="reading")
         matrix = solution_from_args(args)
     kw = dict(counter_ion=args.counter_ion, pressures=_gases(args.gas))
+    if args.free_ion:
+        if any(getattr(args, k, None) for k in _U_OPTIONS):
+            raise InputError(
+                "--free-ion does not combine with the uncertainty options yet", field="free-ion", value=None
+            )
+        kw["speciation"] = {}
     if args.against:
         cell = Cell(
             left=electrode_from_spec(args.against),
@@ -753,6 +759,12 @@ def register(subparsers: Any) -> None:
     p.add_argument("--selectivity", action="append", metavar="ION=K", help="selectivity coefficient, repeatable")
     p.add_argument("--species", help="determinand, when the couple has several")
     p.add_argument("--counter-ion", help="ion added with the determinand to keep the sample neutral, e.g. 'Cl-'")
+    p.add_argument(
+        "--free-ion",
+        action="store_true",
+        help="the electrode answers to the free ion: speciate the sample (models/equilibria.toml) and report the "
+        "total",
+    )
     add_solution_arguments(p)
     common(p)
     _add_uncertainty(p, inverse=True)

@@ -276,6 +276,18 @@ def _solve(
     )
 
 
+def _free_result(res: InverseResult, model: Any, speciation: Mapping[str, Any] | None) -> InverseResult:
+    """With speciation, the activity reported is the free ion's and γ the ratio activity/total."""
+    if speciation is None:
+        return res
+    free, notes = free_solution(res.solution, model, speciation)
+    k = free.index(res.species)
+    g = model.activity_coefficients(free, warn=False)
+    a = _checks.scalar_or_array(free.m[k] * 10.0 ** g.log10_gamma[k])
+    gamma = _checks.scalar_or_array(np.asarray(a) / np.asarray(res.molality))
+    return dataclasses.replace(res, activity=a, gamma=gamma, notes=res.notes + notes)
+
+
 def molality_from_potential(
     electrode: Any,
     E: ArrayLike,
@@ -343,18 +355,7 @@ def molality_from_potential(
         g = CoefficientResult(s.species, lg, s.ionic_strength, model.name)
         return electrode.evaluate_in(s, g, pressures=pressures).potential
 
-    res = _solve(forward, E, matrix, name, counter_ion, model, rtol, max_iter, warn)
-    if speciation is None:
-        return res
-    free, notes = free_solution(res.solution, model, speciation)
-    g = model.activity_coefficients(free, warn=False)
-    a = _checks.scalar_or_array(free.m[free.index(name)] * 10.0 ** g.log10_gamma[free.index(name)])
-    return dataclasses.replace(
-        res,
-        activity=a,
-        gamma=_checks.scalar_or_array(np.asarray(a) / np.asarray(res.molality)),
-        notes=res.notes + notes,
-    )
+    return _free_result(_solve(forward, E, matrix, name, counter_ion, model, rtol, max_iter, warn), model, speciation)
 
 
 def molality_from_emf(
@@ -369,12 +370,14 @@ def molality_from_emf(
     rtol: float = 1e-10,
     max_iter: int = 60,
     warn: bool = True,
+    speciation: Mapping[str, Any] | None = None,
 ) -> InverseResult:
     """Molality of ``species`` in the sample from a measured cell EMF.
 
     The sample is the solution of every compartment that is not a reference
     electrode's filling; the junction term (if the cell has one) is recomputed at each
-    step, since it too depends on the unknown.
+    step, since it too depends on the unknown. ``speciation`` works as for
+    :func:`molality_from_potential` (the sample is speciated at each step).
 
     Examples
     --------
@@ -392,6 +395,7 @@ def molality_from_emf(
     model = resolve_model(model)  # once: every step of the secant reuses the bound model
 
     def forward(s: Solution) -> Any:
+        s, _ = free_solution(s, model, speciation)
         return cell.evaluate(s, model, pressures=pressures, warn=False).emf
 
-    return _solve(forward, emf, matrix, name, counter_ion, model, rtol, max_iter, warn)
+    return _free_result(_solve(forward, emf, matrix, name, counter_ion, model, rtol, max_iter, warn), model, speciation)

@@ -43,3 +43,48 @@ def test_inverse_with_speciation_recovers_the_total_from_the_free_ion_reading():
     assert np.all(res.activity < res.molality * 0.6)  # γ·(free fraction) well below 1 here
     plain = molality_from_potential(ise, E, matrix, "davies", counter_ion="Cl-")
     assert np.all(plain.molality < totals)  # read without speciation, the pairs are missed
+
+
+def test_inverse_from_a_cell_emf_with_speciation_recovers_the_total():
+    ise = act.IonSelectiveElectrode("Ca^2+", E0=0.05)
+    cell = act.Cell(left=act.silver_chloride_electrode(3.0), right=ise)
+    totals = np.array([1e-3, 4e-3])
+    sample = act.Solution({"Ca^2+": totals, "Na+": 0.02, "SO4^2-": 0.01, "Cl-": 2 * totals})
+    free = act.speciate(sample, "davies").solution
+    emf = cell.emf(free, "davies")
+    matrix = act.Solution({"Na+": np.full(2, 0.02), "SO4^2-": 0.01})
+    res = act.molality_from_emf(cell, emf, matrix, "davies", species="Ca2+", counter_ion="Cl-", speciation={})
+    assert res.molality == pytest.approx(totals, rel=1e-7)
+
+
+def test_cli_invert_free_ion(capsys):
+    from activity.cli import main
+
+    args = [
+        "invert",
+        "--ise",
+        "Ca2+",
+        "--e0",
+        "100 mV",
+        "--reading",
+        "6.633 mV",
+        "Na+=20 mmol/kg",
+        "SO4^2-=10 mmol/kg",
+        "--counter-ion",
+        "Cl-",
+        "--json",
+    ]
+    assert main(args + ["--free-ion"]) == 0
+    import json
+
+    free = json.loads(capsys.readouterr().out)
+    assert main(args) == 0
+    plain = json.loads(capsys.readouterr().out)
+    # 2 mmol/kg total Ca in 10 mmol/kg sulfate reads 6.63 mV (test above); about 30 % is paired
+    text = json.dumps(free)
+    assert "free ions from speciation" in text
+    assert main(args + ["--free-ion", "--u-reading", "0.2 mV"]) == 2
+    assert "--free-ion does not combine" in capsys.readouterr().err
+    m_free, m_plain = free["results"]["molality"]["value"], plain["results"]["molality"]["value"]
+    assert m_free == pytest.approx(2e-3, rel=1e-3)  # the reading was computed for 2 mmol/kg total
+    assert m_plain < 0.75 * m_free  # without speciation the paired calcium is missed
