@@ -107,13 +107,17 @@ def emit(args: argparse.Namespace, text: str) -> None:
     """Print, or write to ``--output`` (``-`` is standard output; files are written whole).
 
     Text for people (no --json or --csv) is kept within 100 columns: tables wrap their own
-    text columns; a longer line of prose (a note, a title) is wrapped here.
+    text columns; a longer line of prose (a note, a title) is wrapped here. A table row (cells
+    set apart by two or more spaces) is never re-wrapped, which would break its columns.
     """
     if output_format(args) == "table":
+        import re
         import textwrap
 
         text = "\n".join(
-            textwrap.fill(line, 100, subsequent_indent="    ", break_long_words=False) if len(line) > 100 else line
+            textwrap.fill(line, 100, subsequent_indent="    ", break_long_words=False)
+            if len(line) > 100 and not re.search(r"\S {2,}\S", line)
+            else line
             for line in text.splitlines()
         )
     if getattr(args, "output", None) not in (None, "-"):

@@ -303,9 +303,15 @@ def buffers_report(T: float, form: str = "table", buffers: Any = None) -> str:
         )
     if form == "csv":
         return to_csv(head, rows).rstrip("\n")
-    shown = [[r[0], r[1], None if r[2] is None else f"{r[2]:.3f}"] + r[3:] for r in rows]
+    # the descriptions (with the ionic strength) go below the table, one line each, so the
+    # table keeps its columns within 100 characters (JSON and CSV keep every field)
+    shown = [[r[0], r[1], None if r[2] is None else f"{r[2]:.3f}"] + r[3:6] + [r[7]] for r in rows]
+    legend = "\n".join(f"  {r[0]}: {r[-1]}" + ("" if r[6] is None else f" (I = {r[6]:g} mol/kg)") for r in rows)
     return (
-        table(head, shown, digits=3, title=f"standard buffers at {_c(T):g} °C") + "\n\n"
+        table(head[:6] + [head[7]], shown, digits=3, title=f"standard buffers at {_c(T):g} °C")
+        + "\n\nbuffers\n"
+        + legend
+        + "\n\n"
         "values marked 'from memory' were not read in the source: check them before relying on them\n" + PH_CAUTION
     )
 

@@ -101,6 +101,19 @@ def test_buffers_listing(capsys):
     assert rows["phthalate-0.05"]["pH(S)"] == 4.000
 
 
+def test_buffers_listing_keeps_its_columns(capsys):
+    # Every table row is one line within 100 columns, and no row is split: each buffer key
+    # starts a line of the table (a re-wrapped table used to scatter the descriptions).
+    assert main(["ph-buffers", "-t", "37 °C"]) == 0
+    out = capsys.readouterr().out
+    lines = out.splitlines()
+    assert max(len(line) for line in lines) <= 100
+    table_rows = lines[3 : lines.index("")]
+    assert [r.split()[0] for r in table_rows][-2:] == ["tetroxalate-0.05", "calcium-hydroxide-sat"]
+    assert all(len(r.split()) >= 7 for r in table_rows)
+    assert "  borax-0.01: disodium tetraborate (borax), 0.01 mol/kg (I = 0.02 mol/kg)" in lines
+
+
 def test_harned_command(examples, capsys):
     capsys.readouterr()
     assert main(["ph-harned", str(examples / "harned_emfs.csv"), "--buffer", "KHP"]) == 0
