@@ -22,6 +22,7 @@ Bates & Bower table (:func:`silver_chloride_e0`).
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
 
@@ -95,6 +96,21 @@ _TABLE_E0_NOTE = (
 )
 
 
+def silver_chloride_e0_table() -> Mapping[str, Any]:
+    """The Bates & Bower (1954) E°(AgCl/Ag) table, read from ``models/standard_potentials.toml``.
+
+    The same table serves the electrode path: E0 of the couple ``AgCl/Ag`` there is its 25 °C
+    entry, so the pH and the electrode code see one set of values.
+
+    Examples
+    --------
+    >>> tab = silver_chloride_e0_table()
+    >>> tab["E0"][tab["temperature"].index(25.0)]
+    0.22234
+    """
+    return data.load("standard_potentials")["couples"]["AgCl/Ag"]["E0_table"]
+
+
 def silver_chloride_e0(T: ArrayLike = 298.15) -> E0Value:
     """E°(AgCl/Ag) at T from the Bates & Bower (1954) table (0–95 °C), interpolated.
 
@@ -107,7 +123,7 @@ def silver_chloride_e0(T: ArrayLike = 298.15) -> E0Value:
     >>> e.value, e.standard_uncertainty
     (0.22234, 1e-05)
     """
-    tab = data.load("ph_buffers")["silver_chloride_E0"]
+    tab = silver_chloride_e0_table()
     t = np.asarray(tab["temperature"], float) + ZERO_CELSIUS
     Tk = np.asarray(T, dtype=float)
     if np.any(Tk < t[0] - 1e-9) or np.any(Tk > t[-1] + 1e-9):
