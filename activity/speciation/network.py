@@ -18,6 +18,7 @@ mapping in the same layout gives a network of one's own (:meth:`Network.from_map
 from __future__ import annotations
 
 import functools
+import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
@@ -54,6 +55,9 @@ class Reaction:
     source, note : str
     medium : tuple or None
         ``(lg K(I), I)`` as published, when converted to I = 0.
+    shift : float
+        Added to lg K at every temperature: a change of units of the published constant
+        (for a gas given per atm, −lg 1.01325 turns it into per bar).
     """
 
     product: str
@@ -64,9 +68,13 @@ class Reaction:
     source: str
     note: str = ""
     medium: tuple | None = None
+    shift: float = 0.0
 
     def lg_k(self, T: Any, water: Mapping[str, Any] | None = None) -> np.ndarray:
         """lg K of this step at temperature ``T`` (K); broadcasts over ``T``."""
+        return self._lg_k_as_published(T, water) + self.shift
+
+    def _lg_k_as_published(self, T: Any, water: Mapping[str, Any] | None) -> np.ndarray:
         T = np.asarray(T, dtype=float)
         kind, arg = self.temperature
         if kind == "constant":
@@ -79,6 +87,10 @@ class Reaction:
         if kind == "water":
             return -water_lg_kw(T, water, negate=True)
         raise AssertionError(kind)  # pragma: no cover - checked on load
+
+
+#: Pressure units a gas's Henry constant may be published in, in bar (1 atm = 1.01325 bar exactly).
+_PRESSURE_UNITS = {"bar": 1.0, "atm": 1.01325}
 
 
 @dataclass(frozen=True)
@@ -166,6 +178,8 @@ def _reaction(name: str, body: Any, origin: str, about: Mapping, section: str) -
     if not isinstance(body, Mapping):
         raise _fail(origin, where, "must be a table", body)
     allowed = {"made_of", "dissolves_as", "lg_k", "lg_k_medium", "temperature", "celsius", "source", "note"}
+    if section == "gas":
+        allowed.add("pressure_unit")
     for k in body:
         if k not in allowed:
             raise _fail(origin, f"{where}.{k}", f"unknown key (allowed: {', '.join(sorted(allowed))})", body[k])
@@ -229,9 +243,18 @@ def _reaction(name: str, body: Any, origin: str, about: Mapping, section: str) -
     note = body.get("note", "")
     if not isinstance(note, str):
         raise _fail(origin, f"{where}.note", "must be a string", note)
-    rx = Reaction(product.name, reactants, lg_k, temp, (lo + ZERO_CELSIUS, hi + ZERO_CELSIUS), source, note, medium)
-    if temp[0] == "analytic" and abs(float(rx.lg_k(T_REF)) - lg_k) > 0.02:
-        raise _fail(origin, where, f"the analytic lg K(T) gives {float(rx.lg_k(T_REF)):.3f} at 25 °C, not lg_k", lg_k)
+    shift = 0.0
+    if section == "gas":
+        unit = body.get("pressure_unit", "bar")
+        if unit not in _PRESSURE_UNITS:
+            raise _fail(origin, f"{where}.pressure_unit", f"must be one of {', '.join(_PRESSURE_UNITS)}", unit)
+        shift = -math.log10(_PRESSURE_UNITS[unit])
+    rx = Reaction(
+        product.name, reactants, lg_k, temp, (lo + ZERO_CELSIUS, hi + ZERO_CELSIUS), source, note, medium, shift
+    )
+    published = float(rx._lg_k_as_published(T_REF, None)) if temp[0] == "analytic" else lg_k
+    if abs(published - lg_k) > 0.02:
+        raise _fail(origin, where, f"the analytic lg K(T) gives {published:.3f} at 25 °C, not lg_k", lg_k)
     return rx
 
 

@@ -163,3 +163,26 @@ def test_without_drops_dependants():
     with pytest.raises(InputError) as exc:
         default_network().without("Na+")  # a component, not a formed species
     assert exc.value.field == "without"
+
+
+def _gas_doc(**gas):
+    body = {"dissolves_as": "HF", "lg_k": 1.0, "temperature": {"constant": True}, "celsius": [0, 50], "source": "test"}
+    body.update(gas)
+    return {**_doc(HF=_rx()), "gas": {"HF(g)": body}}
+
+
+def test_gas_pressure_unit_converts_to_per_bar():
+    # 1 atm = 1.01325 bar exactly (by definition), so a constant per atm is 1.01325 times the one per bar
+    per_bar = Network.from_mapping(_gas_doc()).gases["HF(g)"].reaction.lg_k(298.15)
+    per_atm = Network.from_mapping(_gas_doc(pressure_unit="atm")).gases["HF(g)"].reaction.lg_k(298.15)
+    assert float(per_bar) == 1.0
+    assert float(per_bar - per_atm) == pytest.approx(np.log10(1.01325), abs=1e-15)
+
+
+def test_unknown_gas_pressure_unit_is_refused():
+    with pytest.raises(InputError) as exc:
+        Network.from_mapping(_gas_doc(pressure_unit="torr"))
+    assert "pressure_unit" in exc.value.field
+    with pytest.raises(InputError) as exc:  # only gases have a pressure unit
+        Network.from_mapping(_doc(HF=_rx(pressure_unit="atm")))
+    assert "pressure_unit" in exc.value.field

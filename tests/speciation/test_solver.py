@@ -220,11 +220,14 @@ def test_every_registered_model_speciates(name):
 
 def test_open_to_co2():
     """Pure water in equilibrium with air, p(CO2) = 10^-3.4 atm: pH 5.6 is the textbook value
-    (common practice). Here: lg K_H = −1.468, lg K1 = −6.352 (Plummer & Busenberg 1982)."""
+    (common practice). Here: lg K_H = −1.468 per atm, lg K1 = −6.352 (Plummer & Busenberg 1982),
+    so lg K_H = −1.468 − lg 1.01325 = −1.4737 per bar."""
     p = 10**-3.4 * 101325.0
     res = speciate({"H+": 0.0}, gases={"CO2(g)": p})
     lg_kh = float(default_network().gases["CO2(g)"].reaction.lg_k(298.15))
-    assert lg_kh == pytest.approx(-1.468, abs=2e-3)
+    assert lg_kh == pytest.approx(-1.468 - 0.0057166, abs=2e-3)
+    raw = float(default_network().gases["CO2(g)"].reaction._lg_k_as_published(298.15, None))
+    assert lg_kh - raw == pytest.approx(-np.log10(1.01325), abs=1e-12)  # per atm → per bar
     kh = 10**lg_kh * p / 1e5
     assert res.activity("CO2") == pytest.approx(kh, rel=1e-9)
     assert res.ph == pytest.approx(5.61, abs=0.02)
