@@ -115,6 +115,8 @@ def _fast_terms(reader: Any) -> dict | None:
     from ...coefficients._dh_form import DebyeHuckelForm
     from ...coefficients.ideal import IdealModel
 
+    if getattr(reader, "speciation", None) is not None:
+        return None  # free ions from the speciation layer: the general reader
     model = reader.model
     cls = type(model)
     ions = [reader.i] + [idx for _, idx, _, _ in reader.inter]

@@ -99,7 +99,10 @@ class ISECalibration:
     notes : tuple of str
     standards : dict
         Per standard: ``label``, ``molality``, ``activity``, ``lg_activity``, ``emf``,
-        ``fitted``, ``T``, ``gamma``.
+        ``fitted``, ``T``, ``gamma`` (with speciation: free activity / total molality).
+    speciation : dict or None
+        Keyword arguments of :func:`activity.speciate` when the free-ion activities come
+        from the speciation layer (``activity_basis`` says which, in words).
     """
 
     ion: str
@@ -131,6 +134,15 @@ class ISECalibration:
     fixed_selectivity: tuple = ()  # interferents whose K was given, not fitted
     standards_solution: Solution | None = None  # the standards as given (for refits by other models)
     fit_options: dict = field(default_factory=dict)  # slope, interferents, detection_term, weights
+    speciation: dict | None = None  # keyword arguments of activity.speciate, or None (total ion × γ)
+
+    @property
+    def activity_basis(self) -> str:
+        """How the activities of the standards (and of samples read) were found, in words."""
+        if self.speciation is None:
+            return "total ion × γ (no speciation)"
+        opts = ", ".join(f"{k}={v!r}" for k, v in self.speciation.items())
+        return "free ion from speciation" + (f" ({opts})" if opts else "")
 
     # ------------------------------------------------------------------ derived
     @property
@@ -240,6 +252,7 @@ class ISECalibration:
             "verdicts": [v.to_dict() for v in self.verdicts],
             "notes": list(self.notes),
             "fit_options": self.fit_options,
+            "speciation": None if self.speciation is None else dict(self.speciation),
             "composition": None
             if self.standards_solution is None
             else {
@@ -313,6 +326,7 @@ class ISECalibration:
                 acceptance=acceptance,
                 interference_at_limit=float(dl.get("interference_part", 0.0)),
                 fixed_selectivity=tuple(d.get("fixed_selectivity", ())),
+                speciation=None if d.get("speciation") is None else dict(d["speciation"]),
             )
         except KeyError as exc:
             raise InputError("saved calibration lacks a key", field="calibration", value=str(exc.args[0])) from None
@@ -342,6 +356,7 @@ class ISECalibration:
             acceptance=self.acceptance,
             linear_deviation=o.get("linear_deviation", LINEAR_DEVIATION),
             labels=o.get("labels"),
+            speciation=self.speciation,
         )
 
     def with_drift(self, drift: Any) -> ISECalibration:
@@ -572,6 +587,7 @@ def calibrate_ise(
     linear_deviation: float = LINEAR_DEVIATION,
     labels: Sequence[str] | None = None,
     drift: Any = None,
+    speciation: Mapping[str, Any] | None = None,
 ) -> ISECalibration:
     """Fit an ion-selective electrode calibration to standards.
 
@@ -604,6 +620,11 @@ def calibrate_ise(
         Names of the standards (for notes and reports).
     drift : DriftResult, optional
         A bracketing check (:func:`activity.workflows.ise.drift.drift_check`) for the drift verdict.
+    speciation : Mapping, optional
+        Keyword arguments of :func:`activity.speciate` (``{}`` for its defaults): the activity
+        of the free ion after speciation is used, for a matrix that complexes or pairs the
+        ion (Ca²⁺ with sulfate or citrate); samples read with this calibration are speciated
+        the same way. Default: the total ion × γ.
 
     Returns
     -------
@@ -664,7 +685,13 @@ def calibrate_ise(
     lin_dev = float(finite(linear_deviation, "linear_deviation", positive=True))
     fixed_K, fit_K = _interferent_spec(interferents, ion, z)
 
-    terms = ion_terms(standards, ion, z, list(fixed_K) + fit_K, model)
+    if speciation is not None and not isinstance(speciation, Mapping):
+        raise InputError(
+            "give the keyword arguments of activity.speciate as a mapping ({} for its defaults)",
+            field="speciation",
+            value=speciation,
+        )
+    terms = ion_terms(standards, ion, z, list(fixed_K) + fit_K, model, None if speciation is None else dict(speciation))
     ai = np.asarray(terms.a_primary, float)
     if np.any(ai <= 0):
         raise InputError(
@@ -860,6 +887,7 @@ def calibrate_ise(
             "linear_deviation": lin_dev,
             "labels": labels,
         },
+        speciation=None if speciation is None else dict(speciation),
     )
     return replace(cal, verdicts=judge(cal, acc, drift))
 

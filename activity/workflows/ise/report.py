@@ -96,6 +96,7 @@ def fit_rows(cal: Any) -> list[list[Any]]:
             f"activity (within {1000 * cal.linear_deviation:g} mV)",
         ],
         ["activity model", cal.model, ""],
+        ["activities", getattr(cal, "activity_basis", "total ion × γ (no speciation)"), ""],
     ]
     return rows
 
@@ -332,8 +333,9 @@ def calibration_record(
     rec = Record(
         title or f"{cal.ion} ion-selective electrode — calibration record",
         subtitle=subtitle
-        or f"activity model: {cal.model}; slope {cal.slope_mode}; "
-        f"{len(cal.standards['label'])} standards at {cal.T - 273.15:.1f} °C",
+        or f"activity model: {cal.model}"
+        + ("; free ions from speciation" if getattr(cal, "speciation", None) is not None else "")
+        + f"; slope {cal.slope_mode}; {len(cal.standards['label'])} standards at {cal.T - 273.15:.1f} °C",
     )
     rec.heading("Verdicts")
     rec.verdicts([(f"{v.criterion} ({v.threshold}; {v.basis})", v.passed, v.value) for v in cal.verdicts])

@@ -134,6 +134,28 @@ class _Reader:
         ]
         self.T0 = np.asarray(matrix.T_compact, float)
         self.P0 = np.asarray(matrix.P_compact, float)
+        self.speciation = getattr(cal, "speciation", None)
+
+    def _terms(self, sol: Solution, m: NDArray) -> tuple[NDArray, list, Any, tuple]:
+        """lg γᵢ (apparent: free activity / total with speciation), the interferents' activities,
+        the model result and the speciation notes."""
+        if self.speciation is None:
+            g = self.model.activity_coefficients(sol)
+            lg = g.log10_gamma
+            return lg[self.i], [sol.m[idx] * 10.0 ** lg[idx] for _, idx, _, _ in self.inter], g, ()
+        from ...nernst.electrodes import free_solution
+
+        free, notes = free_solution(sol, self.model, self.speciation)
+        g = self.model.activity_coefficients(free)
+        lg = g.log10_gamma
+        fi = free.index(self.cal.ion)
+        with np.errstate(divide="ignore"):
+            lgi = lg[fi] + np.log10(free.m[fi]) - np.log10(m)
+        acts = []
+        for j, _, _, _ in self.inter:
+            k = free.index(j)
+            acts.append(free.m[k] * 10.0 ** lg[k])
+        return lgi, acts, g, tuple(notes)
 
     def _solution(self, m: NDArray, scale: Any, T: Any) -> Solution:
         shape = np.broadcast_shapes(np.shape(m), np.shape(scale), np.shape(T), self.matrix.shape)
@@ -178,18 +200,17 @@ class _Reader:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", ActivityWarning)
             for _ in range(MAX_ITER):
-                sol = self._solution(np.exp(x), scale, T)
-                g = self.model.activity_coefficients(sol)
-                lg = g.log10_gamma
+                m = np.exp(x)
+                sol = self._solution(m, scale, T)
+                lgi, acts, _, _ = self._terms(sol, m)
                 interf = 0.0
-                for j, idx, r, _ in self.inter:
-                    aj = sol.m[idx] * 10.0 ** lg[idx]
+                for (j, _, r, _), aj in zip(self.inter, acts):
                     interf = interf + Kd[j] * (aj if r == 1 else aj**r)
                 ai = total - interf - a0
                 below = ai <= 0
                 # the map x → ln(aᵢ/γᵢ); relaxed by its own secant slope (Steffensen-like), so that
                 # it also converges where γ rises with m (the map's slope below −1)
-                gx = np.where(below, np.log(1e-30), np.log(np.where(below, 1.0, ai)) - LN10 * lg[self.i])
+                gx = np.where(below, np.log(1e-30), np.log(np.where(below, 1.0, ai)) - LN10 * lgi)
                 step = gx - x
                 lam = np.ones(shape)
                 if x_prev is not None:
@@ -213,9 +234,13 @@ class _Reader:
         if not details:
             return np.where(below, np.nan, m)
         sol = self._solution(m, scale, T)
-        g = self.model.activity_coefficients(sol)
-        gi = 10.0 ** g.log10_gamma[self.i]
+        lgi, _, g, snotes = self._terms(sol, m)
+        gi = 10.0**lgi
         m = np.where(below, np.nan, m)
+        if snotes:
+            from dataclasses import replace as _replace
+
+            g = _replace(g, notes=tuple(g.notes) + tuple(snotes))
         return m, m * gi, gi, sol, g
 
 
