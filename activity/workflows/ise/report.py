@@ -155,20 +155,46 @@ def _budget_rows(samples: Samples, i: int) -> list[list[Any]]:
     return [[name, c, f"{100 * share:.1f} %"] for name, c, share in u.budget_rows(i)]
 
 
-def _budget_matrix(samples: Samples) -> tuple[list[str], list[list[Any]]]:
-    """All samples' budgets side by side: one row per input, one column per sample."""
+def _budget_matrix(samples: Samples, condense: float = 0.0) -> tuple[list[str], list[list[Any]]]:
+    """All samples' budgets side by side: one row per input, one column per sample.
+
+    ``condense`` > 0 folds the inputs whose share stays below it in every sample into one
+    row (their contributions added in quadrature, their shares summed).
+    """
     if samples.uncertainty is None:
         return [], []
     per = [samples.uncertainty.budget_rows(i) for i in range(len(samples.labels))]
     names = [r[0] for r in per[0]]
+    small = [
+        k
+        for k, name in enumerate(names)
+        if condense > 0 and per[0][k][1] is not None and all(abs(b[k][2]) < condense for b in per)
+    ]
+    if len(small) < 2:
+        small = []
     rows = []
     for k, name in enumerate(names):
-        row: list[Any] = [name]
+        if k in small:
+            continue
+        row: list[Any] = [_SHORT.get(name, name) if condense else name]
         for b in per:
             c, share = b[k][1], b[k][2]
             row.append(("—" if c is None else fmt(c, 3)) + f" ({100 * share:.1f} %)")
         rows.append(row)
+    if small:
+        row = [f"{len(small)} more, each below {100 * condense:g} %"]
+        for b in per:
+            c = float(np.sqrt(sum(b[k][1] ** 2 for k in small)))
+            row.append(f"{fmt(c, 3)} ({100 * sum(b[k][2] for k in small):.1f} %)")
+        rows.append(row)
     return ["input"] + list(samples.labels), rows
+
+
+#: Shorter input names for the printed record.
+_SHORT = {
+    "calibration (E0, slope, a0, K together, with their covariance)": "calibration (E0, S, a0, K; covariance)",
+    "(correlation of the calibration parameters)": "(correlation of calibration parameters)",
+}
 
 
 def calibration_text(cal: Any, samples: Samples | None = None, extras: dict | None = None) -> str:
@@ -336,23 +362,42 @@ def calibration_record(
         or f"activity model: {cal.model}"
         + ("; free ions from speciation" if getattr(cal, "speciation", None) is not None else "")
         + f"; slope {cal.slope_mode}; {len(cal.standards['label'])} standards at {cal.T - 273.15:.1f} °C",
+        style=RECORD_STYLE,
     )
-    rec.heading("Verdicts")
-    rec.verdicts([(f"{v.criterion} ({v.threshold}; {v.basis})", v.passed, v.value) for v in cal.verdicts])
+    rec.begin("ise-top")
+    rec.begin("ise-left")
     rec.heading("Fit")
     rec.table(
-        ["quantity", "value", "unit"],
-        fit_rows(cal),
+        ["quantity", "value"],
+        [[q, f"{v} {u if u != '-' else ''}".strip()] for q, v, u in fit_rows(cal)],
         caption="E = E0 + S·lg(aᵢ + Σ Kᵢⱼ·aⱼ^(zᵢ/zⱼ) + a0); ± standard uncertainty from the fit",
     )
+    rec.end()
+    rec.begin("ise-right")
     if figure:
         unk = samples.read if samples is not None else None
-        fig = calibration_figure(cal, unk, list(samples.labels) if samples else None, samples.emf if samples else None)
+        fig = calibration_figure(
+            cal, unk, list(samples.labels) if samples else None, samples.emf if samples else None, compact=True
+        )
         rec.figure(
             fig,
             caption="Calibration curve (top) and residuals (bottom); shaded: linear range; dash-dot: "
             "IUPAC detection limit",
         )
+    rec.end()
+    rec.end()
+    rec.heading("Verdicts")
+    marks = {"common practice default": "†", "user": " (set by the user)"}
+    rec.verdicts(
+        [
+            (f"{v.criterion} ({v.threshold}){marks.get(v.basis, '; ' + v.basis)}", v.passed, v.value)
+            for v in cal.verdicts
+        ]
+    )
+    if any(v.basis == "common practice default" for v in cal.verdicts):
+        rec.begin("mark")
+        rec.paragraph("† threshold: common practice default, not a standard — set your laboratory's own")
+        rec.end()
     head, rows = standards_rows(cal)
     rec.heading("Standards")
     rec.table(head, rows, digits=4)
@@ -365,10 +410,16 @@ def calibration_record(
             digits=4,
             caption=(f"uncertainty by {samples.uncertainty.method}; U = 2u" if samples.uncertainty else None),
         )
-        head, rows = _budget_matrix(samples)
+        head, rows = _budget_matrix(samples, condense=0.01)
         if rows:
             rec.table(head, rows, digits=3, caption="uncertainty budgets: |c|·u(x) in mol/kg (share of u²)")
-    for key, val in (extras or {}).items():
+    shown = [k for k in ("addition", "selectivity", "drift") if k in (extras or {})]
+    if len(shown) > 1:
+        rec.begin("ise-extras")
+    for key in shown:
+        val = extras[key]
+        if len(shown) > 1:
+            rec.begin("ise-extra")
         if key == "selectivity":
             rec.heading("Selectivity coefficients")
             rec.table(
@@ -389,23 +440,48 @@ def calibration_record(
                 ["quantity", "value", "unit"],
                 [["drift of E0", val.rate_mV_per_h, "mV/h"], ["slope change", val.slope_change_percent, "%"]],
             )
+        if len(shown) > 1:
+            rec.end()
+    if len(shown) > 1:
+        rec.end()
     rec.heading("Notes")
     notes = list(cal.notes)
     if samples is not None:
         notes += list(samples.read.notes) + (list(samples.uncertainty.notes) if samples.uncertainty else [])
     rec.notes(_compact_notes(notes))
     extra_cautions = cautions_for(cal.standards_solution) if cal.standards_solution is not None else []
-    rec.cautions(
-        [GENERAL]
-        + list(extra_cautions)
-        + [
-            (
-                "Verdict thresholds marked 'common practice default' are not a standard: set your own "
-                "laboratory's acceptance criteria."
-            )
-        ]
-    )
+    rec.cautions([GENERAL] + list(extra_cautions))
     return rec.to_html(generated=generated)
+
+
+#: The record's own layout: verdicts and fit beside the figure, notes in two columns, and a
+#: print style that keeps the demo's record (two samples with budgets) on one A4 page.
+RECORD_STYLE = """
+.ise-top { display: grid; grid-template-columns: minmax(0, 57fr) minmax(0, 43fr); column-gap: 5mm;
+           align-items: start; }
+.ise-top figure { margin-top: 8pt; }
+.ise-top figure svg { max-height: none; }
+.ise-left table { width: 100%; }
+.ise-left td:first-child { white-space: nowrap; }
+.mark p { color: #555; font-size: 8.5pt; margin: 0 0 4pt; }
+.ise-extras { display: flex; flex-wrap: wrap; column-gap: 8mm; align-items: flex-start; }
+ul.notes { columns: 2; column-gap: 7mm; padding-left: 12pt; font-size: 9pt; margin: 2pt 0; }
+.cautions ul { margin: 2pt 0; padding-left: 12pt; }
+@media print {
+  .ise-top figure svg { max-height: none; }
+  .mark p { font-size: 7pt; }
+  ul.notes { font-size: 7pt; line-height: 1.2; }
+  .notes li, .cautions li { margin-bottom: 1pt; }
+  .cautions { font-size: 7.2pt; padding: 2pt 6pt; margin-top: 5pt; }
+  .cautions h2 { font-size: 8.5pt; margin: 0; }
+  footer { margin-top: 4pt; font-size: 7pt; }
+  caption, figcaption { font-size: 7pt; }
+  body { font-size: 8.2pt; }
+  h2 { margin: 5pt 0 1.5pt; font-size: 9.5pt; }
+  table { margin: 1pt 0 3pt; }
+  th, td { padding: 0.6pt 4pt; }
+}
+"""
 
 
 def _compact_notes(notes: Sequence[str]) -> list[str]:
