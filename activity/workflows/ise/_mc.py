@@ -50,10 +50,10 @@ POLY_RTOL = 1e-13
 class MCDraws:
     """Inputs of the Monte Carlo (the same as the GUM path's; see ``unknowns._In``)."""
 
-    cal_keys: tuple  # 'E0', 'k', 'lga0', 'lgK_<i>'
+    cal_keys: tuple  # 'E0' (mV), 'k', 'lga0', 'lgK_<i>'
     cal_mean: NDArray[np.float64]
     cal_cov: NDArray[np.float64]
-    u_emf: float
+    u_emf: float  # V
     u_T: float
     u_scale: float
     model_half: float  # half-width of the rectangular model-choice input (0: none)
@@ -320,7 +320,7 @@ def run_monte_carlo(
         T = T0 + dT if not T_uniform else T0[:1] + dT  # (n, k) or (n, 1)
         scale = 1.0 + rng.standard_normal((n, 1)) * draws.u_scale if draws.u_scale > 0 else np.ones((1, 1))
         dmodel = rng.uniform(-1.0, 1.0, (n, 1)) * draws.model_half if draws.model_half > 0 else None
-        E0 = q.get("E0", cal.E0)
+        E0 = 1e-3 * q["E0"] if "E0" in q else cal.E0  # the E0 input is in mV
         kf = q.get("k", cal.slope_factor)
         a0 = np.exp(LN10 * q["lga0"]) if "lga0" in q else cal.a0
         Kd = {j: 10.0 ** q[key] for (j, _, _, _), key in zip(reader.inter, lgk_keys)} if lgk_keys else {}

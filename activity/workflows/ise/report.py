@@ -266,6 +266,19 @@ def _extra_text(extras: dict | None) -> dict:
     return out
 
 
+#: Keys of a sample in the JSON output (the columns of :func:`sample_rows`, units in the names).
+SAMPLE_KEYS = (
+    "label",
+    "emf_mV",
+    "molality_mol_per_kg",
+    "u_molality_mol_per_kg",
+    "molarity_mol_per_L",
+    "mass_concentration_mg_per_L",
+    "U_k2_mass_concentration_mg_per_L",
+    "flag",
+)
+
+
 def calibration_dict(cal: Any, samples: Samples | None = None, extras: dict | None = None) -> dict:
     """JSON-ready dict: the calibration (reloadable), samples and extras."""
     d = {"calibration": cal.to_dict()}
@@ -274,9 +287,7 @@ def calibration_dict(cal: Any, samples: Samples | None = None, extras: dict | No
         _head, rows = sample_rows(samples)
         items = []
         for i, row in enumerate(rows):
-            item = dict(
-                zip(["label", "emf_mV", "molality", "u_molality", "molarity", "mg_per_L", "U_k2_mg_per_L", "flag"], row)
-            )
+            item = dict(zip(SAMPLE_KEYS, row))
             item["flag"] = samples.read.flags[i]
             if samples.uncertainty is not None:
                 item["budget"] = [
@@ -288,7 +299,7 @@ def calibration_dict(cal: Any, samples: Samples | None = None, extras: dict | No
         d["sample_notes"] = list(samples.read.notes) + (list(samples.uncertainty.notes) if samples.uncertainty else [])
     for key, val in (extras or {}).items():
         if key == "selectivity":
-            d[key] = {j: r.to_dict() for j, r in val.items()}
+            d[key] = [{"label": j} | r.to_dict() for j, r in val.items()]
         elif hasattr(val, "to_dict"):
             d[key] = val.to_dict()
     return d
@@ -303,11 +314,11 @@ def calibration_csv(cal: Any, samples: Samples | None = None, extras: dict | Non
     rows: list[list[Any]] = []
     se = cal.standard_errors
     for name, val, unit in [
-        ("E0", cal.E0, "V"),
-        ("slope", cal.slope, "V/decade"),
+        ("E0", 1e3 * cal.E0, "mV"),
+        ("slope", 1e3 * cal.slope, "mV/decade"),
         ("slope_percent", cal.slope_percent, "%"),
         ("a0", cal.a0, "activity"),
-        ("residual_sd", cal.residual_sd, "V"),
+        ("residual_sd", 1e3 * cal.residual_sd, "mV"),
         ("detection_limit_activity", cal.detection_limit_activity, "activity"),
         ("detection_limit_molality", cal.detection_limit_molality, "mol/kg"),
         ("detection_limit_molarity", cal.detection_limit_molarity, "mol/L"),
@@ -316,15 +327,20 @@ def calibration_csv(cal: Any, samples: Samples | None = None, extras: dict | Non
     ]:
         rows.append(["fit", cal.ion, name, float(val), unit])
     for name, u in se.items():
-        rows.append(
-            ["fit", cal.ion, f"u({name})", float(u), "V" if name == "E0" else "V/decade" if name == "slope" else "-"]
-        )
+        mv = name in ("E0", "slope")
+        unit = "mV" if name == "E0" else "mV/decade" if name == "slope" else "-"
+        rows.append(["fit", cal.ion, f"u({name})", float(u) * (1e3 if mv else 1.0), unit])
     for j, k in cal.selectivity.items():
         rows.append(["fit", j, "K", float(k), "-"])
     s = cal.standards
     for i, lab in enumerate(s["label"]):
-        for key, unit in (("molality", "mol/kg"), ("activity", "-"), ("emf", "V"), ("residual", "V")):
-            rows.append(["standard", lab, key, float(s[key][i]), unit])
+        for key, unit, f in (
+            ("molality", "mol/kg", 1.0),
+            ("activity", "-", 1.0),
+            ("emf", "mV", 1e3),
+            ("residual", "mV", 1e3),
+        ):
+            rows.append(["standard", lab, key, f * float(s[key][i]), unit])
     for v in cal.verdicts:
         rows.append(["verdict", v.criterion, v.word, v.value, v.basis])
     if samples is not None:

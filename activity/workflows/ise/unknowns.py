@@ -404,8 +404,8 @@ def _calibration_inputs(cal: Any) -> tuple[list[_In], NDArray]:
             ins.append(
                 _In("k", "slope fraction k [calibration]", values[name] / s_cal, u[idx] / s_cal, "normal", cal.dof)
             )
-        elif name == "E0":
-            ins.append(_In("E0", "E0 [V, calibration]", values[name], u[idx], "normal", cal.dof))
+        elif name == "E0":  # in mV, as the reports show potentials
+            ins.append(_In("E0", "E0 [mV, calibration]", 1e3 * values[name], 1e3 * u[idx], "normal", cal.dof))
         elif name == "lg a0":
             ins.append(_In("lga0", "lg a0 [calibration]", values[name], u[idx], "normal", cal.dof))
         else:
@@ -540,7 +540,7 @@ def read_with_uncertainty(
         notes.append(f"u(reading) = residual SD of the calibration, {1000 * u_e:.3g} mV (common practice)")
     cal_in, corr = _calibration_inputs(cal)
     ins = list(cal_in)
-    ins.append(_In("E", "reading [V]", 0.0, u_e, "normal"))  # offset added to each reading
+    ins.append(_In("E", "reading [mV]", 0.0, 1e3 * u_e, "normal"))  # offset added to each reading, mV
     float(np.mean(reader.T0))
     if u_T > 0:
         ins.append(_In("T", "temperature [K]", 0.0, u_T, "normal"))  # offset on the sample T
@@ -692,7 +692,7 @@ def _monte_carlo(
         cal_keys=tuple(i.key for i in ins[:n_cal]),
         cal_mean=np.array([i.mean for i in ins[:n_cal]]),
         cal_cov=cov[:n_cal, :n_cal],
-        u_emf=by["E"].u,
+        u_emf=1e-3 * by["E"].u,  # the reading input is in mV
         u_T=by["T"].u if "T" in by else 0.0,
         u_scale=by["scale"].u if "scale" in by else 0.0,
         model_half=by["dmodel"].u * np.sqrt(3.0) if has_model else 0.0,
@@ -746,8 +746,8 @@ def _make_f(cal: Any, reader: _Reader, cal_in: list, E: Any, m_start: Any, sprea
     def f(**q: Any) -> NDArray:
         K = {j: 10.0 ** q[key] for j, key in lgk}
         m = reader.solve(
-            E + q.get("E", 0.0),
-            E0=q.get("E0", cal.E0),
+            E + 1e-3 * q.get("E", 0.0),
+            E0=1e-3 * q["E0"] if "E0" in q else cal.E0,
             k=q.get("k", cal.slope_factor),
             a0=10.0 ** q["lga0"] if "lga0" in q else cal.a0,
             K=K,
