@@ -93,6 +93,7 @@ def _samples(args: argparse.Namespace, cal: Any, method: Any) -> Any:
         trials=method.trials,
         seed=method.seed,
         model_choice=method.model_choice,
+        progress=True,  # drawn only when standard error is a terminal
     )
     return Samples(labels, E, read, unc)
 

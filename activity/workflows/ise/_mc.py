@@ -267,8 +267,9 @@ def run_monte_carlo(
     seed: Any,
     rtol: float,
     block: int | None = None,
+    bar: Any = None,
 ) -> tuple[NDArray, NDArray, NDArray, NDArray]:
-    """Monte Carlo of every sample at once.
+    """Monte Carlo of every sample at once (``bar``: a progress bar advanced per block).
 
     Returns
     -------
@@ -376,6 +377,8 @@ def run_monte_carlo(
             sums, m2 = bm, bm2
         count += n
         store[:, start : start + n] = d.T
+        if bar is not None:
+            bar.update(n * k_s)
     store.sort(axis=1)
     sd = np.sqrt(m2 / (count - 1)) if count > 1 else np.zeros(k_s)
     return reference + sums, sd, reference, store

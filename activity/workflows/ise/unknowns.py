@@ -477,6 +477,7 @@ def read_with_uncertainty(
     seed: Any = None,
     coverage: float = 0.95,
     budget_rows: int = 20,
+    progress: bool = False,
 ) -> UnknownResult:
     """Molality of samples with the full uncertainty (GUM or Monte Carlo).
 
@@ -509,6 +510,10 @@ def read_with_uncertainty(
         distribution is what it would be with draws of its own.
     budget_rows : int, default 20
         GUM: a full :class:`PropagationResult` budget is made for up to this many samples.
+    progress : bool, default False
+        A progress bar on standard error (only when it is a terminal; see
+        :mod:`activity.workflows.progress`): Monte Carlo trials × samples, or for the GUM the
+        model evaluations × samples.
 
     Returns
     -------
@@ -587,7 +592,20 @@ def read_with_uncertainty(
     C = np.eye(n_in)
     C[:n_cal, :n_cal] = corr
     cov = C * np.outer(us, us)
+    from ..progress import Progress
+
     results: list = []
+    n_s = int(np.prod(shape)) if shape else 1
+    n_evals = 2 * sum(1 for i in ins if i.u > 0) + (1 if method == "gum" else 0)
+    total = n_s * (n_evals + (int(trials or 100_000) if method != "gum" else 0))
+    bar = Progress(total, progress=progress, desc="uncertainty of unknowns", unit="eval")
+    f_plain = f
+
+    def f(**q: Any) -> NDArray:
+        out = f_plain(**q)
+        bar.update(n_s)
+        return out
+
     S = _sensitivities(f, ins, means, shape)
     contributions = {i.label: np.abs(S[idx]) * i.u for idx, i in enumerate(ins)}
     Sc = S[:n_cal]
@@ -603,8 +621,24 @@ def read_with_uncertainty(
             ]
     else:
         value, u, results = _monte_carlo(
-            cal, matrix, counter_ion, ins, cov, n_cal, E, m0, shape, spread_scale, has_model, S, trials, seed, coverage
+            cal,
+            matrix,
+            counter_ion,
+            ins,
+            cov,
+            n_cal,
+            E,
+            m0,
+            shape,
+            spread_scale,
+            has_model,
+            S,
+            trials,
+            seed,
+            coverage,
+            bar,
         )
+    bar.close()
     factor, _ = molarity_factor(reader._solution(np.where(np.isfinite(m0), m0, 0.0), 1.0, reader.T0))
     factor = np.broadcast_to(factor, shape)
     mm = parse_species(cal.ion).molar_mass * 1e6
@@ -674,6 +708,7 @@ def _monte_carlo(
     trials: int | None,
     seed: Any,
     coverage: float,
+    bar: Any = None,
 ) -> tuple[NDArray, NDArray, list]:
     """Monte Carlo of every sample at once (:mod:`._mc`); a PropagationResult per sample.
 
@@ -699,7 +734,9 @@ def _monte_carlo(
         spread_scale=np.ravel(np.broadcast_to(spread_scale, shape)),
     )
     m_start = np.ravel(np.broadcast_to(m0, shape))
-    mean, sd, ref, store = run_monte_carlo(reader, draws, np.broadcast_to(E, shape), m_start, trials, seed, RTOL)
+    mean, sd, ref, store = run_monte_carlo(
+        reader, draws, np.broadcast_to(E, shape), m_start, trials, seed, RTOL, bar=bar
+    )
     Sf = S.reshape(len(ins), -1)
     var_lin = np.einsum("ik,ij,jk->k", Sf, cov, Sf)
     used = [idx for idx, i in enumerate(ins) if i.u > 0]

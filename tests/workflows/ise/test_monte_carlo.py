@@ -150,3 +150,24 @@ def test_a_reading_whose_trials_fall_below_detection_is_an_error():
     E = cal.E0 + cal.slope * np.log10(cal.a0 * 1.001)  # barely above a0: the draws fall below
     with pytest.raises(InputError, match="below detection"):
         _run(cal, np.array([E]), MATRIX, counter_ion="Cl-", u_emf=1e-3, trials=1000, seed=1)
+
+
+def test_progress_bar_only_on_a_terminal(monkeypatch, capsys):
+    import io
+    import sys
+
+    class Terminal(io.StringIO):
+        def isatty(self):
+            return True
+
+    cal = calcium_cal()
+    E = cal.E0 + cal.slope * np.array([-3.0, -2.0])
+    kw = dict(counter_ion="Cl-", u_emf=3e-4, trials=5000, seed=4)
+    quiet = _run(cal, E, MATRIX, progress=True, **kw)  # stderr captured by pytest: not a terminal, no bar
+    assert capsys.readouterr().err == ""
+    term = Terminal()
+    monkeypatch.setattr(sys, "stderr", term)
+    shown = _run(cal, E, MATRIX, progress=True, **kw)
+    assert "uncertainty of unknowns" in term.getvalue()
+    # the bar changes nothing in the result
+    np.testing.assert_array_equal(shown.standard_uncertainty, quiet.standard_uncertainty)
