@@ -243,14 +243,25 @@ def _newton(
         if prev is not None or any_below or inter:
             step[done] = 0.0
         x -= step
-        m = np.exp(x, out=m)
-        a = np.abs(step, out=step)
+        a = np.abs(step)
+        if prev is not None and float(a.max()) < 1e-4:
+            # m·e^(−δ) = m·(1 − δ + δ²/2 − δ³/6): for |δ| < 1e-4 the rest is below 5e-18 relative
+            e = step * (-1.0 / 6.0)
+            e += 0.5
+            e *= step
+            e -= 1.0
+            e *= step
+            e += 1.0
+            m *= e
+        else:
+            m = np.exp(x, out=m)
         if prev is None:
             done |= a <= rtol
         else:
             # stop where the step is within rtol, or where the next one, by the quadratic
-            # convergence, would be: |δₖ|³/|δₖ₋₁|² ≤ rtol with |δₖ| < |δₖ₋₁|
-            done |= (a <= rtol) | ((a < prev) & (a * a * a <= rtol * prev * prev))
+            # convergence, would be: |δₖ|³/|δₖ₋₁|² ≤ rtol (this also stops a step that grew,
+            # but only once it is within rtol itself)
+            done |= (a <= rtol) | (a * a * a <= rtol * prev * prev)
         if done.all():
             return np.where(gone, np.nan, m) if (any_below or inter) else m
         prev = a
