@@ -171,3 +171,15 @@ def test_progress_bar_only_on_a_terminal(monkeypatch, capsys):
     assert "uncertainty of unknowns" in term.getvalue()
     # the bar changes nothing in the result
     np.testing.assert_array_equal(shown.standard_uncertainty, quiet.standard_uncertainty)
+
+
+def test_fast_kernel_with_a_temperature_per_sample(monkeypatch):
+    # samples at 20, 25 and 30 °C: A(T) per trial and sample from the checked polynomial
+    cal = calcium_cal("extended_debye_huckel")
+    matrix = Solution({"K+": 0.1, "Cl-": 0.1}, T=[293.15, 298.15, 303.15])
+    E = cal.E0 + cal.slope * np.array([-4.0, -3.0, -2.0])
+    kw = dict(counter_ion="Cl-", u_emf=3e-4, u_temperature=0.5, trials=3000, seed=9)
+    fast = _run(cal, E, matrix, **kw)
+    slow = _run(cal, E, matrix, monkeypatch, general=True, **kw)
+    np.testing.assert_allclose(fast.value, slow.value, rtol=1e-9)
+    np.testing.assert_allclose(fast.standard_uncertainty, slow.standard_uncertainty, rtol=1e-7)
