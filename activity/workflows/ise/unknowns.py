@@ -507,7 +507,9 @@ def read_with_uncertainty(
         probability. The samples are drawn together: one calibration draw per trial for
         all of them, and one draw each of the temperature offset, matrix factor and model
         choice per trial (a shared thermostat, matrix recipe and model); each sample's own
-        distribution is what it would be with draws of its own.
+        distribution is what it would be with draws of its own. With a calibration that
+        speciates, every trial is speciated (the general reader): about 4·10³ trial-samples
+        per second on the 2-core machine, against about 10⁷ per second without.
     budget_rows : int, default 20
         GUM: a full :class:`PropagationResult` budget is made for up to this many samples.
     progress : bool, default False
