@@ -509,7 +509,7 @@ def read_with_uncertainty(
         choice per trial (a shared thermostat, matrix recipe and model); each sample's own
         distribution is what it would be with draws of its own. With a calibration that
         speciates, every trial is speciated (the general reader): about 4·10³ trial-samples
-        per second on the 2-core machine, against about 10⁷ per second without.
+        per second on the shared 2-core machine, against about 5·10⁶ per second without.
     budget_rows : int, default 20
         GUM: a full :class:`PropagationResult` budget is made for up to this many samples.
     progress : bool, default False
