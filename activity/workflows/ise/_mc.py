@@ -41,6 +41,9 @@ __all__ = ["MCDraws", "run_monte_carlo"]
 #: L2 cache: an elementwise operation ran 4–5× faster per value than on blocks of 2²⁰ in
 #: the same run (measured on the 2-core machine; numpy's per-call cost is still small).
 BLOCK = 1 << 16
+#: Largest store of Monte Carlo values (float32, kept sorted per sample for the coverage
+#: intervals) one call may hold: 2 GB (design choice, a quarter of a small machine's memory).
+MAX_STORE_BYTES = 2_000_000_000
 #: Newton passes before a block is handed to the general reader.
 MAX_NEWTON = 30
 #: Relative accuracy demanded of the polynomial A(T), B(T) against the water model.
@@ -309,6 +312,13 @@ def run_monte_carlo(
     lgk_keys = [key for key in draws.cal_keys if key.startswith("lgK_")]
     rng = np.random.default_rng(seed)
     tb = max(1, min(trials, (block or BLOCK) // max(k_s, 1)))
+    if k_s * trials * 4 > MAX_STORE_BYTES:
+        raise InputError(
+            f"{k_s} samples × {trials} trials need {k_s * trials * 4 / 1e9:.1f} GB for the values behind the "
+            f"coverage intervals (limit {MAX_STORE_BYTES / 1e9:g} GB): read the samples in groups, or use fewer trials",
+            field="trials",
+            value=trials,
+        )
     store = np.empty((k_s, trials), np.float32)
     reference = None
     sums = np.zeros(k_s)
