@@ -185,7 +185,7 @@ def test_fast_kernel_with_a_temperature_per_sample(monkeypatch):
     np.testing.assert_allclose(fast.standard_uncertainty, slow.standard_uncertainty, rtol=1e-7)
 
 
-def test_too_many_values_to_keep_is_refused_before_any_work(monkeypatch):
+def test_too_many_values_to_keep_is_refused(monkeypatch):
     monkeypatch.setattr(mc, "MAX_STORE_BYTES", 4 * 1000 * 2 - 1)  # room for 1000 trials of one sample only
     cal = calcium_cal()
     E = cal.E0 + cal.slope * np.array([-3.0, -2.0])
