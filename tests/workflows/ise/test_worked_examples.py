@@ -1,5 +1,8 @@
 """Worked examples from published sources for the ISE workflow (source beside each value).
 
+Read: Wang (2000) examples 5-2 (calibration) and 5-3 (selectivity, Nikolsky–Eisenman). From
+memory: the one-point known addition (Harvey 2016) and the IUPAC 18/z mV criterion.
+
 Status of each value as in /work/shared/reference-data/published-values.toml: "read" when
 the source was read, "from memory" when recalled (then the check also rests on the closed
 form computed here, which does not depend on the memory).
@@ -59,3 +62,40 @@ def test_detection_limit_lies_18_over_z_mV_off_the_line(z, ion, counter):
     assert a_dl == pytest.approx(a0, rel=1e-6)
     departure = cal.emf_from_activity(a_dl) - (cal.E0 + cal.slope * np.log10(a_dl))
     assert 1000 * departure == pytest.approx(18.0 / z, rel=0.02)  # 17.8/z mV: "18/z" is rounded
+
+
+def test_hydroxide_interference_on_a_fluoride_electrode():
+    # Wang, J. "Analytical Electrochemistry", 2nd ed. (2000), Example 5-3, p. 168 (read:
+    # digilib.universitaspertamina.ac.id/ebook/Analytical%20Electrochemistry/files/basic-html/page183.html):
+    # 5×10⁻⁵ M F⁻ at pH 10 ([OH⁻] = 10⁻⁴ M), k(F⁻, OH⁻) = 0.1, activity coefficients 1:
+    # E = K − 0.059 lg(5×10⁻⁵ + 0.1×10⁻⁴) = K + 0.249 V against K + 0.254 V without OH⁻: error −5 mV.
+    from activity.nernst.electrodes import IonSelectiveElectrode
+
+    ise = IonSelectiveElectrode("F-", E0=0.0, selectivity={"OH-": 0.1})
+    with_oh = Solution({"F-": 5e-5, "OH-": 1e-4, "Na+": 1.5e-4})
+    without = Solution({"F-": 5e-5, "Na+": 5e-5})
+    error_mV = 1000 * (ise.potential(with_oh, "ideal") - ise.potential(without, "ideal"))
+    # exact: −59.16·lg(6/5) = −4.68 mV; the book rounds its two potentials to 1 mV each: ±1 mV
+    assert error_mV == pytest.approx(-5.0, abs=1.0)
+    assert error_mV == pytest.approx(-1000 * nernst_slope_z(298.15, 1) * np.log10(1.2), rel=1e-9)
+    # the book's two potentials (K = 0): +0.249 V and +0.254 V, written to 1 mV with 0.059 V/decade;
+    # ours use 0.05916 V/decade (0.27 % more, +0.7 mV here): 1.5 mV covers the rounding and the slope
+    assert ise.potential(with_oh, "ideal") == pytest.approx(0.249, abs=0.0015)
+    assert ise.potential(without, "ideal") == pytest.approx(0.254, abs=0.0015)
+
+
+def test_calcium_calibration_example():
+    # Wang (2000), Example 5-2, p. 168 (read, same page): a calcium electrode reads 100, 129 and
+    # 158 mV in 10⁻⁵, 10⁻⁴ and 10⁻³ M Ca²⁺ (activity coefficients 1): slope 29 mV/decade, intercept
+    # 245 mV, and 5×10⁻⁴ M should read 245 + 29 lg(5×10⁻⁴) = 149.3 mV.
+    c = np.array([1e-5, 1e-4, 1e-3])
+    std = Solution({"Ca^2+": c, "Cl-": 2 * c})
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ActivityWarning)
+        cal = calibrate_ise(std, np.array([100.0, 129.0, 158.0]) * 1e-3, "Ca^2+", model="ideal", detection_term=0.0)
+    assert 1000 * cal.slope == pytest.approx(29.0, abs=1e-9)  # the three points lie on a line
+    assert 1000 * cal.E0 == pytest.approx(245.0, abs=1e-9)
+    assert 1000 * cal.emf_from_activity(5e-4) == pytest.approx(149.3, abs=0.05)  # the book rounds to 0.1 mV
+    # and the reading 149.3 mV reads back 5×10⁻⁴ within the book's rounding (0.05 mV ≈ 0.4 %)
+    m = cal.molality(0.1493, Solution({"Na+": 0.0, "Cl-": 0.0}))
+    assert m == pytest.approx(5e-4, rel=0.004)
