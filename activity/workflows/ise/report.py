@@ -438,23 +438,28 @@ def calibration_record(
             rec.begin("ise-extra")
         if key == "selectivity":
             rec.heading("Selectivity coefficients")
+            named = all(r.method in j for j, r in val.items())  # the label already names the method
             rec.table(
-                ["interferent", "method", "lg K", "u(lg K)", "K"],
-                [[j, r.method, r.lg_K, r.u_lg_K, r.K] for j, r in val.items()],
+                ["interferent"] + ([] if named else ["method"]) + ["lg K", "u(lg K)"],
+                [[j] + ([] if named else [r.method]) + [r.lg_K, r.u_lg_K] for j, r in val.items()],
                 digits=4,
             )
         elif key == "addition":
             rec.heading("Known addition")
             rec.table(
-                ["quantity", "value", "unit"],
-                [["c(x)", val.concentration, "mol/L"], ["u(c(x))", val.standard_uncertainty, "mol/L"]]
-                + ([["c(x), Gran", val.gran_concentration, "mol/L"]] if val.gran_concentration else []),
+                ["quantity", "mol/L"],
+                [["c(x)", val.concentration], ["u(c(x))", val.standard_uncertainty]]
+                + ([["c(x), Gran", val.gran_concentration]] if val.gran_concentration else []),
+                digits=4,
             )
         elif key == "drift":
             rec.heading("Drift")
             rec.table(
-                ["quantity", "value", "unit"],
-                [["drift of E0", val.rate_mV_per_h, "mV/h"], ["slope change", val.slope_change_percent, "%"]],
+                ["quantity", "value"],
+                [
+                    ["drift of E0", f"{fmt(val.rate_mV_per_h, 3)} mV/h"],
+                    ["slope change", f"{fmt(val.slope_change_percent, 3)} % of Nernstian"],
+                ],
             )
         if len(shown) > 1:
             rec.end()

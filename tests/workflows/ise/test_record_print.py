@@ -51,10 +51,12 @@ def test_budget_condensed_for_print():
         assert total == pytest.approx(100.0, abs=0.3)  # each share printed to 0.1 %
 
 
-@pytest.mark.parametrize("extras", [False, True])
+@pytest.mark.parametrize("extras", ["none", "addition+selectivity", "addition+selectivity+drift"])
 def test_record_prints_on_one_a4_page(tmp_path, extras, capsys):
     rec = tmp_path / "r.html"
-    if extras:
+    if extras == "none":
+        args = ["demo", "--record", str(rec)]
+    else:
         assert main(["ise-examples", str(tmp_path / "ex")]) == 0
         ex = tmp_path / "ex"
         args = [
@@ -71,8 +73,8 @@ def test_record_prints_on_one_a4_page(tmp_path, extras, capsys):
             "--record",
             str(rec),
         ]
-    else:
-        args = ["demo", "--record", str(rec)]
+        if extras.endswith("drift"):
+            args += ["--bracket", str(ex / "standards.csv"), "--elapsed", "90 min"]
     assert main(args) == 0
     capsys.readouterr()
     assert _pdf_pages(rec, tmp_path / "r.pdf") == 1
