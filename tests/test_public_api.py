@@ -210,3 +210,15 @@ def test_lower_layers_import_no_higher_layer():
                 if target_rank > layer and not (layer == 4 and target and target[0] == "io"):
                     bad.append(f"{'/'.join(rel)} imports {target[0] if target else '?'}")
     assert not bad, bad
+
+
+def test_calibrate_ise_signature():
+    params = inspect.signature(act.calibrate_ise).parameters
+    assert list(params)[:3] == ["standards", "emf", "ion"]
+    assert {"model", "slope", "interferents", "weights", "speciation"} <= set(params)
+    assert params["speciation"].default is None and params["model"].default == "davies"
+    from activity.workflows.ise.calibration import FORMAT, ISECalibration
+    from activity.workflows.ise.unknowns import read_with_uncertainty
+
+    assert FORMAT == 2 and isinstance(ISECalibration.activity_basis, property)
+    assert {"method", "trials", "seed", "progress"} <= set(inspect.signature(read_with_uncertainty).parameters)

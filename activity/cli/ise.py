@@ -34,6 +34,8 @@ def _method(args: argparse.Namespace) -> Any:
         over["counter_ion"] = args.counter_ion
     if args.uncertainty:
         over["uncertainty_method"] = args.uncertainty
+    if getattr(args, "speciate", False):
+        over["speciation"] = dict(method.speciation or {})
     if args.u_reading:
         from ..io.units import parse_potential
 
@@ -70,6 +72,7 @@ def _calibration(args: argparse.Namespace, method: Any) -> Any:
         acceptance=method.acceptance,
         linear_deviation=method.linear_deviation,
         labels=labels,
+        speciation=method.speciation,
     )
 
 
@@ -90,6 +93,7 @@ def _samples(args: argparse.Namespace, cal: Any, method: Any) -> Any:
         trials=method.trials,
         seed=method.seed,
         model_choice=method.model_choice,
+        progress=True,  # drawn only when standard error is a terminal
     )
     return Samples(labels, E, read, unc)
 
@@ -349,6 +353,11 @@ def register(subparsers: Any) -> None:
     p.add_argument("--ion", help="primary ion, e.g. 'Ca2+' (overrides the method file)")
     p.add_argument("-m", "--model", help="activity model (default davies)")
     p.add_argument("--slope", choices=("free", "nernstian"), help="fit the slope or fix it at Nernstian")
+    p.add_argument(
+        "--speciate",
+        action="store_true",
+        help="activities of the free ion after speciation (for a complexing matrix: sulfate, citrate …)",
+    )
     p.add_argument("--counter-ion", metavar="ION", help="ion added with the primary ion in samples, e.g. 'Cl-'")
     p.add_argument(
         "--samples",

@@ -83,12 +83,27 @@ class Record:
         The record's title (first heading and the page title).
     subtitle : str, optional
         One line under the title (what, where, which instrument — the user's words).
+    style : str, optional
+        CSS added after the common style (a workflow's own layout, e.g. for one printed page).
     """
 
-    def __init__(self, title: str, *, subtitle: str | None = None) -> None:
+    def __init__(self, title: str, *, subtitle: str | None = None, style: str = "") -> None:
         self.title = title
         self.subtitle = subtitle
+        self.style = style
         self._parts: list[str] = []
+        self._open = 0
+
+    def begin(self, css_class: str) -> None:
+        """Open a block (a ``div`` of ``css_class``) around what follows, until :meth:`end`."""
+        self._parts.append(f'<div class="{_esc(css_class)}">')
+        self._open += 1
+
+    def end(self) -> None:
+        """Close the innermost block opened by :meth:`begin`."""
+        if self._open:
+            self._parts.append("</div>")
+            self._open -= 1
 
     def heading(self, text: str) -> None:
         """Start a section."""
@@ -166,6 +181,10 @@ class Record:
         return (
             '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
             f'<meta name="viewport" content="width=device-width, initial-scale=1">'
-            f"<title>{_esc(self.title)}</title><style>{_STYLE}</style></head><body>"
-            f"<h1>{_esc(self.title)}</h1>{sub}" + "\n".join(self._parts) + footer + "</body></html>\n"
+            f"<title>{_esc(self.title)}</title><style>{_STYLE}{self.style}</style></head><body>"
+            f"<h1>{_esc(self.title)}</h1>{sub}"
+            + "\n".join(self._parts)
+            + "</div>" * self._open
+            + footer
+            + "</body></html>\n"
         )

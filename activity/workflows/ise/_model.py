@@ -93,27 +93,44 @@ class IonTerms:
         return out
 
 
-def ion_terms(sol: Solution, ion: str, z: int, interferents: Any, model: Any) -> IonTerms:
+def ion_terms(
+    sol: Solution, ion: str, z: int, interferents: Any, model: Any, speciation: Mapping[str, Any] | None = None
+) -> IonTerms:
     """γ and activities of the primary ion and the interferents of ``sol`` under ``model``.
 
     The primary ion may be absent (a sample matrix): then aᵢ = 0 and γᵢ is that of an ion
-    at trace level in the matrix.
+    at trace level in the matrix. With ``speciation`` (keyword arguments of
+    :func:`activity.speciate`) the activities are those of the free ions after speciation,
+    and ``gamma_primary`` is the free activity over the total molality (the fraction bound
+    in complexes and ion pairs included).
     """
     from ...coefficients import get_model
 
     mod = get_model(model) if isinstance(model, str) else model
     probe = sol if ion in sol.species else sol.replace({ion: 0.0})
-    g = mod.activity_coefficients(probe)
+    extra: tuple = ()
+    if speciation is not None:
+        from ...nernst.electrodes import free_solution
+
+        free, extra = free_solution(probe, mod, speciation)
+    else:
+        free = probe
+    g = mod.activity_coefficients(free)
     lg = g.log10_gamma
-    i = probe.index(ion)
+    i = free.index(ion)
     gamma = 10.0 ** lg[i]
+    a_i = free.m[i] * gamma
+    if speciation is not None:
+        total = np.asarray(probe.m[probe.index(ion)], float)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            gamma = np.where(total > 0, a_i / np.where(total > 0, total, 1.0), gamma)
     acts = {}
     for name in interferents:
-        if name in probe.species:
-            k = probe.index(name)
-            zj = int(probe.charges[k])
-            acts[name] = (probe.m[k] * 10.0 ** lg[k], z / zj)
-    return IonTerms(probe.m[i] * gamma, gamma, acts, g.model, tuple(g.notes), g.in_range)
+        if name in free.species:
+            k = free.index(name)
+            zj = int(free.charges[k])
+            acts[name] = (free.m[k] * 10.0 ** lg[k], z / zj)
+    return IonTerms(a_i, gamma, acts, g.model, tuple(g.notes) + tuple(extra), g.in_range)
 
 
 def molarity_factor(sol: Solution) -> tuple[NDArray[np.float64], tuple]:

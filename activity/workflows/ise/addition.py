@@ -74,11 +74,11 @@ class AdditionResult:
     def to_dict(self) -> dict:
         return {
             "concentration_mol_per_L": self.concentration,
-            "u_mol_per_L": self.standard_uncertainty,
-            "slope_V_per_decade": self.slope,
+            "u_concentration_mol_per_L": self.standard_uncertainty,
+            "slope_mV_per_decade": 1e3 * self.slope,
             "slope_fitted": self.slope_fitted,
             "gran_concentration_mol_per_L": self.gran_concentration,
-            "residuals_V": None if self.residuals is None else np.asarray(self.residuals).tolist(),
+            "residuals_mV": None if self.residuals is None else (1e3 * np.asarray(self.residuals)).tolist(),
             "gamma": None if self.gamma is None else np.asarray(self.gamma).tolist(),
             "notes": list(self.notes),
         }

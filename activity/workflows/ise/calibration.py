@@ -56,6 +56,33 @@ LINEAR_DEVIATION = 1.0e-3
 MAX_EMF = 5.0
 
 
+#: Version of the saved-calibration format written by :meth:`ISECalibration.to_dict` (format 1:
+#: potentials in V; format 2: keys with their units, potentials in mV). Both are read.
+FORMAT = 2
+#: Internal name → (key in the saved file, factor from SI) for the fitted parameters,
+#: the standards' columns and the acceptance thresholds.
+_PARAM_JSON = {"E0": ("E0_mV", 1e3), "slope": ("slope_mV_per_decade", 1e3)}
+_STD_JSON = {
+    "label": ("label", 1.0),
+    "molality": ("molality_mol_per_kg", 1.0),
+    "molarity": ("molarity_mol_per_L", 1.0),
+    "activity": ("activity", 1.0),
+    "lg_activity": ("lg_activity", 1.0),
+    "gamma": ("gamma", 1.0),
+    "emf": ("emf_mV", 1e3),
+    "fitted": ("fitted_mV", 1e3),
+    "residual": ("residual_mV", 1e3),
+    "T": ("T_K", 1.0),
+}
+_ACC_JSON = {
+    "slope_min_percent": ("slope_min_percent", 1.0),
+    "slope_max_percent": ("slope_max_percent", 1.0),
+    "max_residual_sd": ("max_residual_sd_mV", 1e3),
+    "max_detection_limit": ("max_detection_limit_activity", 1.0),
+    "max_drift": ("max_drift_mV_per_h", 1e3 * 3600.0),
+}
+
+
 @dataclass(frozen=True, repr=False)
 class ISECalibration:
     """A fitted ion-selective electrode calibration.
@@ -99,7 +126,10 @@ class ISECalibration:
     notes : tuple of str
     standards : dict
         Per standard: ``label``, ``molality``, ``activity``, ``lg_activity``, ``emf``,
-        ``fitted``, ``T``, ``gamma``.
+        ``fitted``, ``T``, ``gamma`` (with speciation: free activity / total molality).
+    speciation : dict or None
+        Keyword arguments of :func:`activity.speciate` when the free-ion activities come
+        from the speciation layer (``activity_basis`` says which, in words).
     """
 
     ion: str
@@ -131,6 +161,15 @@ class ISECalibration:
     fixed_selectivity: tuple = ()  # interferents whose K was given, not fitted
     standards_solution: Solution | None = None  # the standards as given (for refits by other models)
     fit_options: dict = field(default_factory=dict)  # slope, interferents, detection_term, weights
+    speciation: dict | None = None  # keyword arguments of activity.speciate, or None (total ion × γ)
+
+    @property
+    def activity_basis(self) -> str:
+        """How the activities of the standards (and of samples read) were found, in words."""
+        if self.speciation is None:
+            return "total ion × γ (no speciation)"
+        opts = ", ".join(f"{k}={v!r}" for k, v in self.speciation.items())
+        return "free ion from speciation" + (f" ({opts})" if opts else "")
 
     # ------------------------------------------------------------------ derived
     @property
@@ -209,47 +248,67 @@ class ISECalibration:
 
     # ------------------------------------------------------------------ I/O forms
     def to_dict(self) -> dict:
-        """Plain data (JSON-ready) from which :meth:`from_dict` rebuilds the calibration."""
+        """Plain data (JSON-ready) from which :meth:`from_dict` rebuilds the calibration.
+
+        Format 2: every key names its unit (``E0_mV``, ``slope_mV_per_decade``, ``T_K``,
+        ``molality_mol_per_kg`` …); potentials in mV as the reports show them; activities,
+        γ, K and lg values carry no unit. The covariance is in the units of ``parameters``
+        (``E0_mV``, ``slope_mV_per_decade``, ``lg a0``, ``lg K(<ion>)``).
+        """
+        scale = np.array([_PARAM_JSON.get(p, (p, 1.0))[1] for p in self.parameters])
+        acc = self.acceptance.to_dict()
         return {
             "kind": "activity ISE calibration",
-            "format": 1,
+            "format": FORMAT,
             "ion": self.ion,
             "model": self.model,
             "slope_mode": self.slope_mode,
-            "E0_V": self.E0,
-            "slope_V_per_decade": self.slope,
+            "speciation": None if self.speciation is None else dict(self.speciation),
+            "E0_mV": 1e3 * self.E0,
+            "slope_mV_per_decade": 1e3 * self.slope,
             "slope_percent": self.slope_percent,
             "T_K": self.T,
             "a0": self.a0,
             "selectivity": dict(self.selectivity),
             "fixed_selectivity": list(self.fixed_selectivity),
-            "parameters": list(self.parameters),
-            "covariance": np.asarray(self.covariance).tolist(),
-            "residual_sd_V": self.residual_sd,
+            "parameters": [_PARAM_JSON.get(p, (p, 1.0))[0] for p in self.parameters],
+            "covariance": (np.asarray(self.covariance) * np.outer(scale, scale)).tolist(),
+            "residual_sd_mV": 1e3 * self.residual_sd,
             "dof": self.dof,
             "detection_limit": {
                 "activity": self.detection_limit_activity,
-                "u_lg": self.u_lg_detection_limit,
-                "mol/kg": self.detection_limit_molality,
-                "mol/L": self.detection_limit_molarity,
-                "interference_part": self.interference_at_limit,
+                "u_lg_activity": self.u_lg_detection_limit,
+                "molality_mol_per_kg": self.detection_limit_molality,
+                "molarity_mol_per_L": self.detection_limit_molarity,
+                "interference_activity": self.interference_at_limit,
             },
             "linear_range_activity": list(self.linear_range),
-            "linear_deviation_V": self.linear_deviation,
-            "acceptance": self.acceptance.to_dict(),
+            "linear_deviation_mV": 1e3 * self.linear_deviation,
+            "acceptance": {
+                _ACC_JSON[k][0]: (None if v is None else v * _ACC_JSON[k][1]) for k, v in acc.items() if k in _ACC_JSON
+            }
+            | {"user_set": [_ACC_JSON[k][0] for k in acc["user_set"]]},
             "verdicts": [v.to_dict() for v in self.verdicts],
             "notes": list(self.notes),
-            "fit_options": self.fit_options,
+            "fit_options": {
+                k if k != "linear_deviation" else "linear_deviation_mV": (v if k != "linear_deviation" else 1e3 * v)
+                for k, v in self.fit_options.items()
+            },
             "composition": None
             if self.standards_solution is None
             else {
-                "molality": {k: np.asarray(v).tolist() for k, v in self.standards_solution.molalities.items()},
+                "molality_mol_per_kg": {
+                    k: np.asarray(v).tolist() for k, v in self.standards_solution.molalities.items()
+                },
                 "T_K": np.broadcast_to(self.standards_solution.T_compact, self.standards_solution.shape).tolist(),
             },
             "standards": [
                 {
-                    key: (vals[i] if isinstance(vals, (list, tuple)) else float(vals[i]))
+                    _STD_JSON[key][0]: (
+                        vals[i] if isinstance(vals, (list, tuple)) else float(vals[i]) * _STD_JSON[key][1]
+                    )
                     for key, vals in self.standards.items()
+                    if key in _STD_JSON
                 }
                 for i in range(len(self.residuals))
             ],
@@ -257,71 +316,144 @@ class ISECalibration:
 
     @classmethod
     def from_dict(cls, d: Mapping[str, Any]) -> ISECalibration:
-        """Rebuild a calibration saved with :meth:`to_dict` (InputError names a missing key)."""
+        """Rebuild a calibration saved with :meth:`to_dict` (format 2, or format 1 of earlier
+        versions, potentials in V and other key names). InputError names a missing key."""
         if not isinstance(d, Mapping) or d.get("kind") != "activity ISE calibration":
             raise InputError(
                 "not a saved ISE calibration (missing kind = 'activity ISE calibration')",
                 field="calibration",
                 value=None,
             )
+        fmt_ = d.get("format", 1)
+        if fmt_ not in (1, 2):
+            raise InputError(
+                f"saved calibration format {fmt_!r} is not known to this version (reads 1 and {FORMAT})",
+                field="calibration.format",
+                value=fmt_,
+            )
         try:
-            ion, z = check_ion(d["ion"], "calibration.ion")
-            acc = d.get("acceptance", {})
-            acceptance = Acceptance.from_mapping({k: v for k, v in acc.items() if k in set(acc.get("user_set", []))})
-            std_rows = d.get("standards", [])
-            keys = list(std_rows[0]) if std_rows else []
-            standards = {
-                k: ([r[k] for r in std_rows] if k == "label" else np.array([r[k] for r in std_rows], float))
-                for k in keys
-            }
-            dl = d["detection_limit"]
-            slope = float(d["slope_V_per_decade"])
-            T = float(d["T_K"])
-            verdicts = tuple(
-                Verdict(v["criterion"], v["passed"], v["value"], v["threshold"], v["basis"])
-                for v in d.get("verdicts", [])
-            )
-            comp = d.get("composition")
-            sol = None if not comp else Solution(comp["molality"], T=comp["T_K"], neutrality="ignore")
-            return cls(
-                standards_solution=sol,
-                fit_options=dict(d.get("fit_options", {})),
-                ion=ion,
-                z=z,
-                model=str(d["model"]),
-                slope_mode=str(d["slope_mode"]),
-                E0=float(d["E0_V"]),
-                slope=slope,
-                slope_factor=slope / float(nernst_slope_z(T, z)),
-                a0=float(d["a0"]),
-                selectivity={parse_species(k).name: float(v) for k, v in d["selectivity"].items()},
-                T=T,
-                parameters=tuple(d["parameters"]),
-                covariance=np.array(d["covariance"], float).reshape(len(d["parameters"]), len(d["parameters"])),
-                residuals=np.array(standards.get("residual", []), float),
-                residual_sd=float(d["residual_sd_V"]),
-                dof=int(d["dof"]),
-                detection_limit_activity=_num(dl["activity"]),
-                u_lg_detection_limit=_num(dl["u_lg"]),
-                detection_limit_molality=_num(dl["mol/kg"]),
-                detection_limit_molarity=_num(dl["mol/L"]),
-                linear_range=tuple(float(x) for x in d["linear_range_activity"]),
-                linear_deviation=float(d["linear_deviation_V"]),
-                verdicts=verdicts,
-                notes=tuple(d.get("notes", ())),
-                standards=standards,
-                acceptance=acceptance,
-                interference_at_limit=float(dl.get("interference_part", 0.0)),
-                fixed_selectivity=tuple(d.get("fixed_selectivity", ())),
-            )
+            return cls._from_v2(d) if fmt_ == 2 else cls._from_v1(d)
         except KeyError as exc:
             raise InputError("saved calibration lacks a key", field="calibration", value=str(exc.args[0])) from None
-        except (TypeError, ValueError) as exc:
+        except (TypeError, ValueError, AttributeError) as exc:
             if isinstance(exc, InputError):
                 raise
             raise InputError(
                 f"saved calibration has a malformed value ({exc})", field="calibration", value=None
             ) from None
+
+    @classmethod
+    def _from_v2(cls, d: Mapping[str, Any]) -> ISECalibration:
+        """Format 2 → the format-1 layout (SI, the old key names), read by :meth:`_from_v1`."""
+        back_std = {v[0]: (k, v[1]) for k, v in _STD_JSON.items()}
+        back_par = {v[0]: (k, v[1]) for k, v in _PARAM_JSON.items()}
+        back_acc = {v[0]: (k, v[1]) for k, v in _ACC_JSON.items()}
+        names = list(d["parameters"])
+        scale = np.array([back_par.get(p, (p, 1.0))[1] for p in names])
+        dl = d["detection_limit"]
+        acc = dict(d.get("acceptance", {}))
+        comp = d.get("composition")
+        opts = dict(d.get("fit_options", {}))
+        if "linear_deviation_mV" in opts:
+            opts["linear_deviation"] = 1e-3 * float(opts.pop("linear_deviation_mV"))
+        v1 = {
+            "kind": d["kind"],
+            "ion": d["ion"],
+            "model": d["model"],
+            "slope_mode": d["slope_mode"],
+            "speciation": d.get("speciation"),
+            "E0_V": 1e-3 * float(d["E0_mV"]),
+            "slope_V_per_decade": 1e-3 * float(d["slope_mV_per_decade"]),
+            "T_K": d["T_K"],
+            "a0": d["a0"],
+            "selectivity": d["selectivity"],
+            "fixed_selectivity": d.get("fixed_selectivity", []),
+            "parameters": [back_par.get(p, (p, 1.0))[0] for p in names],
+            "covariance": (
+                np.asarray(d["covariance"], float).reshape(len(names), len(names)) / np.outer(scale, scale)
+            ).tolist(),
+            "residual_sd_V": 1e-3 * float(d["residual_sd_mV"]),
+            "dof": d["dof"],
+            "detection_limit": {
+                "activity": dl["activity"],
+                "u_lg": dl["u_lg_activity"],
+                "mol/kg": dl["molality_mol_per_kg"],
+                "mol/L": dl["molarity_mol_per_L"],
+                "interference_part": dl.get("interference_activity", 0.0),
+            },
+            "linear_range_activity": d["linear_range_activity"],
+            "linear_deviation_V": 1e-3 * float(d["linear_deviation_mV"]),
+            "acceptance": {
+                back_acc[k][0]: (None if v is None else float(v) / back_acc[k][1])
+                for k, v in acc.items()
+                if k in back_acc
+            }
+            | {"user_set": [back_acc[k][0] for k in acc.get("user_set", []) if k in back_acc]},
+            "verdicts": d.get("verdicts", []),
+            "notes": d.get("notes", []),
+            "fit_options": opts,
+            "composition": None if not comp else {"molality": comp["molality_mol_per_kg"], "T_K": comp["T_K"]},
+            "standards": [
+                {
+                    back_std[k][0]: (v if back_std[k][0] == "label" else float(v) / back_std[k][1])
+                    for k, v in row.items()
+                    if k in back_std
+                }
+                for row in d.get("standards", [])
+            ],
+        }
+        return cls._from_v1(v1)
+
+    @classmethod
+    def _from_v1(cls, d: Mapping[str, Any]) -> ISECalibration:
+        ion, z = check_ion(d["ion"], "calibration.ion")
+        acc = d.get("acceptance", {})
+        acceptance = Acceptance.from_mapping({k: v for k, v in acc.items() if k in set(acc.get("user_set", []))})
+        std_rows = d.get("standards", [])
+        keys = list(std_rows[0]) if std_rows else []
+        standards = {
+            k: ([r[k] for r in std_rows] if k == "label" else np.array([r[k] for r in std_rows], float)) for k in keys
+        }
+        dl = d["detection_limit"]
+        slope = float(d["slope_V_per_decade"])
+        T = float(d["T_K"])
+        verdicts = tuple(
+            Verdict(v["criterion"], v["passed"], v["value"], v["threshold"], v["basis"]) for v in d.get("verdicts", [])
+        )
+        comp = d.get("composition")
+        sol = None if not comp else Solution(comp["molality"], T=comp["T_K"], neutrality="ignore")
+        return cls(
+            standards_solution=sol,
+            fit_options=dict(d.get("fit_options", {})),
+            ion=ion,
+            z=z,
+            model=str(d["model"]),
+            slope_mode=str(d["slope_mode"]),
+            E0=float(d["E0_V"]),
+            slope=slope,
+            slope_factor=slope / float(nernst_slope_z(T, z)),
+            a0=float(d["a0"]),
+            selectivity={parse_species(k).name: float(v) for k, v in d["selectivity"].items()},
+            T=T,
+            parameters=tuple(d["parameters"]),
+            covariance=np.array(d["covariance"], float).reshape(len(d["parameters"]), len(d["parameters"])),
+            residuals=np.array(standards.get("residual", []), float),
+            residual_sd=float(d["residual_sd_V"]),
+            dof=int(d["dof"]),
+            detection_limit_activity=_num(dl["activity"]),
+            u_lg_detection_limit=_num(dl["u_lg"]),
+            detection_limit_molality=_num(dl["mol/kg"]),
+            detection_limit_molarity=_num(dl["mol/L"]),
+            linear_range=tuple(float(x) for x in d["linear_range_activity"]),
+            linear_deviation=float(d["linear_deviation_V"]),
+            verdicts=verdicts,
+            notes=tuple(d.get("notes", ())),
+            standards=standards,
+            acceptance=acceptance,
+            interference_at_limit=float(dl.get("interference_part", 0.0)),
+            fixed_selectivity=tuple(d.get("fixed_selectivity", ())),
+            speciation=None if d.get("speciation") is None else dict(d["speciation"]),
+        )
 
     def refit(self, model: Any) -> ISECalibration:
         """The same standards and options fitted with another activity model."""
@@ -342,6 +474,7 @@ class ISECalibration:
             acceptance=self.acceptance,
             linear_deviation=o.get("linear_deviation", LINEAR_DEVIATION),
             labels=o.get("labels"),
+            speciation=self.speciation,
         )
 
     def with_drift(self, drift: Any) -> ISECalibration:
@@ -572,6 +705,7 @@ def calibrate_ise(
     linear_deviation: float = LINEAR_DEVIATION,
     labels: Sequence[str] | None = None,
     drift: Any = None,
+    speciation: Mapping[str, Any] | None = None,
 ) -> ISECalibration:
     """Fit an ion-selective electrode calibration to standards.
 
@@ -604,6 +738,11 @@ def calibrate_ise(
         Names of the standards (for notes and reports).
     drift : DriftResult, optional
         A bracketing check (:func:`activity.workflows.ise.drift.drift_check`) for the drift verdict.
+    speciation : Mapping, optional
+        Keyword arguments of :func:`activity.speciate` (``{}`` for its defaults): the activity
+        of the free ion after speciation is used, for a matrix that complexes or pairs the
+        ion (Ca²⁺ with sulfate or citrate); samples read with this calibration are speciated
+        the same way. Default: the total ion × γ.
 
     Returns
     -------
@@ -664,7 +803,13 @@ def calibrate_ise(
     lin_dev = float(finite(linear_deviation, "linear_deviation", positive=True))
     fixed_K, fit_K = _interferent_spec(interferents, ion, z)
 
-    terms = ion_terms(standards, ion, z, list(fixed_K) + fit_K, model)
+    if speciation is not None and not isinstance(speciation, Mapping):
+        raise InputError(
+            "give the keyword arguments of activity.speciate as a mapping ({} for its defaults)",
+            field="speciation",
+            value=speciation,
+        )
+    terms = ion_terms(standards, ion, z, list(fixed_K) + fit_K, model, None if speciation is None else dict(speciation))
     ai = np.asarray(terms.a_primary, float)
     if np.any(ai <= 0):
         raise InputError(
@@ -860,6 +1005,7 @@ def calibrate_ise(
             "linear_deviation": lin_dev,
             "labels": labels,
         },
+        speciation=None if speciation is None else dict(speciation),
     )
     return replace(cal, verdicts=judge(cal, acc, drift))
 

@@ -74,8 +74,8 @@ class DriftResult:
     def to_dict(self) -> dict:
         return {
             "rate_mV_per_h": self.rate_mV_per_h,
-            "E0_before_V": self.before.E0,
-            "E0_after_V": self.after.E0,
+            "E0_before_mV": 1e3 * self.before.E0,
+            "E0_after_mV": 1e3 * self.after.E0,
             "slope_percent_before": self.before.slope_percent,
             "slope_percent_after": self.after.slope_percent,
             "elapsed_s": self.elapsed,

@@ -18,6 +18,8 @@ The method TOML (all keys but ``ion`` optional)::
     detection_term = "auto"        # "auto", "fit" or an activity
     linear_deviation = "1 mV"
     counter_ion = "Cl-"            # added with the ion when samples are read
+    speciation = false             # true: free-ion activities from activity.speciate (a
+                                   # table instead: its options, e.g. {ph = 7.4})
     [interferents]                 # Kᵢⱼ as a number, or "fit"
     "Mg^2+" = 0.01
     [acceptance]
@@ -73,6 +75,7 @@ _METHOD_KEYS = (
     "detection_term",
     "linear_deviation",
     "counter_ion",
+    "speciation",
     "interferents",
     "acceptance",
     "uncertainty",
@@ -108,6 +111,7 @@ class Method:
     sample_matrix: Mapping | None = None
     title: str | None = None
     subtitle: str | None = None
+    speciation: dict | None = None  # keyword arguments of activity.speciate; None: no speciation
 
 
 def _quantity(text: Any, table: dict, field: str, kind: str) -> float:
@@ -198,7 +202,15 @@ def read_method(path: str | Path) -> Method:
                 "a selectivity coefficient is a number or 'fit'", field=f"{name}: interferents.{k}", value=v
             )
         interferents[k] = v
+    spec = d.get("speciation", False)
+    if isinstance(spec, bool):
+        spec = {} if spec else None
+    elif isinstance(spec, Mapping):
+        spec = dict(spec)
+    else:
+        raise InputError("true, false or a table of speciation options", field=f"{name}: speciation", value=spec)
     return Method(
+        speciation=spec,
         ion=str(d["ion"]),
         model=str(d.get("model", "davies")),
         slope=str(d.get("slope", "free")),

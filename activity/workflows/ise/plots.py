@@ -15,8 +15,43 @@ import numpy as np
 __all__ = ["calibration_figure", "gran_figure"]
 
 
+#: Sizes of the calibration figure: on screen or in a file, and for the printed record (a
+#: figure drawn near the 80 mm it prints at, so its text prints at about 5.5–7 pt).
+_SIZES = {
+    False: {
+        "figsize": (7.2, 3.9),
+        "ms": 6,
+        "ms_r": 5,
+        "legend": 7.5,
+        "note": 8,
+        "title": 10,
+        "small": 7,
+        "label": None,
+        "ticks": None,
+        "lw": 1.6,
+    },
+    True: {
+        "figsize": (3.2, 2.55),
+        "ms": 3.4,
+        "ms_r": 2.8,
+        "legend": 6.2,
+        "note": 6.5,
+        "title": 7.8,
+        "small": 6.0,
+        "label": 7.2,
+        "ticks": 6.8,
+        "lw": 1.1,
+    },
+}
+
+
 def calibration_figure(
-    cal: Any, unknowns: Any = None, unknown_labels: Sequence[str] | None = None, unknown_emf: Any = None
+    cal: Any,
+    unknowns: Any = None,
+    unknown_labels: Sequence[str] | None = None,
+    unknown_emf: Any = None,
+    *,
+    compact: bool = False,
 ) -> Any:
     """E vs lg aᵢ with the fitted curve, the extrapolated line, the detection limit and the
     linear range marked, and a residual panel below.
@@ -29,12 +64,15 @@ def calibration_figure(
     unknown_labels : sequence of str, optional
     unknown_emf : array_like, optional
         The samples' readings, V.
+    compact : bool, default False
+        Drawn at the size it prints in the one-page record (about 95 × 80 mm, small text).
     """
     from ..plotting import pyplot
 
     plt = pyplot()
+    z = _SIZES[bool(compact)]
     fig, (ax, axr) = plt.subplots(
-        2, 1, figsize=(7.2, 3.9), sharex=True, gridspec_kw={"height_ratios": [3, 1], "hspace": 0.08}
+        2, 1, figsize=z["figsize"], sharex=True, gridspec_kw={"height_ratios": [3, 1], "hspace": 0.08}
     )
     std = cal.standards
     lg_a = np.asarray(std["lg_activity"], float)
@@ -53,7 +91,7 @@ def calibration_figure(
         x,
         np.asarray(cal.emf_from_activity(10.0**x, interference)) * 1000,
         color="#1f4e79",
-        lw=1.6,
+        lw=z["lw"],
         label="fit (Nikolsky–Eisenman)",
     )
     ax.plot(
@@ -67,7 +105,7 @@ def calibration_figure(
     if cal.a0 + interference > 0:
         plateau = (cal.E0 + cal.slope * np.log10(cal.a0 + interference)) * 1000
         ax.axhline(plateau, color="#7f7f7f", lw=0.8, ls=":")
-    ax.plot(lg_a, E, "o", color="#c55a11", ms=6, label="standards", zorder=3)
+    ax.plot(lg_a, E, "o", color="#c55a11", ms=z["ms"], label="standards", zorder=3)
     lr = np.log10(cal.linear_range)
     ax.axvspan(
         lr[0],
@@ -88,7 +126,7 @@ def calibration_figure(
             xytext=(4, 8),
             textcoords="offset points",
             color="#a11d1d",
-            fontsize=8,
+            fontsize=z["note"],
         )
     if unknowns is not None and unknown_emf is not None:
         ua = np.atleast_1d(np.asarray(unknowns.activity, float))
@@ -99,7 +137,7 @@ def calibration_figure(
             np.broadcast_to(ue, ua.shape)[ok],
             "D",
             color="#548235",
-            ms=6,
+            ms=z["ms"],
             mfc="white",
             mew=1.5,
             label="samples",
@@ -110,14 +148,16 @@ def calibration_figure(
             np.log10(ua[ok]),
             np.broadcast_to(ue, ua.shape)[ok],
         ):
-            ax.annotate(str(lab), (xa, ye), xytext=(5, -10), textcoords="offset points", fontsize=8, color="#548235")
-    ax.set_ylabel("E / mV")
-    ax.set_title(f"{_pretty(cal.ion)} electrode calibration ({cal.model} activities)", fontsize=10)
-    ax.legend(fontsize=7.5, loc="upper left", frameon=False)
+            ax.annotate(
+                str(lab), (xa, ye), xytext=(5, -10), textcoords="offset points", fontsize=z["note"], color="#548235"
+            )
+    ax.set_ylabel("E / mV", fontsize=z["label"])
+    ax.set_title(f"{_pretty(cal.ion)} electrode calibration ({cal.model} activities)", fontsize=z["title"])
+    ax.legend(fontsize=z["legend"], loc="upper left", frameon=False)
     ax.grid(alpha=0.3)
     res = np.asarray(std["residual"], float) * 1000
     axr.axhline(0, color="#7f7f7f", lw=0.8)
-    axr.plot(lg_a, res, "o", color="#c55a11", ms=5)
+    axr.plot(lg_a, res, "o", color="#c55a11", ms=z["ms_r"])
     for sign in (-1, 1):
         axr.axhline(sign * 1000 * cal.residual_sd, color="#c55a11", lw=0.8, ls=":")
     lim = 1.35 * max(np.max(np.abs(res)) if res.size else 0.0, 1000 * cal.residual_sd, 0.05)
@@ -129,13 +169,18 @@ def calibration_figure(
         transform=axr.transAxes,
         ha="right",
         va="bottom",
-        fontsize=7,
+        fontsize=z["small"],
         color="#c55a11",
     )
-    axr.set_ylabel("residual / mV")
-    axr.set_xlabel(f"lg a({_pretty(cal.ion)})")
+    axr.set_ylabel("residual / mV", fontsize=z["label"])
+    axr.set_xlabel(f"lg a({_pretty(cal.ion)})", fontsize=z["label"])
     axr.grid(alpha=0.3)
+    if z["ticks"]:
+        for a_ in (ax, axr):
+            a_.tick_params(labelsize=z["ticks"], length=2.5, pad=2)
     ax.set_xlim(lo, hi)
+    if compact:
+        fig.subplots_adjust(left=0.15, right=0.98, top=0.93, bottom=0.12)
     return fig
 
 

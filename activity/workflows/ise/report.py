@@ -96,6 +96,7 @@ def fit_rows(cal: Any) -> list[list[Any]]:
             f"activity (within {1000 * cal.linear_deviation:g} mV)",
         ],
         ["activity model", cal.model, ""],
+        ["activities", getattr(cal, "activity_basis", "total ion × γ (no speciation)"), ""],
     ]
     return rows
 
@@ -154,20 +155,46 @@ def _budget_rows(samples: Samples, i: int) -> list[list[Any]]:
     return [[name, c, f"{100 * share:.1f} %"] for name, c, share in u.budget_rows(i)]
 
 
-def _budget_matrix(samples: Samples) -> tuple[list[str], list[list[Any]]]:
-    """All samples' budgets side by side: one row per input, one column per sample."""
+def _budget_matrix(samples: Samples, condense: float = 0.0) -> tuple[list[str], list[list[Any]]]:
+    """All samples' budgets side by side: one row per input, one column per sample.
+
+    ``condense`` > 0 folds the inputs whose share stays below it in every sample into one
+    row (their contributions added in quadrature, their shares summed).
+    """
     if samples.uncertainty is None:
         return [], []
     per = [samples.uncertainty.budget_rows(i) for i in range(len(samples.labels))]
     names = [r[0] for r in per[0]]
+    small = [
+        k
+        for k, name in enumerate(names)
+        if condense > 0 and per[0][k][1] is not None and all(abs(b[k][2]) < condense for b in per)
+    ]
+    if len(small) < 2:
+        small = []
     rows = []
     for k, name in enumerate(names):
-        row: list[Any] = [name]
+        if k in small:
+            continue
+        row: list[Any] = [_SHORT.get(name, name) if condense else name]
         for b in per:
             c, share = b[k][1], b[k][2]
             row.append(("—" if c is None else fmt(c, 3)) + f" ({100 * share:.1f} %)")
         rows.append(row)
+    if small:
+        row = [f"{len(small)} more, each below {100 * condense:g} %"]
+        for b in per:
+            c = float(np.sqrt(sum(b[k][1] ** 2 for k in small)))
+            row.append(f"{fmt(c, 3)} ({100 * sum(b[k][2] for k in small):.1f} %)")
+        rows.append(row)
     return ["input"] + list(samples.labels), rows
+
+
+#: Shorter input names for the printed record.
+_SHORT = {
+    "calibration (E0, slope, a0, K together, with their covariance)": "calibration (E0, S, a0, K; covariance)",
+    "(correlation of the calibration parameters)": "(correlation of calibration parameters)",
+}
 
 
 def calibration_text(cal: Any, samples: Samples | None = None, extras: dict | None = None) -> str:
@@ -239,6 +266,19 @@ def _extra_text(extras: dict | None) -> dict:
     return out
 
 
+#: Keys of a sample in the JSON output (the columns of :func:`sample_rows`, units in the names).
+SAMPLE_KEYS = (
+    "label",
+    "emf_mV",
+    "molality_mol_per_kg",
+    "u_molality_mol_per_kg",
+    "molarity_mol_per_L",
+    "mass_concentration_mg_per_L",
+    "U_k2_mass_concentration_mg_per_L",
+    "flag",
+)
+
+
 def calibration_dict(cal: Any, samples: Samples | None = None, extras: dict | None = None) -> dict:
     """JSON-ready dict: the calibration (reloadable), samples and extras."""
     d = {"calibration": cal.to_dict()}
@@ -247,9 +287,7 @@ def calibration_dict(cal: Any, samples: Samples | None = None, extras: dict | No
         _head, rows = sample_rows(samples)
         items = []
         for i, row in enumerate(rows):
-            item = dict(
-                zip(["label", "emf_mV", "molality", "u_molality", "molarity", "mg_per_L", "U_k2_mg_per_L", "flag"], row)
-            )
+            item = dict(zip(SAMPLE_KEYS, row))
             item["flag"] = samples.read.flags[i]
             if samples.uncertainty is not None:
                 item["budget"] = [
@@ -261,7 +299,7 @@ def calibration_dict(cal: Any, samples: Samples | None = None, extras: dict | No
         d["sample_notes"] = list(samples.read.notes) + (list(samples.uncertainty.notes) if samples.uncertainty else [])
     for key, val in (extras or {}).items():
         if key == "selectivity":
-            d[key] = {j: r.to_dict() for j, r in val.items()}
+            d[key] = [{"label": j} | r.to_dict() for j, r in val.items()]
         elif hasattr(val, "to_dict"):
             d[key] = val.to_dict()
     return d
@@ -276,11 +314,11 @@ def calibration_csv(cal: Any, samples: Samples | None = None, extras: dict | Non
     rows: list[list[Any]] = []
     se = cal.standard_errors
     for name, val, unit in [
-        ("E0", cal.E0, "V"),
-        ("slope", cal.slope, "V/decade"),
+        ("E0", 1e3 * cal.E0, "mV"),
+        ("slope", 1e3 * cal.slope, "mV/decade"),
         ("slope_percent", cal.slope_percent, "%"),
         ("a0", cal.a0, "activity"),
-        ("residual_sd", cal.residual_sd, "V"),
+        ("residual_sd", 1e3 * cal.residual_sd, "mV"),
         ("detection_limit_activity", cal.detection_limit_activity, "activity"),
         ("detection_limit_molality", cal.detection_limit_molality, "mol/kg"),
         ("detection_limit_molarity", cal.detection_limit_molarity, "mol/L"),
@@ -289,15 +327,20 @@ def calibration_csv(cal: Any, samples: Samples | None = None, extras: dict | Non
     ]:
         rows.append(["fit", cal.ion, name, float(val), unit])
     for name, u in se.items():
-        rows.append(
-            ["fit", cal.ion, f"u({name})", float(u), "V" if name == "E0" else "V/decade" if name == "slope" else "-"]
-        )
+        mv = name in ("E0", "slope")
+        unit = "mV" if name == "E0" else "mV/decade" if name == "slope" else "-"
+        rows.append(["fit", cal.ion, f"u({name})", float(u) * (1e3 if mv else 1.0), unit])
     for j, k in cal.selectivity.items():
         rows.append(["fit", j, "K", float(k), "-"])
     s = cal.standards
     for i, lab in enumerate(s["label"]):
-        for key, unit in (("molality", "mol/kg"), ("activity", "-"), ("emf", "V"), ("residual", "V")):
-            rows.append(["standard", lab, key, float(s[key][i]), unit])
+        for key, unit, f in (
+            ("molality", "mol/kg", 1.0),
+            ("activity", "-", 1.0),
+            ("emf", "mV", 1e3),
+            ("residual", "mV", 1e3),
+        ):
+            rows.append(["standard", lab, key, f * float(s[key][i]), unit])
     for v in cal.verdicts:
         rows.append(["verdict", v.criterion, v.word, v.value, v.basis])
     if samples is not None:
@@ -332,25 +375,45 @@ def calibration_record(
     rec = Record(
         title or f"{cal.ion} ion-selective electrode — calibration record",
         subtitle=subtitle
-        or f"activity model: {cal.model}; slope {cal.slope_mode}; "
-        f"{len(cal.standards['label'])} standards at {cal.T - 273.15:.1f} °C",
+        or f"activity model: {cal.model}"
+        + ("; free ions from speciation" if getattr(cal, "speciation", None) is not None else "")
+        + f"; slope {cal.slope_mode}; {len(cal.standards['label'])} standards at {cal.T - 273.15:.1f} °C",
+        style=RECORD_STYLE,
     )
-    rec.heading("Verdicts")
-    rec.verdicts([(f"{v.criterion} ({v.threshold}; {v.basis})", v.passed, v.value) for v in cal.verdicts])
+    rec.begin("ise-top")
+    rec.begin("ise-left")
     rec.heading("Fit")
     rec.table(
-        ["quantity", "value", "unit"],
-        fit_rows(cal),
+        ["quantity", "value"],
+        [[q, f"{v} {u if u != '-' else ''}".strip()] for q, v, u in fit_rows(cal)],
         caption="E = E0 + S·lg(aᵢ + Σ Kᵢⱼ·aⱼ^(zᵢ/zⱼ) + a0); ± standard uncertainty from the fit",
     )
+    rec.end()
+    rec.begin("ise-right")
     if figure:
         unk = samples.read if samples is not None else None
-        fig = calibration_figure(cal, unk, list(samples.labels) if samples else None, samples.emf if samples else None)
+        fig = calibration_figure(
+            cal, unk, list(samples.labels) if samples else None, samples.emf if samples else None, compact=True
+        )
         rec.figure(
             fig,
             caption="Calibration curve (top) and residuals (bottom); shaded: linear range; dash-dot: "
             "IUPAC detection limit",
         )
+    rec.end()
+    rec.end()
+    rec.heading("Verdicts")
+    marks = {"common practice default": "†", "user": " (set by the user)"}
+    rec.verdicts(
+        [
+            (f"{v.criterion} ({v.threshold}){marks.get(v.basis, '; ' + v.basis)}", v.passed, v.value)
+            for v in cal.verdicts
+        ]
+    )
+    if any(v.basis == "common practice default" for v in cal.verdicts):
+        rec.begin("mark")
+        rec.paragraph("† threshold: common practice default, not a standard — set your laboratory's own")
+        rec.end()
     head, rows = standards_rows(cal)
     rec.heading("Standards")
     rec.table(head, rows, digits=4)
@@ -363,47 +426,83 @@ def calibration_record(
             digits=4,
             caption=(f"uncertainty by {samples.uncertainty.method}; U = 2u" if samples.uncertainty else None),
         )
-        head, rows = _budget_matrix(samples)
+        head, rows = _budget_matrix(samples, condense=0.01)
         if rows:
             rec.table(head, rows, digits=3, caption="uncertainty budgets: |c|·u(x) in mol/kg (share of u²)")
-    for key, val in (extras or {}).items():
+    shown = [k for k in ("addition", "selectivity", "drift") if k in (extras or {})]
+    if len(shown) > 1:
+        rec.begin("ise-extras")
+    for key in shown:
+        val = extras[key]
+        if len(shown) > 1:
+            rec.begin("ise-extra")
         if key == "selectivity":
             rec.heading("Selectivity coefficients")
+            named = all(r.method in j for j, r in val.items())  # the label already names the method
             rec.table(
-                ["interferent", "method", "lg K", "u(lg K)", "K"],
-                [[j, r.method, r.lg_K, r.u_lg_K, r.K] for j, r in val.items()],
+                ["interferent"] + ([] if named else ["method"]) + ["lg K", "u(lg K)"],
+                [[j] + ([] if named else [r.method]) + [r.lg_K, r.u_lg_K] for j, r in val.items()],
                 digits=4,
             )
         elif key == "addition":
             rec.heading("Known addition")
             rec.table(
-                ["quantity", "value", "unit"],
-                [["c(x)", val.concentration, "mol/L"], ["u(c(x))", val.standard_uncertainty, "mol/L"]]
-                + ([["c(x), Gran", val.gran_concentration, "mol/L"]] if val.gran_concentration else []),
+                ["quantity", "mol/L"],
+                [["c(x)", val.concentration], ["u(c(x))", val.standard_uncertainty]]
+                + ([["c(x), Gran", val.gran_concentration]] if val.gran_concentration else []),
+                digits=4,
             )
         elif key == "drift":
             rec.heading("Drift")
             rec.table(
-                ["quantity", "value", "unit"],
-                [["drift of E0", val.rate_mV_per_h, "mV/h"], ["slope change", val.slope_change_percent, "%"]],
+                ["quantity", "value"],
+                [
+                    ["drift of E0", f"{fmt(val.rate_mV_per_h, 3)} mV/h"],
+                    ["slope change", f"{fmt(val.slope_change_percent, 3)} % of Nernstian"],
+                ],
             )
+        if len(shown) > 1:
+            rec.end()
+    if len(shown) > 1:
+        rec.end()
     rec.heading("Notes")
     notes = list(cal.notes)
     if samples is not None:
         notes += list(samples.read.notes) + (list(samples.uncertainty.notes) if samples.uncertainty else [])
     rec.notes(_compact_notes(notes))
     extra_cautions = cautions_for(cal.standards_solution) if cal.standards_solution is not None else []
-    rec.cautions(
-        [GENERAL]
-        + list(extra_cautions)
-        + [
-            (
-                "Verdict thresholds marked 'common practice default' are not a standard: set your own "
-                "laboratory's acceptance criteria."
-            )
-        ]
-    )
+    rec.cautions([GENERAL] + list(extra_cautions))
     return rec.to_html(generated=generated)
+
+
+#: The record's own layout: verdicts and fit beside the figure, notes in two columns, and a
+#: print style that keeps the demo's record (two samples with budgets) on one A4 page.
+RECORD_STYLE = """
+.ise-top { display: grid; grid-template-columns: minmax(0, 57fr) minmax(0, 43fr); column-gap: 5mm;
+           align-items: start; }
+.ise-top figure { margin-top: 8pt; }
+.ise-top figure svg { max-height: none; }
+.ise-left table { width: 100%; }
+.ise-left td:first-child { white-space: nowrap; }
+.mark p { color: #555; font-size: 8.5pt; margin: 0 0 4pt; }
+.ise-extras { display: flex; flex-wrap: wrap; column-gap: 8mm; align-items: flex-start; }
+ul.notes { columns: 2; column-gap: 7mm; padding-left: 12pt; font-size: 9pt; margin: 2pt 0; }
+.cautions ul { margin: 2pt 0; padding-left: 12pt; }
+@media print {
+  .ise-top figure svg { max-height: none; }
+  .mark p { font-size: 7pt; }
+  ul.notes { font-size: 7pt; line-height: 1.2; }
+  .notes li, .cautions li { margin-bottom: 1pt; }
+  .cautions { font-size: 7.2pt; padding: 2pt 6pt; margin-top: 5pt; }
+  .cautions h2 { font-size: 8.5pt; margin: 0; }
+  footer { margin-top: 4pt; font-size: 7pt; }
+  caption, figcaption { font-size: 7pt; }
+  body { font-size: 8.2pt; }
+  h2 { margin: 5pt 0 1.5pt; font-size: 9.5pt; }
+  table { margin: 1pt 0 3pt; }
+  th, td { padding: 0.6pt 4pt; }
+}
+"""
 
 
 def _compact_notes(notes: Sequence[str]) -> list[str]:

@@ -69,7 +69,7 @@ class SelectivityResult:
             "lg_K": self.lg_K,
             "u_lg_K": self.u_lg_K,
             "K": self.K,
-            "points": np.asarray(self.points).tolist(),
+            "lg_K_points": np.asarray(self.points).tolist(),
             "notes": list(self.notes),
         }
 

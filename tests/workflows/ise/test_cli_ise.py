@@ -63,8 +63,8 @@ def test_calibrate_json_save_and_reuse(examples, tmp_path, capsys):
     )
     again = json.loads(capsys.readouterr().out)
     for a, b in zip(first["samples"], again["samples"]):
-        assert b["molality"] == pytest.approx(a["molality"], rel=1e-12)
-        assert b["u_molality"] == pytest.approx(a["u_molality"], rel=1e-9)
+        assert b["molality_mol_per_kg"] == pytest.approx(a["molality_mol_per_kg"], rel=1e-12)
+        assert b["u_molality_mol_per_kg"] == pytest.approx(a["u_molality_mol_per_kg"], rel=1e-9)
 
 
 def test_calibrate_csv_rows(examples, capsys):
@@ -176,7 +176,7 @@ def test_errors_name_the_field_and_write_nothing(examples, tmp_path, capsys):
 def test_demo_json_has_five_standards_and_two_samples(capsys, tmp_path):
     d = demo_dict()
     assert len(d["standards"]) == 5 and len(d["samples"]) == 2
-    assert all(s["u_molality"] > 0 for s in d["samples"])
+    assert all(s["u_molality_mol_per_kg"] > 0 for s in d["samples"])
     demo = run_ise_demo()
     assert 90 < demo.calibration.slope_percent < 105
     rec = tmp_path / "demo.html"
@@ -203,4 +203,4 @@ def test_monte_carlo_samples_from_the_command_line(examples, capsys):
         == 0
     )
     d = json.loads(capsys.readouterr().out)
-    assert all(np.isfinite(s["u_molality"]) for s in d["samples"])
+    assert all(np.isfinite(s["u_molality_mol_per_kg"]) for s in d["samples"])
