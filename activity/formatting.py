@@ -39,8 +39,18 @@ def fmt(value: Any, digits: int = 5) -> str:
     return str(value)
 
 
+_BLANKS = ("", "—", "-", "nan")
+
+
 def _numeric(c: str) -> bool:
-    return c[:1].isdigit() or (c[:1] in "-+." and c[1:2].isdigit())
+    """A cell right-aligned as a number: the whole cell reads as one (text after a number does not)."""
+    if not (c[:1].isdigit() or (c[:1] in "-+." and c[1:2].isdigit())):
+        return False
+    try:
+        float(c)
+    except ValueError:
+        return False
+    return True
 
 
 def table(
@@ -76,17 +86,21 @@ def table(
     for row in cells:
         for j, c in enumerate(row):
             widths[j] = max(widths[j], len(c))
-    text_cols = {j for j in range(len(widths)) if any(j < len(r) and not _numeric(r[j]) for r in cells)}
+    # a column is text if any cell in it is (cells saying "no value" do not count)
+    text_cols = {
+        j for j in range(len(widths)) if any(j < len(r) and r[j] not in _BLANKS and not _numeric(r[j]) for r in cells)
+    }
     if width is not None:
+        # narrow the widest text columns a character at a time, so that the space is shared
+        # (one column squeezed to its floor wraps into a tall thin stack)
         excess = sum(widths) + 2 * (len(widths) - 1) - width
         while excess > 0:
             shrinkable = [j for j in text_cols if widths[j] > max(12, len(headers[j]))]
             if not shrinkable:
                 break
-            j = max(shrinkable, key=lambda k: widths[k])
-            new = max(12, len(headers[j]), widths[j] - excess)
-            excess -= widths[j] - new
-            widths[j] = new
+            j = max(shrinkable, key=lambda k: (widths[k], k))  # ties: the rightmost (prose)
+            widths[j] -= 1
+            excess -= 1
     lines = []
     if title:
         lines.extend(textwrap.wrap(title, width) if width else [title])
@@ -96,7 +110,7 @@ def table(
         parts = [
             textwrap.wrap(c, w, break_long_words=False) or [""] if len(c) > w else [c] for c, w in zip(row, widths)
         ]
-        right = [_numeric(c) for c in row]  # alignment of the cell, kept on its continuation lines
+        right = [j not in text_cols for j in range(len(row))]  # a column of numbers is right-aligned
         for k in range(max(len(p) for p in parts)):
             out = []
             for p, w, r in zip(parts, widths, right):

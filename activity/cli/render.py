@@ -44,6 +44,10 @@ def evaluate_models(sol, models) -> list[dict[str, Any]]:
     return out
 
 
+#: species columns per table in the side-by-side report
+_SPECIES_PER_TABLE = 5
+
+
 def _verdict(entry: dict[str, Any]) -> str:
     if "error" in entry:
         return "cannot evaluate"
@@ -93,10 +97,16 @@ def solution_report(sol, model: str = "davies", form: str = "table") -> str:
                 f"water activity = {fmt(r['water_activity'], 7)}"
             )
     else:
-        headers = ["species", "m / (mol/kg)"] + [f"γ {r['model']}" for r in ok]
-        rows = [[n, float(sol.m[i])] + [r["gamma"][n] for r in ok] for i, n in enumerate(sol.species)]
-        rows.append(["verdict", ""] + [_verdict(r) for r in ok])
-        lines.append(table(headers, rows, title="Activity coefficients by model (side by side)"))
+        # one row per model, the species across (five to a table, so that a row stays one line)
+        lines.append(
+            "molalities / (mol/kg): " + ", ".join(f"{n} {fmt(float(sol.m[i]))}" for i, n in enumerate(sol.species))
+        )
+        title = "Activity coefficients by model (side by side)"
+        for k in range(0, len(sol.species), _SPECIES_PER_TABLE):
+            names = sol.species[k : k + _SPECIES_PER_TABLE]
+            rows = [[r["model"], _verdict(r)] + [r["gamma"][n] for n in names] for r in ok]
+            lines.append(table(["model", "verdict"] + [f"γ {n}" for n in names], rows, title=title))
+            title = None
         for r in results:
             if "error" in r:
                 lines.append(f"{r['model']}: cannot evaluate — {r['error']}")

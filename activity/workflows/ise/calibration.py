@@ -1018,9 +1018,8 @@ def judge(cal: ISECalibration, acc: Acceptance, drift: Any = None) -> tuple:
         Verdict(
             "slope window",
             acc.slope_min_percent <= pct <= acc.slope_max_percent,
-            f"{pct:.1f} % of Nernstian ({1000 * cal.slope:.2f} mV/decade at {cal.T - 273.15:.1f} °C)"
-            + (" (fixed)" if cal.slope_mode == "nernstian" else ""),
-            f"{acc.slope_min_percent:g}–{acc.slope_max_percent:g} %",
+            f"{pct:.1f} % ({1000 * cal.slope:.2f} mV/decade)" + (" (fixed)" if cal.slope_mode == "nernstian" else ""),
+            f"{acc.slope_min_percent:g}–{acc.slope_max_percent:g} % of Nernstian",
             acc.basis("slope_min_percent") if "slope_max_percent" not in acc.user_set else "user",
         )
     )
