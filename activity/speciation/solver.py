@@ -1,7 +1,7 @@
 """The batched equilibrium solver: Newton–Raphson on ln of the free component molalities.
 
-Unknowns are u_c = ln m_c of the free components (rows × n). Every species follows from
-them by mass action,
+Unknowns are u_c = ln m_c of the free components. Every species follows from them by mass
+action,
 
     ln m_s = ln β_s(T) + Σ_c ν_sc (u_c + ln γ_c) − ln γ_s,
 
@@ -15,31 +15,49 @@ and each component contributes one equation, chosen by its *closure*:
 * ``activity``: ln m_s + ln γ_s = target for one species s made of the component — a fixed
   pH (s = H⁺) or a fixed gas partial pressure (s = the dissolved gas).
 
-With γ held at its current value the Jacobian is exact: ∂m_s/∂u_c = ν_sc m_s, so the
-mass rows are J_ck = Σ_s ν_sc ν_sk m_s / total_c — one (sparse) matrix product with a
-precomputed (n_species × n²) weight matrix for all rows. The activity coefficients of the
-chosen model are recomputed from the speciated composition (``GAMMA_SWEEPS`` times per
-step), and their dependence on ionic strength enters the Jacobian as a rank-one term
-(∂ln γ/∂I from a relative change ``EPS_I`` of all molalities, exact for models whose γ
-depends on I alone); iteration stops when both the residuals and the change of ln γ are
-below tolerance (the fixed point of γ and speciation). The steps of all rows are solved in
-one batched ``numpy.linalg.solve``; each step is limited to a change of ``MAX_STEP`` in
-ln m and, while a row's residual is above ``NEAR``, backtracked (halved up to
-``BACKTRACKS`` times) where it does not decrease the residual norm. Converged rows drop
-out of the working set; rows are processed in blocks of ``CHUNK`` (bounded memory). Rows
-that do not converge within ``max_iter`` are reported by number; the solver never returns
-an unconverged row as if it were a result.
+With γ held fixed the Jacobian is exact: ∂m_s/∂u_c = ν_sc m_s, so the mass rows are
+S = νᵀ diag(m) ν (scaled by the totals) — one dense product with a precomputed
+(n² × n_species) weight matrix for all rows.
+
+**γ in the loop.** For models whose γ depends on the ionic strength alone (the
+Debye–Hückel family, Davies, ideal), ln I is a further unknown with the equation
+½ Σ z_s² m_s / I = 1; γ is evaluated at that I, so the Newton step treats the coupling
+exactly (∂m_s/∂ln I = m_s I (Σ_c ν_sc G_c − G_s), G = ∂ln γ/∂I by a difference of
+relative size ``EPS_I``) and converges quadratically with one exponential pass per step.
+For other models (Pitzer, plug-ins) γ is recomputed from the speciated composition
+``GAMMA_SWEEPS`` times per step and its dependence on I enters the Jacobian as a rank-one
+term. Either way iteration stops when the residuals are below ``tol`` and the change of
+ln γ below ``gamma_tol`` (the fixed point of γ and speciation).
+
+**The linear step.** Without fixed-activity closures the charge row is a combination of
+the mass rows (z_s = Σ_c ν_sc z_c), so after a change of rows the matrix is the symmetric
+positive definite S; the coupling to I is a border (or rank-one) term. The step then takes
+one Cholesky factorisation over all rows (:func:`~activity.speciation._batched.spd_solve`)
+with two right-hand sides. With fixed activities (pH, gases, metal buffers) the full
+Jacobian is solved by ``numpy.linalg.solve``. Each step is limited to a change of
+``MAX_STEP`` in ln m and, while a row's residual is above ``NEAR``, backtracked (halved up
+to ``BACKTRACKS`` times) where it does not decrease the residual norm.
+
+**Rows.** Arrays are held rows last (species × rows: each operation is a pass over
+contiguous rows); converged rows leave the working set at once; rows are processed in
+blocks of ``CHUNK`` (bounded memory, arrays kept in cache). Rows that do not converge
+within ``max_iter`` are reported by number; the solver never returns an unconverged row
+as if it were a result.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
+from types import SimpleNamespace
 from typing import Any
 
 import numpy as np
 
+from ..coefficients._dh_form import DebyeHuckelForm
+from ..coefficients.ideal import IdealModel
 from ..constants import LN10
 from ..solution import Solution
+from ._batched import spd_solve
 
 __all__ = ["CHUNK", "SolveOutput", "System", "solve", "solve_blocks", "start"]
 
@@ -49,26 +67,14 @@ MAX_STEP = 4.0
 NEAR = 1e-3
 #: Step halvings tried when a step does not reduce the residual.
 BACKTRACKS = 8
-#: Updates of γ at fixed free components per Newton step (each shrinks the lag of γ).
+#: Updates of γ at fixed free components per Newton step (models whose γ is not a function of I).
 GAMMA_SWEEPS = 2
-#: Relative change of all molalities used to estimate ∂ln γ/∂I by a difference.
+#: Relative change of I (or of all molalities) used to estimate ∂ln γ/∂I by a difference.
 EPS_I = 1e-4
 #: ln m of a component absent from a row (m ≈ 1e-300 mol/kg).
 LN_ABSENT = -690.0
-
-
-class _RightSparse:
-    """A sparse matrix S applied from the right, ``X @ S`` = (Sᵀ Xᵀ)ᵀ, with Sᵀ stored once
-    (scipy would build the transpose on every product)."""
-
-    __slots__ = ("ST",)
-    __array_ufunc__ = None  # makes ndarray @ self defer to __rmatmul__
-
-    def __init__(self, ST):
-        self.ST = ST
-
-    def __rmatmul__(self, X: np.ndarray) -> np.ndarray:
-        return (self.ST @ X.T).T
+#: With γ a function of I (quadratic convergence) rows stop at this fraction of ``tol``.
+TIGHTEN = 1e-2
 
 
 @dataclass(frozen=True, eq=False)
@@ -93,19 +99,20 @@ class System:
         return self.nu.shape[1]
 
     def __post_init__(self):
-        nu = self.nu
+        nu = np.ascontiguousarray(self.nu, dtype=float)
         n = nu.shape[1]
-        object.__setattr__(self, "nuT", np.ascontiguousarray(nu.T))
-        object.__setattr__(self, "W", np.einsum("sj,sk->sjk", nu, nu).reshape(len(nu), n * n))
-        object.__setattr__(self, "zn", self.charges[:, None] * nu)
-        object.__setattr__(self, "absz", np.abs(self.charges).astype(float))
-        object.__setattr__(self, "z2", self.charges.astype(float) ** 2)
-        # ν is sparse (a species holds 1-3 components): sparse products beat dense BLAS on
-        # these thin matrices by a factor of about 2-4
-        from scipy import sparse
-
-        for name in ("nu", "nuT", "W", "zn"):
-            object.__setattr__(self, "sp_" + name, _RightSparse(sparse.csr_matrix(getattr(self, name).T)))
+        z = self.charges.astype(float)
+        put = object.__setattr__
+        put(self, "nuT", np.ascontiguousarray(nu.T))
+        # rows of νᵀ diag(m) ν as one (n², n_species) matrix: S = (W2 @ m).reshape(n, n, rows)
+        put(self, "W2", np.ascontiguousarray(np.einsum("sj,sk->jks", nu, nu).reshape(n * n, len(nu))))
+        put(self, "zf", z)
+        put(self, "z2", z * z)
+        put(self, "h2T", np.ascontiguousarray((0.5 * (z * z)[:, None] * nu).T))  # ∂I/∂u = h2T @ m
+        # the charge row is a combination of the mass rows when every species' charge is the
+        # sum of its components' charges (true of balanced reactions)
+        put(self, "zc", z[:n].copy())
+        put(self, "charge_from_mass", bool(np.allclose(nu @ z[:n], z, atol=1e-12)))
 
 
 @dataclass
@@ -119,38 +126,47 @@ class SolveOutput:
     residual: np.ndarray  # (N,) largest scaled residual
 
 
-def _lng(model: Any, system: System, m: np.ndarray, T: np.ndarray, P: np.ndarray) -> np.ndarray:
-    sol = Solution._from_arrays(system.species, system.charges, m.T, T, P)
-    return LN10 * np.asarray(model.log10_gamma(sol)).reshape(len(system.species), -1).T
+def ionic_strength_only(model: Any) -> bool:
+    """True for models whose γ is a function of I, T and P alone (our Debye–Hückel family, ideal)."""
+    cls = type(model)
+    if isinstance(model, IdealModel):
+        return cls.compute_log10_gamma is IdealModel.compute_log10_gamma
+    return isinstance(model, DebyeHuckelForm) and cls.compute_log10_gamma is DebyeHuckelForm.compute_log10_gamma
 
 
-def _species_lnm(system: System, lnk: np.ndarray, u: np.ndarray, lng: np.ndarray) -> np.ndarray:
-    return lnk + (u + lng[:, : system.n]) @ system.sp_nuT - lng
+class _Gamma:
+    """ln γ (n_species, rows) of one model for one species set."""
+
+    def __init__(self, model: Any, system: System):
+        self.model = model
+        self.system = system
+        self.by_I = ionic_strength_only(model)
+        self.bound = model.bind(system.species, system.charges) if self.by_I else None
+
+    def of_I(self, I: np.ndarray, T: Any, P: Any) -> np.ndarray:
+        """ln γ at ionic strength I (rows,) — only for models of I alone."""
+        sol = SimpleNamespace(species=self.system.species, charges=self.system.charges, T_compact=T, P_compact=P)
+        out = self.model.compute_log10_gamma(sol, self.bound, I)
+        out *= LN10
+        return out
+
+    def of_m(self, m: np.ndarray, T: Any, P: Any) -> np.ndarray:
+        """ln γ of the composition m (n_species, rows)."""
+        sol = Solution._from_arrays(self.system.species, self.system.charges, m, T, P)
+        return LN10 * np.asarray(self.model.log10_gamma(sol)).reshape(m.shape)
 
 
-def _residual(system, m, lna, u, totals, scale, kinds, charge_col, act_cols, act_species, targets, want_j=True):
-    """Scaled residuals (N, n) and, if asked, the Jacobian (N, n, n)."""
+def _lnm(system: System, lnk: np.ndarray, u: np.ndarray, g: np.ndarray) -> np.ndarray:
+    """ln m (n_species, rows) from free components u (n, rows) and ln γ g (n_species, rows)."""
     n = system.n
-    calc = m @ system.sp_nu
-    res = (calc - totals) / scale
-    J = (m @ system.sp_W).reshape(-1, n, n) / scale[:, :, None] if want_j else None
-    if charge_col is not None:
-        s = scale[:, charge_col]
-        res[:, charge_col] = (m @ system.charges.astype(float)) / s
-        if want_j:
-            J[:, charge_col, :] = (m @ system.sp_zn) / s[:, None]
-    for col, sp, tgt in zip(act_cols, act_species, targets):
-        res[:, col] = lna[:, sp] - tgt
-        if want_j:
-            J[:, col, :] = system.nu[sp]
-    pinned = kinds & (totals <= 0)
-    if np.any(pinned):
-        rr, cc = np.nonzero(pinned)
-        res[rr, cc] = u[rr, cc] - LN_ABSENT
-        if want_j:
-            J[rr, cc, :] = 0.0
-            J[rr, cc, cc] = 1.0
-    return res, J
+    out = system.nu @ (u + g[:n])
+    out += lnk
+    out -= g
+    return out
+
+
+def _exp(lnm: np.ndarray) -> np.ndarray:
+    return np.exp(np.minimum(lnm, 230.0))
 
 
 def start(
@@ -161,23 +177,39 @@ def start(
     Successive substitution at fixed H⁺ and γ = 1 (all ``cols`` at once, ``sweeps``
     times): u_c ← u_c + ½ ln(total_c / computed_c) / max_s ν_sc. Keeps the first Newton
     steps away from the huge overshoots a start at "free = total" gives when most of a
-    component is bound (phosphate at pH 7, calcium in EDTA).
+    component is bound (phosphate at pH 7, calcium in EDTA). Arrays rows first:
+    ``lnk`` (N, n_species), ``totals`` and ``u0`` (N, n); returns (N, n).
     """
     u = np.array(u0, dtype=float)
     if not np.any(cols):
         return u
     cidx = np.flatnonzero(cols)
-    numax = np.maximum(np.max(system.nu[:, cidx], axis=0), 1.0)
-    zero = np.zeros_like(lnk)
+    numax = np.maximum(np.max(system.nu[:, cidx], axis=0), 1.0)[:, None]
+    uT = np.ascontiguousarray(u.T)
+    lkT = np.ascontiguousarray(lnk.T)
+    tot = np.ascontiguousarray(totals[:, cidx].T)
+    ok = tot > 0
+    log_tot = np.log(np.where(ok, tot, 1.0))
+    nuT_c = np.ascontiguousarray(system.nuT[cidx])
     for _ in range(sweeps):
-        lnm = _species_lnm(system, lnk, u, zero)
-        m = np.exp(np.clip(lnm, -700.0, 230.0))
-        calc = m @ system.nu[:, cidx]
-        tot = totals[:, cidx]
-        ok = tot > 0
-        ratio = np.where(ok, np.log(np.where(ok, tot, 1.0) / np.maximum(calc, 1e-300)), 0.0)
-        u[:, cidx] += 0.5 * ratio / numax  # damped: coupled pairs (Ca with EDTA) oscillate otherwise
-    return u
+        m = np.exp(np.clip(lkT + system.nu @ uT, -700.0, 230.0))
+        calc = nuT_c @ m
+        ratio = np.where(ok, log_tot - np.log(np.maximum(calc, 1e-300)), 0.0)
+        uT[cidx] += 0.5 * ratio / numax  # damped: coupled pairs (Ca with EDTA) oscillate otherwise
+    return uT.T.copy()
+
+
+class _Rows:
+    """The working set of one block, rows last; shrinks as rows converge."""
+
+    def __init__(self, **arrays: Any):
+        self.__dict__.update(arrays)
+
+    def keep(self, sel: np.ndarray, names: tuple[str, ...]) -> None:
+        for name in names:
+            a = self.__dict__[name]
+            if a is not None and np.ndim(a):
+                self.__dict__[name] = a[..., sel]
 
 
 def solve(
@@ -200,7 +232,7 @@ def solve(
     max_iter: int = 200,
     coupled: bool = True,
 ) -> SolveOutput:
-    """Solve all rows; arrays are rows first.
+    """Solve all rows; arrays in and out are rows first.
 
     Parameters
     ----------
@@ -212,124 +244,308 @@ def solve(
         (pinned at a negligible molality where their total is 0).
     charge_col : index of the component closed by charge balance, or None.
     act_cols, act_species, act_targets : components closed by a fixed activity: the species
-        whose ln a is fixed and the target ln a per row (N,) (ln γ-dependent targets are not
-        needed: the residual uses ln m + ln γ).
+        whose ln a is fixed and the target ln a per row (N,).
     T, P : (N,) or scalar arrays.
     u0 : (N, n) starting ln m of the components.
+    coupled : bool
+        Let the Newton step see how γ follows I (the border or rank-one term); without it
+        γ lags one step behind (slower, same answer).
     """
     N, n = totals.shape
     ns = len(system.species)
-    u = np.array(u0, dtype=float)
-    lng = np.zeros((N, ns))
-    lnm_out = np.empty((N, ns))
+    gam = _Gamma(model, system)
+    by_I = gam.by_I and coupled
+    T_rows = np.broadcast_to(T, (N,)) if np.ndim(T) else T
+    P_rows = np.broadcast_to(P, (N,)) if np.ndim(P) else P
+    st = _Rows(
+        idx=np.arange(N),
+        u=np.ascontiguousarray(np.asarray(u0, dtype=float).T),
+        lk=np.ascontiguousarray(lnk.T),
+        tot=np.ascontiguousarray(totals.T),
+        sc=np.ascontiguousarray(scale.T),
+        pin=np.ascontiguousarray((pin_cols[None, :] & (totals <= 0)).T),
+        tg=np.array([np.broadcast_to(t, (N,)) for t in act_targets]).reshape(len(act_targets), N),
+        T=T_rows,
+        P=P_rows,
+        g=np.zeros((ns, N)),
+        w=None,
+        met=np.zeros(N, dtype=bool),
+    )
+    names = ("idx", "u", "lk", "tot", "sc", "pin", "tg", "T", "P", "g", "w", "met")
+    if by_I:  # ln I at the start: from γ = 1
+        st.w = np.log(np.maximum(0.5 * (system.z2 @ _exp(_lnm(system, st.lk, st.u, st.g))), 1e-12))
+    structured = system.charge_from_mass and not act_cols
+    # quadratic convergence: a hundredfold below tol costs a fraction of a step on average
+    # and keeps the charge-balanced H⁺ (whose residual is scaled by all the charge put in)
+    # well inside 1e-10 relative
+    tol_in = tol * TIGHTEN if by_I else tol
+    lnm_out = np.empty((ns, N))
+    lng_out = np.zeros((ns, N))
     converged = np.zeros(N, dtype=bool)
     iterations = np.zeros(N, dtype=int)
     resid = np.full(N, np.inf)
-    act = np.arange(N)
-    T_rows = np.broadcast_to(T, (N,)) if np.ndim(T) else T
-    P_rows = np.broadcast_to(P, (N,)) if np.ndim(P) else P
-    kinds = np.broadcast_to(pin_cols, (N, n))
-    targets_all = [np.broadcast_to(t, (N,)) for t in act_targets]
+    any_pin = bool(np.any(st.pin))
     for it in range(1, max_iter + 1):
-        ua, ga = u[act], lng[act]
-        lk, tot, kd, sc = lnk[act], totals[act], kinds[act], scale[act]
-        tg = [t[act] for t in targets_all]
-        Ta = T_rows[act] if np.ndim(T_rows) else T_rows
-        Pa = P_rows[act] if np.ndim(P_rows) else P_rows
-        lnm = _species_lnm(system, lk, ua, ga)
-        m = np.exp(np.minimum(lnm, 230.0))
-        g_new = ga
-        for _ in range(GAMMA_SWEEPS):
-            g_prev, g_new = g_new, _lng(model, system, m, Ta, Pa)
-            lnm = _species_lnm(system, lk, ua, g_new)
-            m = np.exp(np.minimum(lnm, 230.0))
-        dg = np.max(np.abs(g_new - g_prev), axis=1)
-        res, J = _residual(system, m, lnm + g_new, ua, tot, sc, kd, charge_col, act_cols, act_species, tg)
-        err = np.max(np.abs(res), axis=1)
-        lng[act] = g_new
-        iterations[act] = it
-        resid[act] = err
-        done = (err < tol) & (dg < gamma_tol)
+        ev = _evaluate(system, gam, st, by_I, charge_col, act_cols, act_species, any_pin, with_terms=True)
+        res = ev.res
+        err = np.max(np.abs(res), axis=0)
+        iterations[st.idx] = it
+        resid[st.idx] = err
+        near = (err < tol) & (ev.dg < gamma_tol)
+        done = near & ((err < tol_in) | st.met)  # a row at tol only takes one more step
         if np.any(done):
-            idx = act[done]
-            converged[idx] = True
-            lnm_out[idx] = lnm[done]
-        keep = ~done
-        if not np.any(keep):
-            act = act[:0]
-            break
-        act, ua, g_new, res, J = act[keep], ua[keep], g_new[keep], res[keep], J[keep]
-        lk, tot, kd, sc = lk[keep], tot[keep], kd[keep], sc[keep]
-        tg = [t[keep] for t in tg]
-        if coupled:
-            # ln γ follows I: add ∂ln γ/∂I · ∂I/∂u to the Jacobian (a rank-one term per row)
-            m_k = m[keep]
-            Ta_k = Ta[keep] if np.ndim(Ta) else Ta
-            Pa_k = Pa[keep] if np.ndim(Pa) else Pa
-            I = 0.5 * (m_k @ system.z2)
-            g_eps = _lng(model, system, m_k * (1.0 + EPS_I), Ta_k, Pa_k)
-            G = (g_eps - g_new) / np.maximum(EPS_I * I, 1e-300)[:, None]
-            D = G[:, :n] @ system.sp_nuT - G
-            dI = (0.5 * m_k * system.z2) @ system.sp_nu
-            mD = m_k * D
-            a = (mD @ system.sp_nu) / sc
-            if charge_col is not None:
-                a[:, charge_col] = (mD @ system.charges.astype(float)) / sc[:, charge_col]
-            for col, sp in zip(act_cols, act_species):
-                a[:, col] = G[:, :n] @ system.nu[sp]
-            pinned = kd & (tot <= 0)
-            a[pinned] = 0.0
-            J += a[:, :, None] * dI[:, None, :]
-        bad = ~np.all(np.isfinite(J), axis=(1, 2)) | ~np.all(np.isfinite(res), axis=1)
-        J[bad] = np.eye(n)
-        res[bad] = 0.0
-        try:
-            step = np.linalg.solve(J, -res[:, :, None])[:, :, 0]
-        except np.linalg.LinAlgError:
-            ridge = 1e-12 * np.maximum(np.abs(np.diagonal(J, axis1=1, axis2=2)), 1e-300)
-            step = np.linalg.solve(J + ridge[:, :, None] * np.eye(n), -res[:, :, None])[:, :, 0]
+            di = st.idx[done]
+            converged[di] = True
+            lnm_out[:, di] = ev.lnm[:, done]
+            lng_out[:, di] = ev.g[:, done]
+            keep = np.flatnonzero(~done)
+            if not keep.size:
+                st.idx = st.idx[:0]
+                break
+            st.keep(keep, names)
+            ev.keep(keep)
+            err = err[keep]
+            res = ev.res
+        st.met = near[keep] if np.any(done) else near
+        if not by_I:
+            st.g = ev.g
+        step = None
+        if structured:
+            step, ok = _step_spd(system, gam, st, ev, by_I, coupled, charge_col, any_pin)
+            if not np.all(ok):
+                bad = np.flatnonzero(~ok)
+                step[:, bad] = _step_general(system, gam, st, ev, by_I, coupled, charge_col, act_cols, act_species, bad)
+        else:
+            step = _step_general(system, gam, st, ev, by_I, coupled, charge_col, act_cols, act_species, None)
         step = np.where(np.isfinite(step), step, 0.0)
-        big = np.max(np.abs(step), axis=1)
+        big = np.max(np.abs(step), axis=0)
         lam = np.minimum(1.0, MAX_STEP / np.maximum(big, 1e-300))
-        trial = ua + lam[:, None] * step
+        trial = (np.vstack([st.u, st.w[None]]) if by_I else st.u) + lam * step
         # backtracking only away from the solution; where every scaled residual is already
         # below NEAR the step is taken whole (the quadratic regime of Newton's method, where
         # checking would cost an extra pass)
-        far = np.flatnonzero(err[keep] > NEAR)
+        far = np.flatnonzero(err > NEAR)
         if far.size:
-            f0 = np.sum(res[far] ** 2, axis=1)
-            lam_f, step_f, u_f, g_f = lam[far], step[far], ua[far], g_new[far]
-            lk_f, tot_f, sc_f, kd_f = lk[far], tot[far], sc[far], kd[far]
-            tg_f = [t[far] for t in tg]
-            trial_f = trial[far]
-            for _ in range(BACKTRACKS):
-                lnm_t = _species_lnm(system, lk_f, trial_f, g_f)
-                m_t = np.exp(np.minimum(lnm_t, 230.0))
-                r_t, _ = _residual(
-                    system,
-                    m_t,
-                    lnm_t + g_f,
-                    trial_f,
-                    tot_f,
-                    sc_f,
-                    kd_f,
-                    charge_col,
-                    act_cols,
-                    act_species,
-                    tg_f,
-                    want_j=False,
-                )
-                f1 = np.sum(r_t * r_t, axis=1)
-                worse = ~(f1 <= f0 * (1.0 - 1e-4 * lam_f)) & (f0 > tol * tol)
-                if not np.any(worse):
-                    break
-                lam_f = np.where(worse, lam_f * 0.5, lam_f)
-                trial_f = np.where(worse[:, None], u_f + lam_f[:, None] * step_f, trial_f)
-            trial[far] = trial_f
-        u[act] = trial
-    if act.size:
-        lnm_out[act] = _species_lnm(system, lnk[act], u[act], lng[act])
-    return SolveOutput(lnm_out, lng, converged, iterations, resid)
+            _backtrack(system, gam, st, names, far, res, lam, step, trial, by_I, charge_col, act_cols, act_species,
+                       any_pin, tol)
+        st.u = trial[:n]
+        if by_I:
+            st.w = trial[n]
+    if st.idx.size:
+        g_left = gam.of_I(np.exp(st.w), st.T, st.P) if by_I else st.g
+        lnm_out[:, st.idx] = _lnm(system, st.lk, st.u, g_left)
+        lng_out[:, st.idx] = g_left
+    return SolveOutput(lnm_out.T, lng_out.T, converged, iterations, resid)
+
+
+def _backtrack(system, gam, st, names, far, res, lam, step, trial, by_I, charge_col, act_cols, act_species,
+               any_pin, tol):
+    """Halve the steps of the rows ``far`` (columns of ``trial``, changed in place) while
+    the residual norm does not decrease, up to ``BACKTRACKS`` times; only the rows still
+    failing are evaluated again."""
+    n = system.n
+    sub = _Rows(**{name: st.__dict__[name] for name in names})
+    sub.keep(far, names)
+    f0 = np.sum(res[:, far] ** 2, axis=0)
+    lam_f, step_f = lam[far], step[:, far]
+    base_f = trial[:, far] - lam_f * step_f
+    trial_f = trial[:, far]
+    pend = np.arange(far.size)  # rows of ``far`` still on trial
+    for _ in range(BACKTRACKS):
+        sub.u = trial_f[:n, pend]
+        if by_I:
+            sub.w = trial_f[n, pend]
+        r_t = _evaluate(system, gam, sub, by_I, charge_col, act_cols, act_species, any_pin, False).res
+        f1 = np.sum(r_t * r_t, axis=0)
+        lp = lam_f[pend]
+        worse = ~(f1 <= f0[pend] * (1.0 - 1e-4 * lp)) & (f0[pend] > tol * tol)
+        if not np.any(worse):
+            break
+        pend = pend[worse]
+        sub.keep(np.flatnonzero(worse), names)
+        lam_f[pend] *= 0.5
+        trial_f[:, pend] = base_f[:, pend] + lam_f[pend] * step_f[:, pend]
+    trial[:, far] = trial_f
+
+
+class _Eval(SimpleNamespace):
+    def keep(self, sel: np.ndarray) -> None:
+        for name, a in list(self.__dict__.items()):
+            if isinstance(a, np.ndarray) and a.ndim:
+                self.__dict__[name] = a[..., sel]
+
+
+def _evaluate(system, gam, st, by_I, charge_col, act_cols, act_species, any_pin, with_terms=True) -> _Eval:
+    """Species, γ and scaled residuals (k, rows) at the working set's unknowns."""
+    n = system.n
+    ev = _Eval()
+    if by_I:
+        I = np.exp(st.w)
+        g = gam.of_I(I, st.T, st.P)
+        lnm = _lnm(system, st.lk, st.u, g)
+        m = _exp(lnm)
+        Ic = 0.5 * (system.z2 @ m)
+        if with_terms:
+            G = gam.of_I(I * (1.0 + EPS_I), st.T, st.P)
+            G -= g
+            G /= EPS_I * I
+            ev.G = G
+            # change of ln γ if I moved to the computed one
+            ev.dg = np.max(np.abs(G), axis=0) * np.abs(Ic - I)
+        ev.I = I
+    else:
+        g = st.g
+        lnm = _lnm(system, st.lk, st.u, g)
+        m = _exp(lnm)
+        g_prev = g
+        if with_terms:
+            for _ in range(GAMMA_SWEEPS):
+                g_prev, g = g, gam.of_m(m, st.T, st.P)
+                lnm = _lnm(system, st.lk, st.u, g)
+                m = _exp(lnm)
+            ev.dg = np.max(np.abs(g - g_prev), axis=0)
+        Ic = None
+    calc = system.nuT @ m
+    res = np.empty((n + 1 if by_I else n, m.shape[1]))
+    res[:n] = calc
+    res[:n] -= st.tot
+    res[:n] /= st.sc
+    if charge_col is not None:
+        res[charge_col] = (system.zf @ m) / st.sc[charge_col]
+    for col, sp, tgt in zip(act_cols, act_species, st.tg):
+        res[col] = lnm[sp] + g[sp] - tgt
+    if any_pin:
+        for c in np.flatnonzero(np.any(st.pin, axis=1)):
+            p = st.pin[c]
+            res[c, p] = st.u[c, p] - LN_ABSENT
+    if by_I:
+        res[n] = Ic / ev.I - 1.0
+        ev.Ic = Ic
+    ev.res, ev.lnm, ev.m, ev.g = res, lnm, m, g
+    return ev
+
+
+def _coupling(system, gam, st, ev, by_I):
+    """D = ∂ln m/∂I (n_species, rows), G = ∂ln γ/∂I, dI = ∂I/∂u (n, rows) — the γ terms."""
+    n = system.n
+    m = ev.m
+    if by_I:
+        G = ev.G
+    else:
+        I = 0.5 * (system.z2 @ m)
+        G = gam.of_m(m * (1.0 + EPS_I), st.T, st.P)
+        G -= ev.g
+        G /= np.maximum(EPS_I * I, 1e-300)
+    D = system.nu @ G[:n]
+    D -= G
+    dI = system.h2T @ m
+    return G, D, dI
+
+
+def _step_spd(system, gam, st, ev, by_I, coupled, charge_col, any_pin):
+    """Newton step for mass and charge closures: Cholesky of S = νᵀ diag(m) ν (rows last)."""
+    n = system.n
+    m = ev.m
+    rows = m.shape[1]
+    S = (system.W2 @ m).reshape(n, n, rows)
+    Y = np.empty((2, n, rows))
+    Y[0] = ev.res[:n] * st.sc  # unscaled residuals
+    if coupled:
+        G, D, dI = _coupling(system, gam, st, ev, by_I)
+        mD = m * D
+        Y[1] = system.nuT @ mD
+    else:
+        Y[1] = 0.0
+    pins = [(c, st.pin[c]) for c in np.flatnonzero(np.any(st.pin, axis=1))] if any_pin else []
+    for c, p in pins:  # an absent component's mass row is ≈ 0 (its species have m ≈ 0)
+        Y[:, c, p] = 0.0
+    if charge_col is not None:
+        # the charge row Σ_c z_c (mass row c): take the other mass rows out of it
+        q = charge_col
+        zc = system.zc
+        for r in range(2):
+            if r == 0:
+                tot_q = ev.res[q] * st.sc[q]  # Σ z m (unscaled)
+                y = tot_q - (zc @ Y[0] - zc[q] * Y[0, q])
+            else:
+                y = system.zf @ mD - (zc @ Y[1] - zc[q] * Y[1, q]) if coupled else 0.0
+            Y[r, q] = y / zc[q]
+    for c, p in pins:  # pinned: row and column of the identity, u_c → LN_ABSENT
+        S[c][:, p] = 0.0
+        S[:, c][:, p] = 0.0
+        S[c, c, p] = 1.0
+        Y[0, c, p] = st.u[c, p] - LN_ABSENT
+        if coupled:
+            dI[c, p] = 0.0
+    X, ok = spd_solve(S, Y)
+    x0, x1 = X[0], X[1]
+    if by_I:
+        # border: S δ + a ε = −y, (dI/I)·δ + c ε = −r_I with ε the change of ln I
+        I = ev.I
+        x1 *= I
+        b = dI / I
+        c = 0.5 * (system.z2 @ mD) - ev.Ic / I
+        eps = (np.einsum("kn,kn->n", b, x0) - ev.res[n]) / (c - np.einsum("kn,kn->n", b, x1))
+        step = np.empty((n + 1, rows))
+        step[:n] = -(x0 + x1 * eps)
+        step[n] = eps
+    elif coupled:
+        # rank one (Sherman–Morrison): S δ + a (dI·δ) = −y
+        t = -np.einsum("kn,kn->n", dI, x0) / (1.0 + np.einsum("kn,kn->n", dI, x1))
+        step = -(x0 + x1 * t)
+    else:
+        step = -x0
+    return step, ok & np.all(np.isfinite(step), axis=0)
+
+
+def _step_general(system, gam, st, ev, by_I, coupled, charge_col, act_cols, act_species, sel):
+    """Newton step from the full Jacobian (any closures), ``numpy.linalg.solve`` per row."""
+    n = system.n
+    if sel is not None:
+        st = _Rows(**st.__dict__)
+        st.keep(sel, tuple(st.__dict__))
+        ev = _Eval(**ev.__dict__)
+        ev.keep(sel)
+    m = ev.m
+    rows = m.shape[1]
+    k = n + 1 if by_I else n
+    J = np.zeros((k, k, rows))
+    J[:n, :n] = (system.W2 @ m).reshape(n, n, rows) / st.sc[:, None, :]
+    if charge_col is not None:
+        J[charge_col, :n] = (system.zf * system.nu.T) @ m / st.sc[charge_col]
+    for col, sp in zip(act_cols, act_species):
+        J[col, :n] = system.nu[sp][:, None]
+    if coupled:
+        G, D, dI = _coupling(system, gam, st, ev, by_I)
+        mD = m * D
+        a = (system.nuT @ mD) / st.sc
+        if charge_col is not None:
+            a[charge_col] = (system.zf @ mD) / st.sc[charge_col]
+        for col, sp in zip(act_cols, act_species):
+            a[col] = system.nu[sp] @ G[:n]
+        a[st.pin] = 0.0
+        if by_I:
+            I = ev.I
+            J[:n, n] = a * I
+            J[n, :n] = dI / I
+            J[n, n] = 0.5 * (system.z2 @ mD) - ev.Ic / I
+        else:
+            J[:n, :n] += a[:, None, :] * dI[None, :, :]
+    for c in np.flatnonzero(np.any(st.pin, axis=1)):
+        p = st.pin[c]
+        J[c][:, p] = 0.0
+        J[c, c, p] = 1.0
+    Jr = np.ascontiguousarray(J.transpose(2, 0, 1))
+    res = ev.res.T.copy()
+    bad = ~np.all(np.isfinite(Jr), axis=(1, 2)) | ~np.all(np.isfinite(res), axis=1)
+    Jr[bad] = np.eye(k)
+    res[bad] = 0.0
+    try:
+        step = np.linalg.solve(Jr, -res[:, :, None])[:, :, 0]
+    except np.linalg.LinAlgError:
+        ridge = 1e-12 * np.maximum(np.abs(np.diagonal(Jr, axis1=1, axis2=2)), 1e-300)
+        step = np.linalg.solve(Jr + ridge[:, :, None] * np.eye(k), -res[:, :, None])[:, :, 0]
+    return step.T
 
 
 #: Rows solved together: bounds the temporary memory (the Jacobians alone take
