@@ -57,7 +57,7 @@ from ..coefficients._dh_form import DebyeHuckelForm
 from ..coefficients.ideal import IdealModel
 from ..constants import LN10
 from ..solution import Solution
-from ._batched import spd_solve
+from ._batched import SparseCholesky
 
 __all__ = ["CHUNK", "SolveOutput", "System", "solve", "solve_blocks", "start"]
 
@@ -113,6 +113,17 @@ class System:
         # sum of its components' charges (true of balanced reactions)
         put(self, "zc", z[:n].copy())
         put(self, "charge_from_mass", bool(np.allclose(nu @ z[:n], z, atol=1e-12)))
+        # S = νᵀ diag(m) ν has the pattern of components sharing a species; its Cholesky
+        # factorisation is planned once, S is formed packed (entry p = S[pairs[p]])
+        chol = SparseCholesky(np.abs(nu).T @ np.abs(nu) > 0)
+        put(self, "chol", chol)
+        from scipy import sparse
+
+        Wp = np.array([nu[:, a] * nu[:, b] for a, b in chol.pairs])
+        put(self, "Wp", sparse.csr_matrix(Wp))
+        put(self, "diag_slot", {a: p for p, (a, b) in enumerate(chol.pairs) if a == b})
+        off = {c: [p for p, (a, b) in enumerate(chol.pairs) if a != b and c in (a, b)] for c in range(n)}
+        put(self, "off_slots", off)
 
 
 @dataclass
@@ -443,11 +454,11 @@ def _coupling(system, gam, st, ev, by_I):
 
 
 def _step_spd(system, gam, st, ev, by_I, coupled, charge_col, any_pin):
-    """Newton step for mass and charge closures: Cholesky of S = νᵀ diag(m) ν (rows last)."""
+    """Newton step for mass and charge closures: sparse Cholesky of S = νᵀ diag(m) ν (rows last)."""
     n = system.n
     m = ev.m
     rows = m.shape[1]
-    S = (system.W2 @ m).reshape(n, n, rows)
+    A = system.Wp @ m  # packed S
     Y = np.empty((2, n, rows))
     Y[0] = ev.res[:n] * st.sc  # unscaled residuals
     if coupled:
@@ -471,13 +482,13 @@ def _step_spd(system, gam, st, ev, by_I, coupled, charge_col, any_pin):
                 y = system.zf @ mD - (zc @ Y[1] - zc[q] * Y[1, q]) if coupled else 0.0
             Y[r, q] = y / zc[q]
     for c, p in pins:  # pinned: row and column of the identity, u_c → LN_ABSENT
-        S[c][:, p] = 0.0
-        S[:, c][:, p] = 0.0
-        S[c, c, p] = 1.0
+        for slot in system.off_slots[c]:
+            A[slot, p] = 0.0
+        A[system.diag_slot[c], p] = 1.0
         Y[0, c, p] = st.u[c, p] - LN_ABSENT
         if coupled:
             dI[c, p] = 0.0
-    X, ok = spd_solve(S, Y)
+    X, ok = system.chol.solve(A, Y)
     x0, x1 = X[0], X[1]
     if by_I:
         # border: S δ + a ε = −y, (dI/I)·δ + c ε = −r_I with ε the change of ln I
