@@ -390,6 +390,15 @@ def speciate(
     # ---- start
     u0 = np.log(np.maximum(totals, 1e-10))
     u0[:, h] = np.log(1e-7) if ph is None else -LN10 * ph_arr
+    if ph is None and bal == 0:
+        # charge balance on H+ takes up the net charge q of what was dissolved: start from
+        # H+ ≈ −q (cations missing) or OH− ≈ q (anions missing) instead of pH 7, so that a
+        # row far from neutral is not approached by many damped steps
+        q_in = np.zeros(N)
+        for i in range(len(sol.species)):
+            q_in += sol.charges[i] * sol.m[i].reshape(N)
+        u0[:, h] = np.where(q_in < -1e-7, np.log(np.maximum(-q_in, 1e-7)), u0[:, h])
+        u0[:, h] = np.where(q_in > 1e-7, np.log(1e-14 / np.maximum(q_in, 1e-7)), u0[:, h])
     for c, sp_i, tgt in zip(act_cols, act_species, act_targets):
         if c != h and c != sp_i:  # a gas: the component value giving its target activity at the start H+
             u0[:, c] = (tgt - lnk[:, sp_i] - nu[sp_i, h] * u0[:, h]) / nu[sp_i, c]

@@ -135,6 +135,8 @@ class SolveOutput:
     converged: np.ndarray  # (N,)
     iterations: np.ndarray  # (N,)
     residual: np.ndarray  # (N,) largest scaled residual
+    parked: np.ndarray | None = None  # rows left unfinished on purpose (``park``)
+    u_parked: np.ndarray | None = None  # (len(parked), n) their free components
 
 
 def ionic_strength_only(model: Any) -> bool:
@@ -146,23 +148,63 @@ def ionic_strength_only(model: Any) -> bool:
 
 
 class _Gamma:
-    """ln γ (n_species, rows) of one model for one species set."""
+    """ln γ of one model for one species set.
+
+    For a model of I alone the species are grouped by their γ(I) (probed once: species
+    with the same parameters, under Davies those of the same charge, share one group), so
+    each evaluation computes ln γ for the groups only (``Gr``, groups × rows), and ln m
+    follows from one product with [ν | M], M_sj = Σ_c ν_sc [c in group j] − [s in group j].
+    """
+
+    #: Ionic strengths (mol/kg) and temperatures (K) at which the groups are probed.
+    PROBE_I = np.array([1e-5, 1e-3, 0.03, 0.3, 1.5])
+    PROBE_T = np.array([283.15, 298.15, 313.15, 333.15, 353.15])
 
     def __init__(self, model: Any, system: System):
         self.model = model
         self.system = system
         self.by_I = ionic_strength_only(model)
-        self.bound = model.bind(system.species, system.charges) if self.by_I else None
+        if self.by_I:
+            self._group()
+
+    def _proxy(self, species, charges, T, P):
+        return SimpleNamespace(species=species, charges=charges, T_compact=T, P_compact=P)
+
+    def _group(self) -> None:
+        sy, model = self.system, self.model
+        full = model.bind(sy.species, sy.charges)
+        probe = np.asarray(model.compute_log10_gamma(self._proxy(sy.species, sy.charges, self.PROBE_T, 101325.0), full,
+                                                     self.PROBE_I))
+        ids: dict[bytes, int] = {}
+        grp = np.array([ids.setdefault(row.tobytes(), len(ids)) for row in probe], dtype=int)
+        reps = np.array([int(np.flatnonzero(grp == j)[0]) for j in range(len(ids))], dtype=int)
+        species = tuple(sy.species[i] for i in reps)
+        charges = sy.charges[reps]
+        bound = model.bind(species, charges)
+        check = model.compute_log10_gamma(self._proxy(species, charges, self.PROBE_T, 101325.0), bound, self.PROBE_I)
+        if not np.array_equal(np.asarray(check), probe[reps]):  # γ of a species depends on the others
+            grp, reps = np.arange(len(sy.species)), np.arange(len(sy.species))
+            species, charges, bound = sy.species, sy.charges, full
+        self.grp, self.species, self.charges, self.bound = grp, species, charges, bound
+        E = np.zeros((len(sy.species), len(reps)))
+        E[np.arange(len(sy.species)), grp] = 1.0
+        M = sy.nu @ E[: sy.n] - E
+        self.numM = np.ascontiguousarray(np.hstack([sy.nu, M]))  # ln m = lnk + [ν | M] @ [u; Gr]
+        self.grp_c = grp[: sy.n]
 
     def of_I(self, I: np.ndarray, T: Any, P: Any) -> np.ndarray:
-        """ln γ at ionic strength I (rows,) — only for models of I alone."""
-        sol = SimpleNamespace(species=self.system.species, charges=self.system.charges, T_compact=T, P_compact=P)
-        out = self.model.compute_log10_gamma(sol, self.bound, I)
+        """ln γ of the groups at ionic strength I (rows,), (groups, rows)."""
+        out = self.model.compute_log10_gamma(self._proxy(self.species, self.charges, T, P), self.bound, I)
         out *= LN10
         return out
 
+    def lnm_of_I(self, lnk: np.ndarray, u: np.ndarray, Gr: np.ndarray) -> np.ndarray:
+        out = self.numM @ np.vstack([u, Gr])
+        out += lnk
+        return out
+
     def of_m(self, m: np.ndarray, T: Any, P: Any) -> np.ndarray:
-        """ln γ of the composition m (n_species, rows)."""
+        """ln γ of the composition m (n_species, rows), any model."""
         sol = Solution._from_arrays(self.system.species, self.system.charges, m, T, P)
         return LN10 * np.asarray(self.model.log10_gamma(sol)).reshape(m.shape)
 
@@ -177,11 +219,17 @@ def _lnm(system: System, lnk: np.ndarray, u: np.ndarray, g: np.ndarray) -> np.nd
 
 
 def _exp(lnm: np.ndarray) -> np.ndarray:
-    return np.exp(np.minimum(lnm, 230.0))
+    out = np.minimum(lnm, 230.0)
+    return np.exp(out, out=out)
 
 
 def start(
-    system: System, lnk: np.ndarray, totals: np.ndarray, cols: np.ndarray, u0: np.ndarray, sweeps: int = 6
+    system: System,
+    lnk: np.ndarray,
+    totals: np.ndarray,
+    cols: np.ndarray,
+    u0: np.ndarray,
+    sweeps: int = 6,
 ) -> np.ndarray:
     """A starting point: rescale each free component so its computed total matches the given one.
 
@@ -202,25 +250,49 @@ def start(
     ok = tot > 0
     log_tot = np.log(np.where(ok, tot, 1.0))
     nuT_c = np.ascontiguousarray(system.nuT[cidx])
+    half = np.where(ok, 0.5, 0.0) / numax  # damped: coupled pairs (Ca with EDTA) oscillate otherwise
+    m = np.empty_like(lkT)
     for _ in range(sweeps):
-        m = np.exp(np.clip(lkT + system.nu @ uT, -700.0, 230.0))
+        np.matmul(system.nu, uT, out=m)
+        m += lkT
+        np.clip(m, -700.0, 230.0, out=m)
+        np.exp(m, out=m)
         calc = nuT_c @ m
-        ratio = np.where(ok, log_tot - np.log(np.maximum(calc, 1e-300)), 0.0)
-        uT[cidx] += 0.5 * ratio / numax  # damped: coupled pairs (Ca with EDTA) oscillate otherwise
+        np.maximum(calc, 1e-300, out=calc)
+        np.log(calc, out=calc)
+        np.subtract(log_tot, calc, out=calc)
+        calc *= half
+        uT[cidx] += calc
     return uT.T.copy()
 
 
-class _Rows:
-    """The working set of one block, rows last; shrinks as rows converge."""
+class _Rows(SimpleNamespace):
+    """Arrays of the working set, rows last; ``keep`` selects rows (scalars stay)."""
 
-    def __init__(self, **arrays: Any):
-        self.__dict__.update(arrays)
-
-    def keep(self, sel: np.ndarray, names: tuple[str, ...]) -> None:
-        for name in names:
-            a = self.__dict__[name]
-            if a is not None and np.ndim(a):
+    def keep(self, sel: np.ndarray) -> None:
+        for name, a in list(self.__dict__.items()):
+            if isinstance(a, np.ndarray) and a.ndim:
                 self.__dict__[name] = a[..., sel]
+
+    def subset(self, sel: np.ndarray) -> _Rows:
+        out = _Rows(**self.__dict__)
+        out.keep(sel)
+        return out
+
+
+@dataclass
+class _Problem:
+    """What every row of one solve shares."""
+
+    system: System
+    gam: _Gamma
+    by_I: bool
+    coupled: bool
+    charge_col: int | None
+    act_cols: list
+    act_species: list
+    any_pin: bool
+    tol: float
 
 
 def solve(
@@ -242,6 +314,7 @@ def solve(
     gamma_tol: float = 1e-10,
     max_iter: int = 200,
     coupled: bool = True,
+    park: int = 0,
 ) -> SolveOutput:
     """Solve all rows; arrays in and out are rows first.
 
@@ -261,73 +334,78 @@ def solve(
     coupled : bool
         Let the Newton step see how γ follows I (the border or rank-one term); without it
         γ lags one step behind (slower, same answer).
+    park : int
+        Once no more than this many rows are left (after the third step), stop and return
+        them unfinished (``parked``, with their ``u_parked``), so that the slow rows of many
+        blocks can be finished together (:func:`solve_blocks`); 0: finish every row.
     """
     N, n = totals.shape
     ns = len(system.species)
     gam = _Gamma(model, system)
     by_I = gam.by_I and coupled
-    T_rows = np.broadcast_to(T, (N,)) if np.ndim(T) else T
-    P_rows = np.broadcast_to(P, (N,)) if np.ndim(P) else P
+    lnkT = np.ascontiguousarray(lnk.T)
     st = _Rows(
         idx=np.arange(N),
         u=np.ascontiguousarray(np.asarray(u0, dtype=float).T),
-        lk=np.ascontiguousarray(lnk.T),
+        lk=lnkT,
         tot=np.ascontiguousarray(totals.T),
         sc=np.ascontiguousarray(scale.T),
         pin=np.ascontiguousarray((pin_cols[None, :] & (totals <= 0)).T),
         tg=np.array([np.broadcast_to(t, (N,)) for t in act_targets]).reshape(len(act_targets), N),
-        T=T_rows,
-        P=P_rows,
-        g=np.zeros((ns, N)),
-        w=None,
+        T=np.broadcast_to(T, (N,)) if np.ndim(T) else T,
+        P=np.broadcast_to(P, (N,)) if np.ndim(P) else P,
         met=np.zeros(N, dtype=bool),
     )
-    names = ("idx", "u", "lk", "tot", "sc", "pin", "tg", "T", "P", "g", "w", "met")
     if by_I:  # ln I at the start: from γ = 1
-        st.w = np.log(np.maximum(0.5 * (system.z2 @ _exp(_lnm(system, st.lk, st.u, st.g))), 1e-12))
+        st.w = np.log(np.maximum(0.5 * (system.z2 @ _exp(lnkT + system.nu @ st.u)), 1e-12))
+    else:
+        st.g = np.zeros((ns, N))
+    pb = _Problem(system, gam, by_I, coupled, charge_col, list(act_cols), list(act_species),
+                  bool(np.any(st.pin)), tol)
     structured = system.charge_from_mass and not act_cols
     # quadratic convergence: a hundredfold below tol costs a fraction of a step on average
     # and keeps the charge-balanced H⁺ (whose residual is scaled by all the charge put in)
-    # well inside 1e-10 relative
+    # well inside 1e-10 relative; a row at tol that does not get there takes one more step
     tol_in = tol * TIGHTEN if by_I else tol
     lnm_out = np.empty((ns, N))
     lng_out = np.zeros((ns, N))
     converged = np.zeros(N, dtype=bool)
     iterations = np.zeros(N, dtype=int)
     resid = np.full(N, np.inf)
-    any_pin = bool(np.any(st.pin))
+    cache = None
     for it in range(1, max_iter + 1):
-        ev = _evaluate(system, gam, st, by_I, charge_col, act_cols, act_species, any_pin, with_terms=True)
+        ev = _evaluate(pb, st, cache)
+        _terms(pb, st, ev)
         res = ev.res
         err = np.max(np.abs(res), axis=0)
         iterations[st.idx] = it
         resid[st.idx] = err
         near = (err < tol) & (ev.dg < gamma_tol)
-        done = near & ((err < tol_in) | st.met)  # a row at tol only takes one more step
+        done = near & ((err < tol_in) | st.met)
         if np.any(done):
             di = st.idx[done]
             converged[di] = True
-            lnm_out[:, di] = ev.lnm[:, done]
-            lng_out[:, di] = ev.g[:, done]
+            lnm_out[:, di], lng_out[:, di] = _final(pb, st, ev, done)
             keep = np.flatnonzero(~done)
             if not keep.size:
                 st.idx = st.idx[:0]
                 break
-            st.keep(keep, names)
+            st.keep(keep)
             ev.keep(keep)
-            err = err[keep]
+            err, near = err[keep], near[keep]
             res = ev.res
-        st.met = near[keep] if np.any(done) else near
+        st.met = near
+        if park and it >= 3 and st.idx.size <= park:
+            return SolveOutput(lnm_out.T, lng_out.T, converged, iterations, resid, st.idx.copy(), st.u.T.copy())
         if not by_I:
             st.g = ev.g
-        step = None
         if structured:
-            step, ok = _step_spd(system, gam, st, ev, by_I, coupled, charge_col, any_pin)
+            step, ok = _step_spd(pb, st, ev)
             if not np.all(ok):
                 bad = np.flatnonzero(~ok)
-                step[:, bad] = _step_general(system, gam, st, ev, by_I, coupled, charge_col, act_cols, act_species, bad)
+                step[:, bad] = _step_general(pb, st.subset(bad), ev.subset(bad))
         else:
-            step = _step_general(system, gam, st, ev, by_I, coupled, charge_col, act_cols, act_species, None)
+            step = _step_general(pb, st, ev)
         step = np.where(np.isfinite(step), step, 0.0)
         big = np.max(np.abs(step), axis=0)
         lam = np.minimum(1.0, MAX_STEP / np.maximum(big, 1e-300))
@@ -336,161 +414,206 @@ def solve(
         # below NEAR the step is taken whole (the quadratic regime of Newton's method, where
         # checking would cost an extra pass)
         far = np.flatnonzero(err > NEAR)
-        if far.size:
-            _backtrack(system, gam, st, names, far, res, lam, step, trial, by_I, charge_col, act_cols, act_species,
-                       any_pin, tol)
+        cache = _backtrack(pb, st, far, res, lam, step, trial) if far.size else None
         st.u = trial[:n]
         if by_I:
             st.w = trial[n]
     if st.idx.size:
-        g_left = gam.of_I(np.exp(st.w), st.T, st.P) if by_I else st.g
-        lnm_out[:, st.idx] = _lnm(system, st.lk, st.u, g_left)
-        lng_out[:, st.idx] = g_left
+        ev = _evaluate(pb, st, None)
+        lnm_out[:, st.idx], lng_out[:, st.idx] = _final(pb, st, ev, np.ones(st.idx.size, dtype=bool))
     return SolveOutput(lnm_out.T, lng_out.T, converged, iterations, resid)
 
 
-def _backtrack(system, gam, st, names, far, res, lam, step, trial, by_I, charge_col, act_cols, act_species,
-               any_pin, tol):
+def _final(pb: _Problem, st: _Rows, ev: _Eval, sel: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """ln m and ln γ (n_species, rows) of the rows ``sel`` (a mask)."""
+    if pb.by_I:
+        Gr = ev.Gr[:, sel]
+        return pb.gam.lnm_of_I(st.lk[:, sel], st.u[:, sel], Gr), Gr[pb.gam.grp]
+    return ev.lnm[:, sel], ev.g[:, sel]
+
+
+def _backtrack(pb: _Problem, st: _Rows, far, res, lam, step, trial) -> _Eval | None:
     """Halve the steps of the rows ``far`` (columns of ``trial``, changed in place) while
     the residual norm does not decrease, up to ``BACKTRACKS`` times; only the rows still
-    failing are evaluated again."""
-    n = system.n
-    sub = _Rows(**{name: st.__dict__[name] for name in names})
-    sub.keep(far, names)
+    failing are evaluated again. Returns the evaluations at the accepted points (a cache
+    for the next iteration, models of I alone), or None."""
+    n = pb.system.n
+    rows = st.idx.size
+    sub = st.subset(far) if far.size < rows else _Rows(**st.__dict__)
+    sub.sweep = False  # γ held where it is (other models)
     f0 = np.sum(res[:, far] ** 2, axis=0)
     lam_f, step_f = lam[far], step[:, far]
     base_f = trial[:, far] - lam_f * step_f
     trial_f = trial[:, far]
     pend = np.arange(far.size)  # rows of ``far`` still on trial
+    cache = None
+    if pb.by_I:
+        cache = _Eval(have=np.zeros(rows, dtype=bool), res=np.empty((n + 1, rows)),
+                      Gr=np.empty((len(pb.gam.species), rows)), m=np.empty((len(pb.system.species), rows)),
+                      I=np.empty(rows), Ic=np.empty(rows))
+    pend_full = far.size == rows
     for _ in range(BACKTRACKS):
         sub.u = trial_f[:n, pend]
-        if by_I:
+        if pb.by_I:
             sub.w = trial_f[n, pend]
-        r_t = _evaluate(system, gam, sub, by_I, charge_col, act_cols, act_species, any_pin, False).res
+        ev = _evaluate(pb, sub, None)
+        r_t = ev.res
         f1 = np.sum(r_t * r_t, axis=0)
         lp = lam_f[pend]
-        worse = ~(f1 <= f0[pend] * (1.0 - 1e-4 * lp)) & (f0[pend] > tol * tol)
+        worse = ~(f1 <= f0[pend] * (1.0 - 1e-4 * lp)) & (f0[pend] > pb.tol * pb.tol)
+        if cache is not None and pend_full and pend.size == rows and not np.any(worse):
+            cache = ev  # every row accepted at the first trial: the evaluation is the cache
+            cache.have = np.ones(rows, dtype=bool)
+        elif cache is not None:
+            ok = np.flatnonzero(~worse)
+            cols = far[pend[ok]]
+            cache.have[cols] = True
+            for name in ("res", "Gr", "m", "I", "Ic"):
+                getattr(cache, name)[..., cols] = getattr(ev, name)[..., ok]
         if not np.any(worse):
             break
         pend = pend[worse]
-        sub.keep(np.flatnonzero(worse), names)
+        sub.keep(np.flatnonzero(worse))
         lam_f[pend] *= 0.5
         trial_f[:, pend] = base_f[:, pend] + lam_f[pend] * step_f[:, pend]
     trial[:, far] = trial_f
+    return cache
 
 
-class _Eval(SimpleNamespace):
-    def keep(self, sel: np.ndarray) -> None:
-        for name, a in list(self.__dict__.items()):
-            if isinstance(a, np.ndarray) and a.ndim:
-                self.__dict__[name] = a[..., sel]
+class _Eval(_Rows):
+    """Species, γ and residuals at one point of the working set (rows last)."""
 
 
-def _evaluate(system, gam, st, by_I, charge_col, act_cols, act_species, any_pin, with_terms=True) -> _Eval:
-    """Species, γ and scaled residuals (k, rows) at the working set's unknowns."""
+def _evaluate(pb: _Problem, st: _Rows, cache: _Eval | None) -> _Eval:
+    """Species, γ and scaled residuals (k, rows) at the working set's unknowns.
+
+    With a ``cache`` (models of I alone) the rows it has are taken from it and only the
+    others are evaluated. For other models γ is updated ``GAMMA_SWEEPS`` times at fixed u
+    (its change is ``dg``).
+    """
+    if cache is not None and np.any(cache.have):
+        todo = np.flatnonzero(~cache.have)
+        if todo.size:
+            ev = _evaluate(pb, st.subset(todo), None)
+            for name in ("res", "Gr", "m", "I", "Ic"):
+                getattr(cache, name)[..., todo] = getattr(ev, name)
+        del cache.have
+        return cache
+    system = pb.system
     n = system.n
     ev = _Eval()
-    if by_I:
+    if pb.by_I:
         I = np.exp(st.w)
-        g = gam.of_I(I, st.T, st.P)
-        lnm = _lnm(system, st.lk, st.u, g)
-        m = _exp(lnm)
-        Ic = 0.5 * (system.z2 @ m)
-        if with_terms:
-            G = gam.of_I(I * (1.0 + EPS_I), st.T, st.P)
-            G -= g
-            G /= EPS_I * I
-            ev.G = G
-            # change of ln γ if I moved to the computed one
-            ev.dg = np.max(np.abs(G), axis=0) * np.abs(Ic - I)
-        ev.I = I
+        Gr = pb.gam.of_I(I, st.T, st.P)
+        m = _exp(pb.gam.lnm_of_I(st.lk, st.u, Gr))
+        ev.I, ev.Gr = I, Gr
+        ev.Ic = 0.5 * (system.z2 @ m)
     else:
         g = st.g
         lnm = _lnm(system, st.lk, st.u, g)
         m = _exp(lnm)
         g_prev = g
-        if with_terms:
+        if getattr(st, "sweep", True):
             for _ in range(GAMMA_SWEEPS):
-                g_prev, g = g, gam.of_m(m, st.T, st.P)
+                g_prev, g = g, pb.gam.of_m(m, st.T, st.P)
                 lnm = _lnm(system, st.lk, st.u, g)
                 m = _exp(lnm)
-            ev.dg = np.max(np.abs(g - g_prev), axis=0)
-        Ic = None
-    calc = system.nuT @ m
-    res = np.empty((n + 1 if by_I else n, m.shape[1]))
-    res[:n] = calc
+        ev.dg = np.max(np.abs(g - g_prev), axis=0)
+        ev.lnm, ev.g = lnm, g
+    res = np.empty((n + 1 if pb.by_I else n, m.shape[1]))
+    np.matmul(system.nuT, m, out=res[:n])
     res[:n] -= st.tot
     res[:n] /= st.sc
-    if charge_col is not None:
-        res[charge_col] = (system.zf @ m) / st.sc[charge_col]
-    for col, sp, tgt in zip(act_cols, act_species, st.tg):
-        res[col] = lnm[sp] + g[sp] - tgt
-    if any_pin:
+    if pb.charge_col is not None:
+        res[pb.charge_col] = (system.zf @ m) / st.sc[pb.charge_col]
+    for col, sp, tgt in zip(pb.act_cols, pb.act_species, st.tg):
+        res[col] = _lna(pb, st, ev, sp) - tgt
+    if pb.any_pin:
         for c in np.flatnonzero(np.any(st.pin, axis=1)):
             p = st.pin[c]
             res[c, p] = st.u[c, p] - LN_ABSENT
-    if by_I:
-        res[n] = Ic / ev.I - 1.0
-        ev.Ic = Ic
-    ev.res, ev.lnm, ev.m, ev.g = res, lnm, m, g
+    if pb.by_I:
+        res[n] = ev.Ic / ev.I - 1.0
+    ev.res, ev.m = res, m
     return ev
 
 
-def _coupling(system, gam, st, ev, by_I):
-    """D = ∂ln m/∂I (n_species, rows), G = ∂ln γ/∂I, dI = ∂I/∂u (n, rows) — the γ terms."""
+def _lna(pb: _Problem, st: _Rows, ev: _Eval, sp: int) -> np.ndarray:
+    """ln a of species ``sp``: ln β + Σ_c ν (u_c + ln γ_c)."""
+    nu = pb.system.nu[sp]
+    g_c = ev.Gr[pb.gam.grp_c] if pb.by_I else ev.g[: pb.system.n]
+    return st.lk[sp] + nu @ (st.u + g_c)
+
+
+def _terms(pb: _Problem, st: _Rows, ev: _Eval) -> None:
+    """Models of I alone: ∂ln γ/∂I of the groups (``dGr``) and the change of ln γ were I
+    moved to the computed one (``dg``)."""
+    if not pb.by_I:
+        return
+    dGr = pb.gam.of_I(ev.I * (1.0 + EPS_I), st.T, st.P)
+    dGr -= ev.Gr
+    dGr /= EPS_I * ev.I
+    ev.dGr = dGr
+    ev.dg = np.max(np.abs(dGr), axis=0) * np.abs(ev.Ic - ev.I)
+
+
+def _coupling(pb: _Problem, st: _Rows, ev: _Eval):
+    """The γ terms: ∂ln γ_c/∂I of the components (n, rows), D = ∂ln m/∂I (n_species,
+    rows) and dI = ∂I/∂u (n, rows)."""
+    system = pb.system
     n = system.n
     m = ev.m
-    if by_I:
-        G = ev.G
+    if pb.by_I:
+        Gc = ev.dGr[pb.gam.grp_c]
+        D = pb.gam.numM[:, n:] @ ev.dGr
     else:
         I = 0.5 * (system.z2 @ m)
-        G = gam.of_m(m * (1.0 + EPS_I), st.T, st.P)
+        G = pb.gam.of_m(m * (1.0 + EPS_I), st.T, st.P)
         G -= ev.g
         G /= np.maximum(EPS_I * I, 1e-300)
-    D = system.nu @ G[:n]
-    D -= G
+        Gc = G[:n]
+        D = system.nu @ Gc
+        D -= G
     dI = system.h2T @ m
-    return G, D, dI
+    return Gc, D, dI
 
 
-def _step_spd(system, gam, st, ev, by_I, coupled, charge_col, any_pin):
+def _step_spd(pb: _Problem, st: _Rows, ev: _Eval):
     """Newton step for mass and charge closures: sparse Cholesky of S = νᵀ diag(m) ν (rows last)."""
+    system = pb.system
     n = system.n
     m = ev.m
     rows = m.shape[1]
     A = system.Wp @ m  # packed S
     Y = np.empty((2, n, rows))
-    Y[0] = ev.res[:n] * st.sc  # unscaled residuals
-    if coupled:
-        G, D, dI = _coupling(system, gam, st, ev, by_I)
+    np.multiply(ev.res[:n], st.sc, out=Y[0])  # unscaled residuals
+    if pb.coupled:
+        _, D, dI = _coupling(pb, st, ev)
         mD = m * D
-        Y[1] = system.nuT @ mD
+        np.matmul(system.nuT, mD, out=Y[1])
     else:
         Y[1] = 0.0
-    pins = [(c, st.pin[c]) for c in np.flatnonzero(np.any(st.pin, axis=1))] if any_pin else []
+    pins = [(c, st.pin[c]) for c in np.flatnonzero(np.any(st.pin, axis=1))] if pb.any_pin else []
     for c, p in pins:  # an absent component's mass row is ≈ 0 (its species have m ≈ 0)
         Y[:, c, p] = 0.0
-    if charge_col is not None:
-        # the charge row Σ_c z_c (mass row c): take the other mass rows out of it
-        q = charge_col
+    q = pb.charge_col
+    if q is not None:
+        # the charge row is Σ_c z_c (mass row c): take the other mass rows out of it
         zc = system.zc
-        for r in range(2):
-            if r == 0:
-                tot_q = ev.res[q] * st.sc[q]  # Σ z m (unscaled)
-                y = tot_q - (zc @ Y[0] - zc[q] * Y[0, q])
-            else:
-                y = system.zf @ mD - (zc @ Y[1] - zc[q] * Y[1, q]) if coupled else 0.0
-            Y[r, q] = y / zc[q]
+        Q = ev.res[q] * st.sc[q]  # Σ z m (unscaled)
+        Y[0, q] = (Q - (zc @ Y[0] - zc[q] * Y[0, q])) / zc[q]
+        if pb.coupled:
+            Y[1, q] = (system.zf @ mD - (zc @ Y[1] - zc[q] * Y[1, q])) / zc[q]
     for c, p in pins:  # pinned: row and column of the identity, u_c → LN_ABSENT
         for slot in system.off_slots[c]:
             A[slot, p] = 0.0
         A[system.diag_slot[c], p] = 1.0
         Y[0, c, p] = st.u[c, p] - LN_ABSENT
-        if coupled:
+        if pb.coupled:
             dI[c, p] = 0.0
     X, ok = system.chol.solve(A, Y)
     x0, x1 = X[0], X[1]
-    if by_I:
+    if pb.by_I:
         # border: S δ + a ε = −y, (dI/I)·δ + c ε = −r_I with ε the change of ln I
         I = ev.I
         x1 *= I
@@ -498,9 +621,11 @@ def _step_spd(system, gam, st, ev, by_I, coupled, charge_col, any_pin):
         c = 0.5 * (system.z2 @ mD) - ev.Ic / I
         eps = (np.einsum("kn,kn->n", b, x0) - ev.res[n]) / (c - np.einsum("kn,kn->n", b, x1))
         step = np.empty((n + 1, rows))
-        step[:n] = -(x0 + x1 * eps)
+        np.multiply(x1, eps, out=step[:n])
+        step[:n] += x0
+        np.negative(step[:n], out=step[:n])
         step[n] = eps
-    elif coupled:
+    elif pb.coupled:
         # rank one (Sherman–Morrison): S δ + a (dI·δ) = −y
         t = -np.einsum("kn,kn->n", dI, x0) / (1.0 + np.einsum("kn,kn->n", dI, x1))
         step = -(x0 + x1 * t)
@@ -509,33 +634,29 @@ def _step_spd(system, gam, st, ev, by_I, coupled, charge_col, any_pin):
     return step, ok & np.all(np.isfinite(step), axis=0)
 
 
-def _step_general(system, gam, st, ev, by_I, coupled, charge_col, act_cols, act_species, sel):
+def _step_general(pb: _Problem, st: _Rows, ev: _Eval) -> np.ndarray:
     """Newton step from the full Jacobian (any closures), ``numpy.linalg.solve`` per row."""
+    system = pb.system
     n = system.n
-    if sel is not None:
-        st = _Rows(**st.__dict__)
-        st.keep(sel, tuple(st.__dict__))
-        ev = _Eval(**ev.__dict__)
-        ev.keep(sel)
     m = ev.m
     rows = m.shape[1]
-    k = n + 1 if by_I else n
+    k = n + 1 if pb.by_I else n
     J = np.zeros((k, k, rows))
     J[:n, :n] = (system.W2 @ m).reshape(n, n, rows) / st.sc[:, None, :]
-    if charge_col is not None:
-        J[charge_col, :n] = (system.zf * system.nu.T) @ m / st.sc[charge_col]
-    for col, sp in zip(act_cols, act_species):
+    if pb.charge_col is not None:
+        J[pb.charge_col, :n] = (system.zf * system.nu.T) @ m / st.sc[pb.charge_col]
+    for col, sp in zip(pb.act_cols, pb.act_species):
         J[col, :n] = system.nu[sp][:, None]
-    if coupled:
-        G, D, dI = _coupling(system, gam, st, ev, by_I)
+    if pb.coupled:
+        Gc, D, dI = _coupling(pb, st, ev)
         mD = m * D
         a = (system.nuT @ mD) / st.sc
-        if charge_col is not None:
-            a[charge_col] = (system.zf @ mD) / st.sc[charge_col]
-        for col, sp in zip(act_cols, act_species):
-            a[col] = system.nu[sp] @ G[:n]
+        if pb.charge_col is not None:
+            a[pb.charge_col] = (system.zf @ mD) / st.sc[pb.charge_col]
+        for col, sp in zip(pb.act_cols, pb.act_species):
+            a[col] = system.nu[sp] @ Gc
         a[st.pin] = 0.0
-        if by_I:
+        if pb.by_I:
             I = ev.I
             J[:n, n] = a * I
             J[n, :n] = dI / I
@@ -559,6 +680,9 @@ def _step_general(system, gam, st, ev, by_I, coupled, charge_col, act_cols, act_
     return step.T
 
 
+#: Rows of a block left for the joint finish once the rest has converged (see solve_blocks).
+PARK = 256
+
 #: Rows solved together: bounds the temporary memory (the Jacobians alone take
 #: 8 n² bytes per row) and keeps the working arrays in cache.
 CHUNK = 8192
@@ -580,32 +704,64 @@ def solve_blocks(
     u0: np.ndarray,
     **kw: Any,
 ) -> SolveOutput:
-    """:func:`start` and :func:`solve` on blocks of :data:`CHUNK` rows (same arguments)."""
+    """:func:`start` and :func:`solve` on blocks of :data:`CHUNK` rows (same arguments).
+
+    The few slow rows of each block (at most ``PARK`` once the rest has converged) are
+    set aside and finished together after the last block, from where they were: a block
+    does not run dozens of near-empty iterations for a handful of rows.
+    """
     N = totals.shape[0]
     parts = []
-    for lo in range(0, N, CHUNK):
+    parked, u_parked = [], []
+    blocks = range(0, N, CHUNK)
+    for lo in blocks:
         sl = slice(lo, min(N, lo + CHUNK))
         u_start = start(system, lnk[sl], totals[sl], pin_cols, u0[sl])
-        parts.append(
-            solve(
-                system,
-                lnk[sl],
-                totals[sl],
-                scale[sl],
-                pin_cols,
-                charge_col,
-                act_cols,
-                act_species,
-                [t[sl] for t in act_targets],
-                model,
-                T[sl] if np.ndim(T) else T,
-                P[sl] if np.ndim(P) else P,
-                u_start,
-                **kw,
-            )
+        out = solve(
+            system,
+            lnk[sl],
+            totals[sl],
+            scale[sl],
+            pin_cols,
+            charge_col,
+            act_cols,
+            act_species,
+            [t[sl] for t in act_targets],
+            model,
+            T[sl] if np.ndim(T) else T,
+            P[sl] if np.ndim(P) else P,
+            u_start,
+            park=PARK if len(blocks) > 1 else 0,
+            **kw,
         )
+        parts.append(out)
+        if out.parked is not None:
+            parked.append(out.parked + lo)
+            u_parked.append(out.u_parked)
     if len(parts) == 1:
         return parts[0]
-    return SolveOutput(
+    full = SolveOutput(
         *(np.concatenate([getattr(p, f) for p in parts]) for f in ("lnm", "lng", "converged", "iterations", "residual"))
     )
+    if parked:
+        rows = np.concatenate(parked)
+        rest = solve(
+            system,
+            lnk[rows],
+            totals[rows],
+            scale[rows],
+            pin_cols,
+            charge_col,
+            act_cols,
+            act_species,
+            [np.broadcast_to(t, (N,))[rows] for t in act_targets],
+            model,
+            T[rows] if np.ndim(T) else T,
+            P[rows] if np.ndim(P) else P,
+            np.concatenate(u_parked),
+            **kw,
+        )
+        full.lnm[rows], full.lng[rows], full.converged[rows] = rest.lnm, rest.lng, rest.converged
+        full.iterations[rows] += rest.iterations - 1  # the first re-evaluates where they stopped
+        full.residual[rows] = rest.residual
+    return full
