@@ -410,10 +410,10 @@ def solve(
         big = np.max(np.abs(step), axis=0)
         lam = np.minimum(1.0, MAX_STEP / np.maximum(big, 1e-300))
         trial = (np.vstack([st.u, st.w[None]]) if by_I else st.u) + lam * step
-        # backtracking only away from the solution; where every scaled residual is already
-        # below NEAR the step is taken whole (the quadratic regime of Newton's method, where
-        # checking would cost an extra pass)
-        far = np.flatnonzero(err > NEAR)
+        # backtracking: for models of I alone on every row (the trial evaluation is the next
+        # iterate's, so checking costs nothing); otherwise only away from the solution (rows
+        # whose scaled residuals are all below NEAR take the Newton step whole)
+        far = np.arange(err.size) if by_I else np.flatnonzero(err > NEAR)
         cache = _backtrack(pb, st, far, res, lam, step, trial) if far.size else None
         st.u = trial[:n]
         if by_I:
@@ -435,48 +435,51 @@ def _final(pb: _Problem, st: _Rows, ev: _Eval, sel: np.ndarray) -> tuple[np.ndar
 def _backtrack(pb: _Problem, st: _Rows, far, res, lam, step, trial) -> _Eval | None:
     """Halve the steps of the rows ``far`` (columns of ``trial``, changed in place) while
     the residual norm does not decrease, up to ``BACKTRACKS`` times; only the rows still
-    failing are evaluated again. Returns the evaluations at the accepted points (a cache
-    for the next iteration, models of I alone), or None."""
+    failing are evaluated again. For models of I alone (``far`` is then every row) returns
+    the evaluations at the accepted points, the next iterate's (rows not accepted are
+    marked in ``have``); otherwise None."""
     n = pb.system.n
     rows = st.idx.size
-    sub = st.subset(far) if far.size < rows else _Rows(**st.__dict__)
+    full = far.size == rows
+    sub = _Rows(**st.__dict__) if full else st.subset(far)
     sub.sweep = False  # γ held where it is (other models)
-    f0 = np.sum(res[:, far] ** 2, axis=0)
-    lam_f, step_f = lam[far], step[:, far]
-    base_f = trial[:, far] - lam_f * step_f
-    trial_f = trial[:, far]
+    f0 = np.sum(res[:, far] ** 2, axis=0) if not full else np.sum(res * res, axis=0)
+    lam_f, step_f = (lam.copy(), step) if full else (lam[far], step[:, far])
+    trial_f = trial if full else trial[:, far]
+    base_f = trial_f - lam_f * step_f
     pend = np.arange(far.size)  # rows of ``far`` still on trial
     cache = None
-    if pb.by_I:
-        cache = _Eval(have=np.zeros(rows, dtype=bool), res=np.empty((n + 1, rows)),
-                      Gr=np.empty((len(pb.gam.species), rows)), m=np.empty((len(pb.system.species), rows)),
-                      I=np.empty(rows), Ic=np.empty(rows))
-    pend_full = far.size == rows
-    for _ in range(BACKTRACKS):
-        sub.u = trial_f[:n, pend]
-        if pb.by_I:
-            sub.w = trial_f[n, pend]
+    for r in range(BACKTRACKS):
+        if r:
+            sub.u = trial_f[:n, pend]
+            if pb.by_I:
+                sub.w = trial_f[n, pend]
+        else:
+            sub.u = trial_f[:n].copy() if full else trial_f[:n]
+            if pb.by_I:
+                sub.w = trial_f[n].copy() if full else trial_f[n]
         ev = _evaluate(pb, sub, None)
-        r_t = ev.res
-        f1 = np.sum(r_t * r_t, axis=0)
+        f1 = np.sum(ev.res * ev.res, axis=0)
         lp = lam_f[pend]
         worse = ~(f1 <= f0[pend] * (1.0 - 1e-4 * lp)) & (f0[pend] > pb.tol * pb.tol)
-        if cache is not None and pend_full and pend.size == rows and not np.any(worse):
-            cache = ev  # every row accepted at the first trial: the evaluation is the cache
-            cache.have = np.ones(rows, dtype=bool)
-        elif cache is not None:
-            ok = np.flatnonzero(~worse)
-            cols = far[pend[ok]]
-            cache.have[cols] = True
-            for name in ("res", "Gr", "m", "I", "Ic"):
-                getattr(cache, name)[..., cols] = getattr(ev, name)[..., ok]
+        if pb.by_I and full:
+            if r == 0:
+                cache = ev
+                cache.have = ~worse
+            else:
+                ok = np.flatnonzero(~worse)
+                cols = pend[ok]
+                cache.have[cols] = True
+                for name in ("res", "Gr", "m", "I", "Ic"):
+                    getattr(cache, name)[..., cols] = getattr(ev, name)[..., ok]
         if not np.any(worse):
             break
         pend = pend[worse]
         sub.keep(np.flatnonzero(worse))
         lam_f[pend] *= 0.5
         trial_f[:, pend] = base_f[:, pend] + lam_f[pend] * step_f[:, pend]
-    trial[:, far] = trial_f
+    if not full:
+        trial[:, far] = trial_f
     return cache
 
 
