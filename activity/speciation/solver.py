@@ -229,7 +229,7 @@ def start(
     totals: np.ndarray,
     cols: np.ndarray,
     u0: np.ndarray,
-    sweeps: int = 6,
+    sweeps: int = 4,
 ) -> np.ndarray:
     """A starting point: rescale each free component so its computed total matches the given one.
 
