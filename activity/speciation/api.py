@@ -30,7 +30,7 @@ from ..solution import Solution
 from ..species import parse_species
 from .network import Network, default_network
 from .overlap import parameter_table, pitzer_skips
-from .result import SpeciationResult
+from .result import SpeciatedSolution, SpeciationResult
 from .solver import System, solve_blocks
 
 __all__ = ["free_activity", "speciate"]
@@ -438,8 +438,8 @@ def speciate(
         )
     m = np.exp(out.lnm)  # (N, ns)
     lg = out.lng / LN10
-    final_sol = Solution._from_arrays(
-        species, charges, m.T.reshape((len(species),) + shape), sol.T_compact, sol.P_compact
+    final_sol = SpeciatedSolution.of(
+        species, charges, m.T.reshape((len(species),) + shape), sol.T_compact, sol.P_compact, nu
     )
     coeffs, more = call_with_notes(mdl.activity_coefficients, final_sol)
     notes.extend(n_ for n_ in more if n_ not in notes)
