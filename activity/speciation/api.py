@@ -17,7 +17,7 @@ one phthalate and one H⁺). Then one closure per component fixes the system:
 from __future__ import annotations
 
 import warnings
-from collections.abc import Iterable, Mapping
+from collections.abc import Callable, Iterable, Mapping
 from typing import Any
 
 import numpy as np
@@ -102,6 +102,7 @@ def speciate(
     exclude: Iterable[str] = (),
     tol: float = 1e-11,
     max_iter: int = 200,
+    progress: Callable[[int], Any] | None = None,
 ) -> SpeciationResult:
     """Speciate a solution (or a batch): free molalities, activities, pH, ionic strength.
 
@@ -136,6 +137,10 @@ def speciate(
     tol : float
         Largest scaled residual of mass, charge and activity equations at convergence.
     max_iter : int
+    progress : callable, optional
+        Called with the number of rows finished as the solver works through a big batch
+        (after each block of rows), e.g. the ``update`` of a progress bar such as
+        :class:`activity.workflows.progress.Progress`; the counts sum to the number of rows.
 
     Returns
     -------
@@ -426,6 +431,7 @@ def speciate(
         u0,
         tol=tol,
         max_iter=max_iter,
+        progress=progress,
     )
     notes.extend(caught)
     if not np.all(out.converged):

@@ -687,8 +687,10 @@ def _step_general(pb: _Problem, st: _Rows, ev: _Eval) -> np.ndarray:
     return step.T
 
 
-#: Rows of a block left for the joint finish once the rest has converged (see solve_blocks).
+#: Rows of a block left for the joint finish once the rest has converged (see solve_blocks):
+#: at most PARK, and at most the share PARK_SHARE of the block.
 PARK = 256
+PARK_SHARE = 1 / 32
 
 #: Rows solved together: bounds the temporary memory (the Jacobians alone take
 #: 8 n² bytes per row) and keeps the working arrays in cache.
@@ -709,13 +711,16 @@ def solve_blocks(
     T: np.ndarray,
     P: np.ndarray,
     u0: np.ndarray,
+    progress: Any = None,
     **kw: Any,
 ) -> SolveOutput:
     """:func:`start` and :func:`solve` on blocks of :data:`CHUNK` rows (same arguments).
 
     The few slow rows of each block (at most ``PARK`` once the rest has converged) are
     set aside and finished together after the last block, from where they were: a block
-    does not run dozens of near-empty iterations for a handful of rows.
+    does not run dozens of near-empty iterations for a handful of rows. ``progress``, if
+    given, is called with the number of rows finished after each block and after the joint
+    finish (e.g. the ``update`` of a progress bar); it sums to the number of rows.
     """
     N = totals.shape[0]
     parts = []
@@ -738,13 +743,15 @@ def solve_blocks(
             T[sl] if np.ndim(T) else T,
             P[sl] if np.ndim(P) else P,
             u_start,
-            park=PARK if len(blocks) > 1 else 0,
+            park=min(PARK, int((sl.stop - sl.start) * PARK_SHARE)) if len(blocks) > 1 else 0,
             **kw,
         )
         parts.append(out)
         if out.parked is not None:
             parked.append(out.parked + lo)
             u_parked.append(out.u_parked)
+        if progress is not None:
+            progress(sl.stop - sl.start - (0 if out.parked is None else out.parked.size))
     if len(parts) == 1:
         return parts[0]
     full = SolveOutput(
@@ -771,4 +778,6 @@ def solve_blocks(
         full.lnm[rows], full.lng[rows], full.converged[rows] = rest.lnm, rest.lng, rest.converged
         full.iterations[rows] += rest.iterations - 1  # the first re-evaluates where they stopped
         full.residual[rows] = rest.residual
+        if progress is not None:
+            progress(rows.size)
     return full

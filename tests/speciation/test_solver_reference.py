@@ -100,17 +100,20 @@ def test_edta_metal_buffer_matches_the_previous_solver():
 @settings(deadline=None, max_examples=20)
 @given(st.integers(0, 2**31 - 1))
 def test_blocks_and_parked_rows_do_not_change_the_answer(seed):
-    # blocks of 7 rows and rows parked for the joint finish: the same answer as one block
-    comp = natural_water(40, np.random.default_rng(seed))
+    # blocks of 16 rows whose last unfinished rows (up to half) are parked for the joint
+    # finish: the same answer as one block, and every row counted once by ``progress``
+    comp = natural_water(70, np.random.default_rng(seed))
     sol = act.Solution(comp, neutrality="ignore")
     whole = act.speciate(sol)
-    old_chunk, old_park = solver.CHUNK, solver.PARK
-    solver.CHUNK, solver.PARK = 7, 3
+    saved = solver.CHUNK, solver.PARK, solver.PARK_SHARE
+    solver.CHUNK, solver.PARK, solver.PARK_SHARE = 16, 8, 0.5
+    counts = []
     try:
-        split = act.speciate(sol)
+        split = act.speciate(sol, progress=counts.append)
     finally:
-        solver.CHUNK, solver.PARK = old_chunk, old_park
+        solver.CHUNK, solver.PARK, solver.PARK_SHARE = saved
     np.testing.assert_allclose(split.m, whole.m, rtol=RTOL, atol=0)
+    assert sum(counts) == 70 and len(counts) >= 5  # five blocks, then the joint finish if any
 
 
 @settings(deadline=None, max_examples=30)
