@@ -431,7 +431,7 @@ def speciate(
         u0,
         tol=tol,
         max_iter=max_iter,
-        progress=progress,
+        **({} if progress is None else {"progress": progress}),
     )
     notes.extend(caught)
     if not np.all(out.converged):
@@ -442,7 +442,8 @@ def speciate(
             f"largest scaled residual {float(np.max(out.residual[rows])):.3g})",
             rows=rows,
         )
-    m = np.exp(out.lnm)  # (N, ns)
+    m = getattr(out, "m", None)  # (N, ns), as the solver evaluated it
+    m = np.exp(out.lnm) if m is None else m
     lg = out.lng / LN10
     final_sol = SpeciatedSolution.of(
         species, charges, m.T.reshape((len(species),) + shape), sol.T_compact, sol.P_compact, nu

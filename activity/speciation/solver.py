@@ -135,6 +135,7 @@ class SolveOutput:
     converged: np.ndarray  # (N,)
     iterations: np.ndarray  # (N,)
     residual: np.ndarray  # (N,) largest scaled residual
+    m: np.ndarray | None = None  # (N, n_species) exp(lnm), as evaluated at the last iterate
     parked: np.ndarray | None = None  # rows left unfinished on purpose (``park``)
     u_parked: np.ndarray | None = None  # (len(parked), n) their free components
 
@@ -373,6 +374,7 @@ def solve(
     tol_in = tol * TIGHTEN if by_I else tol
     lnm_out = np.empty((ns, N))
     lng_out = np.zeros((ns, N))
+    m_out = np.empty((ns, N))
     converged = np.zeros(N, dtype=bool)
     iterations = np.zeros(N, dtype=int)
     resid = np.full(N, np.inf)
@@ -390,6 +392,7 @@ def solve(
             di = st.idx[done]
             converged[di] = True
             lnm_out[:, di], lng_out[:, di] = _final(pb, st, ev, done)
+            m_out[:, di] = ev.m[:, done]
             keep = np.flatnonzero(~done)
             if not keep.size:
                 st.idx = st.idx[:0]
@@ -400,7 +403,8 @@ def solve(
             res = ev.res
         st.met = near
         if park and it >= 3 and st.idx.size <= park:
-            return SolveOutput(lnm_out.T, lng_out.T, converged, iterations, resid, st.idx.copy(), st.u.T.copy())
+            left = st.idx.copy(), st.u.T.copy()
+            return SolveOutput(lnm_out.T, lng_out.T, converged, iterations, resid, m_out.T, *left)
         if not by_I:
             st.g = ev.g
         if structured:
@@ -425,7 +429,8 @@ def solve(
     if st.idx.size:
         ev = _evaluate(pb, st, None)
         lnm_out[:, st.idx], lng_out[:, st.idx] = _final(pb, st, ev, np.ones(st.idx.size, dtype=bool))
-    return SolveOutput(lnm_out.T, lng_out.T, converged, iterations, resid)
+        m_out[:, st.idx] = np.exp(lnm_out[:, st.idx])
+    return SolveOutput(lnm_out.T, lng_out.T, converged, iterations, resid, m_out.T)
 
 
 def _final(pb: _Problem, st: _Rows, ev: _Eval, sel: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -755,7 +760,10 @@ def solve_blocks(
     if len(parts) == 1:
         return parts[0]
     full = SolveOutput(
-        *(np.concatenate([getattr(p, f) for p in parts]) for f in ("lnm", "lng", "converged", "iterations", "residual"))
+        *(
+            np.concatenate([getattr(p, f) for p in parts])
+            for f in ("lnm", "lng", "converged", "iterations", "residual", "m")
+        )
     )
     if parked:
         rows = np.concatenate(parked)
@@ -776,6 +784,7 @@ def solve_blocks(
             **kw,
         )
         full.lnm[rows], full.lng[rows], full.converged[rows] = rest.lnm, rest.lng, rest.converged
+        full.m[rows] = rest.m
         full.iterations[rows] += rest.iterations - 1  # the first re-evaluates where they stopped
         full.residual[rows] = rest.residual
         if progress is not None:
