@@ -97,6 +97,12 @@ class Solution:
 
     __slots__ = ("_species", "_charges", "_m", "_T", "_P", "_shape", "_cache")
 
+    #: (cation, anion) pairs, both of charge magnitude ≥ 2, whose association is counted as
+    #: a species of this solution (a speciated solution says so; see
+    #: :class:`activity.speciation.result.SpeciatedSolution`). Models whose validity rests
+    #: on explicit ion pairs do not flag those pairs. Empty for a plain composition.
+    explicit_ion_pairs: frozenset = frozenset()
+
     def __init__(
         self,
         composition: Mapping[str, Any],

@@ -95,6 +95,19 @@ def test_speciate_signature():
     assert {"ph", "balance", "gases"} <= set(params) and str(params["balance"].default).startswith("H+")
 
 
+def test_speciation_additions():
+    # issue 9 follow-ups: progress callback, the speciated solution's record of explicit ion
+    # pairs, and free-ion readings through the uncertainty chain
+    from activity.speciation import SpeciatedSolution
+    from activity.workflows.measurement import molality_with_uncertainty
+
+    assert inspect.signature(act.speciate).parameters["progress"].default is None
+    assert act.Solution.explicit_ion_pairs == frozenset()
+    assert issubclass(SpeciatedSolution, act.Solution)
+    assert isinstance(act.speciate({"Ca^2+": 0.01, "SO4^2-": 0.01}).solution, SpeciatedSolution)
+    assert inspect.signature(molality_with_uncertainty).parameters["speciation"].default is None
+
+
 def test_signatures():
     assert list(inspect.signature(act.Solution).parameters)[:3] == ["composition", "T", "P"]
     assert "density" in inspect.signature(act.Solution.from_molarity).parameters

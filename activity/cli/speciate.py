@@ -144,7 +144,12 @@ def cmd_speciate(args: argparse.Namespace) -> int:
             raise InputError("give either --table FILE or a composition, not both", field="table", value=args.table)
         tbl = read_table(args.table)
         sol = show_cautions(solution_from_table(tbl, balance_with=args.balance_with, neutrality="ignore"))
-        res = speciate(sol, args.model, **kw)
+        from ..speciation.solver import CHUNK
+        from ..workflows.progress import Progress
+
+        # a bar on standard error for a batch of several solver blocks, only on a terminal
+        with Progress(sol.size, progress=sol.size > CHUNK, desc="speciate") as bar:
+            res = speciate(sol, args.model, progress=bar.update, **kw)
         emit(args, _batch_report(res, tbl.labels, form))
         return 0
     sol = solution_from_args(args)

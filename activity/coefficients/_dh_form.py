@@ -121,9 +121,17 @@ class DebyeHuckelForm(ActivityModel):
         n_rows = m.shape[1]
         multi_cat = (m[z >= 2] > 0).any(axis=0) if np.any(z >= 2) else np.zeros(n_rows, bool)
         multi_an = (m[z <= -2] > 0).any(axis=0) if np.any(z <= -2) else np.zeros(n_rows, bool)
+        paired = multi_cat & multi_an
+        explicit = sol.explicit_ion_pairs
+        if explicit and np.any(paired):  # speciated: only pairs not counted as species
+            paired = np.zeros(n_rows, bool)
+            for i in np.flatnonzero(z >= 2):
+                for j in np.flatnonzero(z <= -2):
+                    if (sol.species[i], sol.species[j]) not in explicit:
+                        paired |= (m[i] > 0) & (m[j] > 0)
         flat_I = np.asarray(I, dtype=float).reshape(-1)
         for limit, rows, what in (
-            (self.associated_max_ionic_strength, multi_cat & multi_an, "a 2:2 pair (ion association)"),
+            (self.associated_max_ionic_strength, paired, "a 2:2 pair (ion association)"),
             (self.multivalent_anion_max_ionic_strength, multi_an, "a divalent or higher anion"),
         ):
             if limit is None:

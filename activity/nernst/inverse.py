@@ -276,16 +276,22 @@ def _solve(
     )
 
 
-def _free_result(res: InverseResult, model: Any, speciation: Mapping[str, Any] | None) -> InverseResult:
-    """With speciation, the activity reported is the free ion's and γ the ratio activity/total."""
+def _free_result(res: InverseResult, model: Any, speciation: Mapping[str, Any] | None, warn: bool) -> InverseResult:
+    """With speciation, the activity reported is the free ion's and γ the ratio activity/total;
+    the model's validity is that on the free species (where γ is used), not on the totals."""
     if speciation is None:
         return res
     free, notes = free_solution(res.solution, model, speciation)
     k = free.index(res.species)
     g = model.activity_coefficients(free, warn=False)
+    if warn:
+        warn_alerts(g.alerts)
     a = _checks.scalar_or_array(free.m[k] * 10.0 ** g.log10_gamma[k])
     gamma = _checks.scalar_or_array(np.asarray(a) / np.asarray(res.molality))
-    return dataclasses.replace(res, activity=a, gamma=gamma, notes=res.notes + notes)
+    kept = tuple(n for n in res.notes if n not in res.alerts)  # the totals' excursions do not apply
+    return dataclasses.replace(
+        res, activity=a, gamma=gamma, notes=tuple(dict.fromkeys(kept + notes + g.notes)), alerts=g.alerts
+    )
 
 
 def molality_from_potential(
@@ -355,7 +361,8 @@ def molality_from_potential(
         g = CoefficientResult(s.species, lg, s.ionic_strength, model.name)
         return electrode.evaluate_in(s, g, pressures=pressures).potential
 
-    return _free_result(_solve(forward, E, matrix, name, counter_ion, model, rtol, max_iter, warn), model, speciation)
+    res = _solve(forward, E, matrix, name, counter_ion, model, rtol, max_iter, warn and speciation is None)
+    return _free_result(res, model, speciation, warn)
 
 
 def molality_from_emf(
@@ -398,4 +405,5 @@ def molality_from_emf(
         s, _ = free_solution(s, model, speciation)
         return cell.evaluate(s, model, pressures=pressures, warn=False).emf
 
-    return _free_result(_solve(forward, emf, matrix, name, counter_ion, model, rtol, max_iter, warn), model, speciation)
+    res = _solve(forward, emf, matrix, name, counter_ion, model, rtol, max_iter, warn and speciation is None)
+    return _free_result(res, model, speciation, warn)

@@ -7,7 +7,9 @@ model recomputed until self-consistent, for one solution or millions of rows at 
 
 * :func:`speciate` — the entry point (``activity.speciate``); :func:`free_activity` — the
   free activity of one ion, for electrodes in complexing matrices;
-* :class:`SpeciationResult` — what it returns;
+* :class:`SpeciationResult` — what it returns; its ``.solution`` is a
+  :class:`SpeciatedSolution`, which records the ion pairs counted as species (so the
+  Debye–Hückel family does not flag them as uncounted association);
 * :mod:`.network` — reactions as data, stoichiometry, lg K(T);
 * :mod:`.solver` — the batched Newton–Raphson;
 * :mod:`.overlap` — the rule that keeps Pitzer parameter sets from counting pairs twice: a
@@ -23,11 +25,12 @@ from __future__ import annotations
 from .api import free_activity, speciate
 from .metal_buffers import MetalBuffer, free_metal, metal_buffer
 from .network import Network, default_network, water_lg_kw
-from .result import SpeciationResult
+from .result import SpeciatedSolution, SpeciationResult
 
 __all__ = [
     "MetalBuffer",
     "Network",
+    "SpeciatedSolution",
     "SpeciationResult",
     "default_network",
     "free_activity",

@@ -17,7 +17,7 @@ one phthalate and one H⁺). Then one closure per component fixes the system:
 from __future__ import annotations
 
 import warnings
-from collections.abc import Iterable, Mapping
+from collections.abc import Callable, Iterable, Mapping
 from typing import Any
 
 import numpy as np
@@ -30,7 +30,7 @@ from ..solution import Solution
 from ..species import parse_species
 from .network import Network, default_network
 from .overlap import parameter_table, pitzer_skips
-from .result import SpeciationResult
+from .result import SpeciatedSolution, SpeciationResult
 from .solver import System, solve_blocks
 
 __all__ = ["free_activity", "speciate"]
@@ -102,6 +102,7 @@ def speciate(
     exclude: Iterable[str] = (),
     tol: float = 1e-11,
     max_iter: int = 200,
+    progress: Callable[[int], Any] | None = None,
 ) -> SpeciationResult:
     """Speciate a solution (or a batch): free molalities, activities, pH, ionic strength.
 
@@ -136,6 +137,10 @@ def speciate(
     tol : float
         Largest scaled residual of mass, charge and activity equations at convergence.
     max_iter : int
+    progress : callable, optional
+        Called with the number of rows finished as the solver works through a big batch
+        (after each block of rows), e.g. the ``update`` of a progress bar such as
+        :class:`activity.workflows.progress.Progress`; the counts sum to the number of rows.
 
     Returns
     -------
@@ -390,6 +395,15 @@ def speciate(
     # ---- start
     u0 = np.log(np.maximum(totals, 1e-10))
     u0[:, h] = np.log(1e-7) if ph is None else -LN10 * ph_arr
+    if ph is None and bal == 0:
+        # charge balance on H+ takes up the net charge q of what was dissolved: start from
+        # H+ ≈ −q (cations missing) or OH− ≈ q (anions missing) instead of pH 7, so that a
+        # row far from neutral is not approached by many damped steps
+        q_in = np.zeros(N)
+        for i in range(len(sol.species)):
+            q_in += sol.charges[i] * sol.m[i].reshape(N)
+        u0[:, h] = np.where(q_in < -1e-7, np.log(np.maximum(-q_in, 1e-7)), u0[:, h])
+        u0[:, h] = np.where(q_in > 1e-7, np.log(1e-14 / np.maximum(q_in, 1e-7)), u0[:, h])
     for c, sp_i, tgt in zip(act_cols, act_species, act_targets):
         if c != h and c != sp_i:  # a gas: the component value giving its target activity at the start H+
             u0[:, c] = (tgt - lnk[:, sp_i] - nu[sp_i, h] * u0[:, h]) / nu[sp_i, c]
@@ -417,6 +431,7 @@ def speciate(
         u0,
         tol=tol,
         max_iter=max_iter,
+        **({} if progress is None else {"progress": progress}),
     )
     notes.extend(caught)
     if not np.all(out.converged):
@@ -427,10 +442,11 @@ def speciate(
             f"largest scaled residual {float(np.max(out.residual[rows])):.3g})",
             rows=rows,
         )
-    m = np.exp(out.lnm)  # (N, ns)
+    m = getattr(out, "m", None)  # (N, ns), as the solver evaluated it
+    m = np.exp(out.lnm) if m is None else m
     lg = out.lng / LN10
-    final_sol = Solution._from_arrays(
-        species, charges, m.T.reshape((len(species),) + shape), sol.T_compact, sol.P_compact
+    final_sol = SpeciatedSolution.of(
+        species, charges, m.T.reshape((len(species),) + shape), sol.T_compact, sol.P_compact, nu
     )
     coeffs, more = call_with_notes(mdl.activity_coefficients, final_sol)
     notes.extend(n_ for n_ in more if n_ not in notes)

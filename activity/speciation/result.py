@@ -10,9 +10,56 @@ import numpy as np
 
 from .._checks import scalar_or_array
 from ..errors import InputError
+from ..solution import Solution
 from ..species import parse_species
 
-__all__ = ["SpeciationResult"]
+__all__ = ["SpeciatedSolution", "SpeciationResult", "association_pairs"]
+
+
+def association_pairs(species: tuple, charges: np.ndarray, stoichiometry: np.ndarray) -> frozenset:
+    """(cation, anion) pairs of charge magnitude ≥ 2 whose association product is a species.
+
+    ``stoichiometry`` is (n_species, n_components) with the components first. A formed
+    species s holding one cation component c (z ≥ 2) is the pair of c with the species
+    whose stoichiometry is that of s less c, when that one has z ≤ −2: CaSO4⁰ pairs Ca²⁺
+    with SO4²⁻, CaHPO4⁰ pairs Ca²⁺ with HPO4²⁻, CaY²⁻ pairs Ca²⁺ with Y⁴⁻.
+
+    Examples
+    --------
+    >>> nu = np.array([[1.0, 0.0], [0.0, 1.0], [1.0, 1.0]])
+    >>> sorted(association_pairs(("Ca^2+", "SO4^2-", "CaSO4"), np.array([2, -2, 0]), nu))
+    [('Ca^2+', 'SO4^2-')]
+    """
+    nu = np.asarray(stoichiometry, dtype=float)
+    n = nu.shape[1] if nu.ndim == 2 else 0
+    by_row = {tuple(np.round(row, 9)): s for s, row in enumerate(nu)}
+    pairs = set()
+    for s in range(n, len(species)):
+        for c in np.flatnonzero((nu[s] == 1.0) & (np.asarray(charges[:n]) >= 2)):
+            rest = nu[s].copy()
+            rest[c] = 0.0
+            a = by_row.get(tuple(np.round(rest, 9)))
+            if a is not None and a != s and charges[a] <= -2:
+                pairs.add((species[c], species[a]))
+    return frozenset(pairs)
+
+
+class SpeciatedSolution(Solution):
+    """The free species of a speciation as a :class:`~activity.Solution`.
+
+    Unlike a plain composition it records which ion pairs are counted as species
+    (:attr:`explicit_ion_pairs`): a Debye–Hückel-type model, whose parameters assume the
+    pairs are counted, then raises no "2:2 pair (ion association)" alert for them.
+    """
+
+    __slots__ = ("explicit_ion_pairs",)
+
+    @classmethod
+    def of(cls, species, charges, m, T, P, stoichiometry) -> SpeciatedSolution:
+        """Build from checked arrays (``m`` of shape ``(n_species,) + shape``)."""
+        obj = cls._from_arrays(species, charges, m, T, P)
+        obj.explicit_ion_pairs = association_pairs(tuple(species), np.asarray(charges), stoichiometry)
+        return obj
 
 
 @dataclass(frozen=True, eq=False)
@@ -120,11 +167,13 @@ class SpeciationResult:
     def solution(self):
         """The speciated composition as a :class:`~activity.Solution` (free species only).
 
-        Feed this to an electrode or another model to use free-ion activities.
+        Feed this to an electrode or another model to use free-ion activities. It is a
+        :class:`SpeciatedSolution`: the ion pairs counted as species are recorded, so a
+        Debye–Hückel-type model does not flag them as uncounted association.
         """
-        from ..solution import Solution
-
-        return Solution._from_arrays(self.species, self.charges, self.m, np.asarray(self.T), np.asarray(self.P))
+        return SpeciatedSolution.of(
+            self.species, self.charges, self.m, np.asarray(self.T), np.asarray(self.P), self.stoichiometry
+        )
 
     def __repr__(self) -> str:
         if np.ndim(self.ph) == 0:

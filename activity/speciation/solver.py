@@ -1,7 +1,7 @@
 """The batched equilibrium solver: Newton–Raphson on ln of the free component molalities.
 
-Unknowns are u_c = ln m_c of the free components (rows × n). Every species follows from
-them by mass action,
+Unknowns are u_c = ln m_c of the free components. Every species follows from them by mass
+action,
 
     ln m_s = ln β_s(T) + Σ_c ν_sc (u_c + ln γ_c) − ln γ_s,
 
@@ -15,31 +15,49 @@ and each component contributes one equation, chosen by its *closure*:
 * ``activity``: ln m_s + ln γ_s = target for one species s made of the component — a fixed
   pH (s = H⁺) or a fixed gas partial pressure (s = the dissolved gas).
 
-With γ held at its current value the Jacobian is exact: ∂m_s/∂u_c = ν_sc m_s, so the
-mass rows are J_ck = Σ_s ν_sc ν_sk m_s / total_c — one (sparse) matrix product with a
-precomputed (n_species × n²) weight matrix for all rows. The activity coefficients of the
-chosen model are recomputed from the speciated composition (``GAMMA_SWEEPS`` times per
-step), and their dependence on ionic strength enters the Jacobian as a rank-one term
-(∂ln γ/∂I from a relative change ``EPS_I`` of all molalities, exact for models whose γ
-depends on I alone); iteration stops when both the residuals and the change of ln γ are
-below tolerance (the fixed point of γ and speciation). The steps of all rows are solved in
-one batched ``numpy.linalg.solve``; each step is limited to a change of ``MAX_STEP`` in
-ln m and, while a row's residual is above ``NEAR``, backtracked (halved up to
-``BACKTRACKS`` times) where it does not decrease the residual norm. Converged rows drop
-out of the working set; rows are processed in blocks of ``CHUNK`` (bounded memory). Rows
-that do not converge within ``max_iter`` are reported by number; the solver never returns
-an unconverged row as if it were a result.
+With γ held fixed the Jacobian is exact: ∂m_s/∂u_c = ν_sc m_s, so the mass rows are
+S = νᵀ diag(m) ν (scaled by the totals) — one dense product with a precomputed
+(n² × n_species) weight matrix for all rows.
+
+**γ in the loop.** For models whose γ depends on the ionic strength alone (the
+Debye–Hückel family, Davies, ideal), ln I is a further unknown with the equation
+½ Σ z_s² m_s / I = 1; γ is evaluated at that I, so the Newton step treats the coupling
+exactly (∂m_s/∂ln I = m_s I (Σ_c ν_sc G_c − G_s), G = ∂ln γ/∂I by a difference of
+relative size ``EPS_I``) and converges quadratically with one exponential pass per step.
+For other models (Pitzer, plug-ins) γ is recomputed from the speciated composition
+``GAMMA_SWEEPS`` times per step and its dependence on I enters the Jacobian as a rank-one
+term. Either way iteration stops when the residuals are below ``tol`` and the change of
+ln γ below ``gamma_tol`` (the fixed point of γ and speciation).
+
+**The linear step.** Without fixed-activity closures the charge row is a combination of
+the mass rows (z_s = Σ_c ν_sc z_c), so after a change of rows the matrix is the symmetric
+positive definite S; the coupling to I is a border (or rank-one) term. The step then takes
+one Cholesky factorisation over all rows (:func:`~activity.speciation._batched.spd_solve`)
+with two right-hand sides. With fixed activities (pH, gases, metal buffers) the full
+Jacobian is solved by ``numpy.linalg.solve``. Each step is limited to a change of
+``MAX_STEP`` in ln m and, while a row's residual is above ``NEAR``, backtracked (halved up
+to ``BACKTRACKS`` times) where it does not decrease the residual norm.
+
+**Rows.** Arrays are held rows last (species × rows: each operation is a pass over
+contiguous rows); converged rows leave the working set at once; rows are processed in
+blocks of ``CHUNK`` (bounded memory, arrays kept in cache). Rows that do not converge
+within ``max_iter`` are reported by number; the solver never returns an unconverged row
+as if it were a result.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
+from types import SimpleNamespace
 from typing import Any
 
 import numpy as np
 
+from ..coefficients._dh_form import DebyeHuckelForm
+from ..coefficients.ideal import IdealModel
 from ..constants import LN10
 from ..solution import Solution
+from ._batched import SparseCholesky
 
 __all__ = ["CHUNK", "SolveOutput", "System", "solve", "solve_blocks", "start"]
 
@@ -49,26 +67,14 @@ MAX_STEP = 4.0
 NEAR = 1e-3
 #: Step halvings tried when a step does not reduce the residual.
 BACKTRACKS = 8
-#: Updates of γ at fixed free components per Newton step (each shrinks the lag of γ).
+#: Updates of γ at fixed free components per Newton step (models whose γ is not a function of I).
 GAMMA_SWEEPS = 2
-#: Relative change of all molalities used to estimate ∂ln γ/∂I by a difference.
+#: Relative change of I (or of all molalities) used to estimate ∂ln γ/∂I by a difference.
 EPS_I = 1e-4
 #: ln m of a component absent from a row (m ≈ 1e-300 mol/kg).
 LN_ABSENT = -690.0
-
-
-class _RightSparse:
-    """A sparse matrix S applied from the right, ``X @ S`` = (Sᵀ Xᵀ)ᵀ, with Sᵀ stored once
-    (scipy would build the transpose on every product)."""
-
-    __slots__ = ("ST",)
-    __array_ufunc__ = None  # makes ndarray @ self defer to __rmatmul__
-
-    def __init__(self, ST):
-        self.ST = ST
-
-    def __rmatmul__(self, X: np.ndarray) -> np.ndarray:
-        return (self.ST @ X.T).T
+#: With γ a function of I (quadratic convergence) rows stop at this fraction of ``tol``.
+TIGHTEN = 1e-2
 
 
 @dataclass(frozen=True, eq=False)
@@ -93,19 +99,31 @@ class System:
         return self.nu.shape[1]
 
     def __post_init__(self):
-        nu = self.nu
+        nu = np.ascontiguousarray(self.nu, dtype=float)
         n = nu.shape[1]
-        object.__setattr__(self, "nuT", np.ascontiguousarray(nu.T))
-        object.__setattr__(self, "W", np.einsum("sj,sk->sjk", nu, nu).reshape(len(nu), n * n))
-        object.__setattr__(self, "zn", self.charges[:, None] * nu)
-        object.__setattr__(self, "absz", np.abs(self.charges).astype(float))
-        object.__setattr__(self, "z2", self.charges.astype(float) ** 2)
-        # ν is sparse (a species holds 1-3 components): sparse products beat dense BLAS on
-        # these thin matrices by a factor of about 2-4
+        z = self.charges.astype(float)
+        put = object.__setattr__
+        put(self, "nuT", np.ascontiguousarray(nu.T))
+        # rows of νᵀ diag(m) ν as one (n², n_species) matrix: S = (W2 @ m).reshape(n, n, rows)
+        put(self, "W2", np.ascontiguousarray(np.einsum("sj,sk->jks", nu, nu).reshape(n * n, len(nu))))
+        put(self, "zf", z)
+        put(self, "z2", z * z)
+        put(self, "h2T", np.ascontiguousarray((0.5 * (z * z)[:, None] * nu).T))  # ∂I/∂u = h2T @ m
+        # the charge row is a combination of the mass rows when every species' charge is the
+        # sum of its components' charges (true of balanced reactions)
+        put(self, "zc", z[:n].copy())
+        put(self, "charge_from_mass", bool(np.allclose(nu @ z[:n], z, atol=1e-12)))
+        # S = νᵀ diag(m) ν has the pattern of components sharing a species; its Cholesky
+        # factorisation is planned once, S is formed packed (entry p = S[pairs[p]])
+        chol = SparseCholesky(np.abs(nu).T @ np.abs(nu) > 0)
+        put(self, "chol", chol)
         from scipy import sparse
 
-        for name in ("nu", "nuT", "W", "zn"):
-            object.__setattr__(self, "sp_" + name, _RightSparse(sparse.csr_matrix(getattr(self, name).T)))
+        Wp = np.array([nu[:, a] * nu[:, b] for a, b in chol.pairs])
+        put(self, "Wp", sparse.csr_matrix(Wp))
+        put(self, "diag_slot", {a: p for p, (a, b) in enumerate(chol.pairs) if a == b})
+        off = {c: [p for p, (a, b) in enumerate(chol.pairs) if a != b and c in (a, b)] for c in range(n)}
+        put(self, "off_slots", off)
 
 
 @dataclass
@@ -117,67 +135,169 @@ class SolveOutput:
     converged: np.ndarray  # (N,)
     iterations: np.ndarray  # (N,)
     residual: np.ndarray  # (N,) largest scaled residual
+    m: np.ndarray | None = None  # (N, n_species) exp(lnm), as evaluated at the last iterate
+    parked: np.ndarray | None = None  # rows left unfinished on purpose (``park``)
+    u_parked: np.ndarray | None = None  # (len(parked), n) their free components
 
 
-def _lng(model: Any, system: System, m: np.ndarray, T: np.ndarray, P: np.ndarray) -> np.ndarray:
-    sol = Solution._from_arrays(system.species, system.charges, m.T, T, P)
-    return LN10 * np.asarray(model.log10_gamma(sol)).reshape(len(system.species), -1).T
+def ionic_strength_only(model: Any) -> bool:
+    """True for models whose γ is a function of I, T and P alone (our Debye–Hückel family, ideal)."""
+    cls = type(model)
+    if isinstance(model, IdealModel):
+        return cls.compute_log10_gamma is IdealModel.compute_log10_gamma
+    return isinstance(model, DebyeHuckelForm) and cls.compute_log10_gamma is DebyeHuckelForm.compute_log10_gamma
 
 
-def _species_lnm(system: System, lnk: np.ndarray, u: np.ndarray, lng: np.ndarray) -> np.ndarray:
-    return lnk + (u + lng[:, : system.n]) @ system.sp_nuT - lng
+class _Gamma:
+    """ln γ of one model for one species set.
+
+    For a model of I alone the species are grouped by their γ(I) (probed once: species
+    with the same parameters, under Davies those of the same charge, share one group), so
+    each evaluation computes ln γ for the groups only (``Gr``, groups × rows), and ln m
+    follows from one product with [ν | M], M_sj = Σ_c ν_sc [c in group j] − [s in group j].
+    """
+
+    #: Ionic strengths (mol/kg) and temperatures (K) at which the groups are probed.
+    PROBE_I = np.array([1e-5, 1e-3, 0.03, 0.3, 1.5])
+    PROBE_T = np.array([283.15, 298.15, 313.15, 333.15, 353.15])
+
+    def __init__(self, model: Any, system: System):
+        self.model = model
+        self.system = system
+        self.by_I = ionic_strength_only(model)
+        if self.by_I:
+            self._group()
+
+    def _proxy(self, species, charges, T, P):
+        return SimpleNamespace(species=species, charges=charges, T_compact=T, P_compact=P)
+
+    def _group(self) -> None:
+        sy, model = self.system, self.model
+        full = model.bind(sy.species, sy.charges)
+        probe = np.asarray(model.compute_log10_gamma(self._proxy(sy.species, sy.charges, self.PROBE_T, 101325.0), full,
+                                                     self.PROBE_I))
+        ids: dict[bytes, int] = {}
+        grp = np.array([ids.setdefault(row.tobytes(), len(ids)) for row in probe], dtype=int)
+        reps = np.array([int(np.flatnonzero(grp == j)[0]) for j in range(len(ids))], dtype=int)
+        species = tuple(sy.species[i] for i in reps)
+        charges = sy.charges[reps]
+        bound = model.bind(species, charges)
+        check = model.compute_log10_gamma(self._proxy(species, charges, self.PROBE_T, 101325.0), bound, self.PROBE_I)
+        if not np.array_equal(np.asarray(check), probe[reps]):  # γ of a species depends on the others
+            grp, reps = np.arange(len(sy.species)), np.arange(len(sy.species))
+            species, charges, bound = sy.species, sy.charges, full
+        self.grp, self.species, self.charges, self.bound = grp, species, charges, bound
+        E = np.zeros((len(sy.species), len(reps)))
+        E[np.arange(len(sy.species)), grp] = 1.0
+        M = sy.nu @ E[: sy.n] - E
+        self.numM = np.ascontiguousarray(np.hstack([sy.nu, M]))  # ln m = lnk + [ν | M] @ [u; Gr]
+        self.grp_c = grp[: sy.n]
+
+    def of_I(self, I: np.ndarray, T: Any, P: Any) -> np.ndarray:
+        """ln γ of the groups at ionic strength I (rows,), (groups, rows)."""
+        out = self.model.compute_log10_gamma(self._proxy(self.species, self.charges, T, P), self.bound, I)
+        out *= LN10
+        return out
+
+    def lnm_of_I(self, lnk: np.ndarray, u: np.ndarray, Gr: np.ndarray) -> np.ndarray:
+        out = self.numM @ np.vstack([u, Gr])
+        out += lnk
+        return out
+
+    def of_m(self, m: np.ndarray, T: Any, P: Any) -> np.ndarray:
+        """ln γ of the composition m (n_species, rows), any model."""
+        sol = Solution._from_arrays(self.system.species, self.system.charges, m, T, P)
+        return LN10 * np.asarray(self.model.log10_gamma(sol)).reshape(m.shape)
 
 
-def _residual(system, m, lna, u, totals, scale, kinds, charge_col, act_cols, act_species, targets, want_j=True):
-    """Scaled residuals (N, n) and, if asked, the Jacobian (N, n, n)."""
+def _lnm(system: System, lnk: np.ndarray, u: np.ndarray, g: np.ndarray) -> np.ndarray:
+    """ln m (n_species, rows) from free components u (n, rows) and ln γ g (n_species, rows)."""
     n = system.n
-    calc = m @ system.sp_nu
-    res = (calc - totals) / scale
-    J = (m @ system.sp_W).reshape(-1, n, n) / scale[:, :, None] if want_j else None
-    if charge_col is not None:
-        s = scale[:, charge_col]
-        res[:, charge_col] = (m @ system.charges.astype(float)) / s
-        if want_j:
-            J[:, charge_col, :] = (m @ system.sp_zn) / s[:, None]
-    for col, sp, tgt in zip(act_cols, act_species, targets):
-        res[:, col] = lna[:, sp] - tgt
-        if want_j:
-            J[:, col, :] = system.nu[sp]
-    pinned = kinds & (totals <= 0)
-    if np.any(pinned):
-        rr, cc = np.nonzero(pinned)
-        res[rr, cc] = u[rr, cc] - LN_ABSENT
-        if want_j:
-            J[rr, cc, :] = 0.0
-            J[rr, cc, cc] = 1.0
-    return res, J
+    out = system.nu @ (u + g[:n])
+    out += lnk
+    out -= g
+    return out
+
+
+def _exp(lnm: np.ndarray) -> np.ndarray:
+    out = np.minimum(lnm, 230.0)
+    return np.exp(out, out=out)
 
 
 def start(
-    system: System, lnk: np.ndarray, totals: np.ndarray, cols: np.ndarray, u0: np.ndarray, sweeps: int = 6
+    system: System,
+    lnk: np.ndarray,
+    totals: np.ndarray,
+    cols: np.ndarray,
+    u0: np.ndarray,
+    sweeps: int = 4,
 ) -> np.ndarray:
     """A starting point: rescale each free component so its computed total matches the given one.
 
     Successive substitution at fixed H⁺ and γ = 1 (all ``cols`` at once, ``sweeps``
     times): u_c ← u_c + ½ ln(total_c / computed_c) / max_s ν_sc. Keeps the first Newton
     steps away from the huge overshoots a start at "free = total" gives when most of a
-    component is bound (phosphate at pH 7, calcium in EDTA).
+    component is bound (phosphate at pH 7, calcium in EDTA). Arrays rows first:
+    ``lnk`` (N, n_species), ``totals`` and ``u0`` (N, n); returns (N, n).
     """
     u = np.array(u0, dtype=float)
     if not np.any(cols):
         return u
     cidx = np.flatnonzero(cols)
-    numax = np.maximum(np.max(system.nu[:, cidx], axis=0), 1.0)
-    zero = np.zeros_like(lnk)
+    numax = np.maximum(np.max(system.nu[:, cidx], axis=0), 1.0)[:, None]
+    # single precision is plenty for a starting point and halves the cost of the sweeps
+    # (ln m kept within ±80, where float32 exp neither overflows nor loses the molality)
+    f4 = np.float32
+    uT = np.ascontiguousarray(u.T)
+    lkT = np.ascontiguousarray(lnk.T, dtype=f4)
+    tot = np.ascontiguousarray(totals[:, cidx].T)
+    ok = tot > 0
+    log_tot = np.log(np.where(ok, np.maximum(tot, 1e-30), 1.0)).astype(f4)
+    nu4 = system.nu.astype(f4)
+    nuT_c = np.ascontiguousarray(system.nuT[cidx], dtype=f4)
+    half = (np.where(ok, 0.5, 0.0) / numax).astype(f4)  # damped: coupled pairs (Ca with EDTA) oscillate otherwise
+    m = np.empty_like(lkT)
     for _ in range(sweeps):
-        lnm = _species_lnm(system, lnk, u, zero)
-        m = np.exp(np.clip(lnm, -700.0, 230.0))
-        calc = m @ system.nu[:, cidx]
-        tot = totals[:, cidx]
-        ok = tot > 0
-        ratio = np.where(ok, np.log(np.where(ok, tot, 1.0) / np.maximum(calc, 1e-300)), 0.0)
-        u[:, cidx] += 0.5 * ratio / numax  # damped: coupled pairs (Ca with EDTA) oscillate otherwise
-    return u
+        np.matmul(nu4, uT.astype(f4), out=m)
+        m += lkT
+        np.clip(m, -80.0, 80.0, out=m)
+        np.exp(m, out=m)
+        calc = nuT_c @ m
+        np.maximum(calc, 1e-34, out=calc)
+        np.log(calc, out=calc)
+        np.subtract(log_tot, calc, out=calc)
+        calc *= half
+        uT[cidx] += calc
+    return uT.T.copy()
+
+
+class _Rows(SimpleNamespace):
+    """Arrays of the working set, rows last; ``keep`` selects rows (scalars stay)."""
+
+    def keep(self, sel: np.ndarray) -> None:
+        for name, a in list(self.__dict__.items()):
+            if isinstance(a, np.ndarray) and a.ndim:
+                self.__dict__[name] = a[..., sel]
+
+    def subset(self, sel: np.ndarray) -> _Rows:
+        out = _Rows(**self.__dict__)
+        out.keep(sel)
+        return out
+
+
+@dataclass
+class _Problem:
+    """What every row of one solve shares."""
+
+    system: System
+    gam: _Gamma
+    by_I: bool
+    coupled: bool
+    charge_col: int | None
+    act_cols: list
+    act_species: list
+    any_pin: bool
+    tol: float
 
 
 def solve(
@@ -199,8 +319,9 @@ def solve(
     gamma_tol: float = 1e-10,
     max_iter: int = 200,
     coupled: bool = True,
+    park: int = 0,
 ) -> SolveOutput:
-    """Solve all rows; arrays are rows first.
+    """Solve all rows; arrays in and out are rows first.
 
     Parameters
     ----------
@@ -212,125 +333,369 @@ def solve(
         (pinned at a negligible molality where their total is 0).
     charge_col : index of the component closed by charge balance, or None.
     act_cols, act_species, act_targets : components closed by a fixed activity: the species
-        whose ln a is fixed and the target ln a per row (N,) (ln γ-dependent targets are not
-        needed: the residual uses ln m + ln γ).
+        whose ln a is fixed and the target ln a per row (N,).
     T, P : (N,) or scalar arrays.
     u0 : (N, n) starting ln m of the components.
+    coupled : bool
+        Let the Newton step see how γ follows I (the border or rank-one term); without it
+        γ lags one step behind (slower, same answer).
+    park : int
+        Once no more than this many rows are left (after the third step), stop and return
+        them unfinished (``parked``, with their ``u_parked``), so that the slow rows of many
+        blocks can be finished together (:func:`solve_blocks`); 0: finish every row.
     """
     N, n = totals.shape
     ns = len(system.species)
-    u = np.array(u0, dtype=float)
-    lng = np.zeros((N, ns))
-    lnm_out = np.empty((N, ns))
+    gam = _Gamma(model, system)
+    by_I = gam.by_I and coupled
+    lnkT = np.ascontiguousarray(lnk.T)
+    st = _Rows(
+        idx=np.arange(N),
+        u=np.ascontiguousarray(np.asarray(u0, dtype=float).T),
+        lk=lnkT,
+        tot=np.ascontiguousarray(totals.T),
+        sc=np.ascontiguousarray(scale.T),
+        pin=np.ascontiguousarray((pin_cols[None, :] & (totals <= 0)).T),
+        tg=np.array([np.broadcast_to(t, (N,)) for t in act_targets]).reshape(len(act_targets), N),
+        T=np.broadcast_to(T, (N,)) if np.ndim(T) else T,
+        P=np.broadcast_to(P, (N,)) if np.ndim(P) else P,
+        met=np.zeros(N, dtype=bool),
+    )
+    if by_I:  # ln I at the start: from γ = 1
+        st.w = np.log(np.maximum(0.5 * (system.z2 @ _exp(lnkT + system.nu @ st.u)), 1e-12))
+    else:
+        st.g = np.zeros((ns, N))
+    pb = _Problem(system, gam, by_I, coupled, charge_col, list(act_cols), list(act_species),
+                  bool(np.any(st.pin)), tol)
+    structured = system.charge_from_mass and not act_cols
+    # quadratic convergence: a hundredfold below tol costs a fraction of a step on average
+    # and keeps the charge-balanced H⁺ (whose residual is scaled by all the charge put in)
+    # well inside 1e-10 relative; a row at tol that does not get there takes one more step
+    tol_in = tol * TIGHTEN if by_I else tol
+    lnm_out = np.empty((ns, N))
+    lng_out = np.zeros((ns, N))
+    m_out = np.empty((ns, N))
     converged = np.zeros(N, dtype=bool)
     iterations = np.zeros(N, dtype=int)
     resid = np.full(N, np.inf)
-    act = np.arange(N)
-    T_rows = np.broadcast_to(T, (N,)) if np.ndim(T) else T
-    P_rows = np.broadcast_to(P, (N,)) if np.ndim(P) else P
-    kinds = np.broadcast_to(pin_cols, (N, n))
-    targets_all = [np.broadcast_to(t, (N,)) for t in act_targets]
+    cache = None
     for it in range(1, max_iter + 1):
-        ua, ga = u[act], lng[act]
-        lk, tot, kd, sc = lnk[act], totals[act], kinds[act], scale[act]
-        tg = [t[act] for t in targets_all]
-        Ta = T_rows[act] if np.ndim(T_rows) else T_rows
-        Pa = P_rows[act] if np.ndim(P_rows) else P_rows
-        lnm = _species_lnm(system, lk, ua, ga)
-        m = np.exp(np.minimum(lnm, 230.0))
-        g_new = ga
-        for _ in range(GAMMA_SWEEPS):
-            g_prev, g_new = g_new, _lng(model, system, m, Ta, Pa)
-            lnm = _species_lnm(system, lk, ua, g_new)
-            m = np.exp(np.minimum(lnm, 230.0))
-        dg = np.max(np.abs(g_new - g_prev), axis=1)
-        res, J = _residual(system, m, lnm + g_new, ua, tot, sc, kd, charge_col, act_cols, act_species, tg)
-        err = np.max(np.abs(res), axis=1)
-        lng[act] = g_new
-        iterations[act] = it
-        resid[act] = err
-        done = (err < tol) & (dg < gamma_tol)
+        ev = _evaluate(pb, st, cache)
+        _terms(pb, st, ev)
+        res = ev.res
+        err = np.max(np.abs(res), axis=0)
+        iterations[st.idx] = it
+        resid[st.idx] = err
+        near = (err < tol) & (ev.dg < gamma_tol)
+        done = near & ((err < tol_in) | st.met)
         if np.any(done):
-            idx = act[done]
-            converged[idx] = True
-            lnm_out[idx] = lnm[done]
-        keep = ~done
-        if not np.any(keep):
-            act = act[:0]
-            break
-        act, ua, g_new, res, J = act[keep], ua[keep], g_new[keep], res[keep], J[keep]
-        lk, tot, kd, sc = lk[keep], tot[keep], kd[keep], sc[keep]
-        tg = [t[keep] for t in tg]
-        if coupled:
-            # ln γ follows I: add ∂ln γ/∂I · ∂I/∂u to the Jacobian (a rank-one term per row)
-            m_k = m[keep]
-            Ta_k = Ta[keep] if np.ndim(Ta) else Ta
-            Pa_k = Pa[keep] if np.ndim(Pa) else Pa
-            I = 0.5 * (m_k @ system.z2)
-            g_eps = _lng(model, system, m_k * (1.0 + EPS_I), Ta_k, Pa_k)
-            G = (g_eps - g_new) / np.maximum(EPS_I * I, 1e-300)[:, None]
-            D = G[:, :n] @ system.sp_nuT - G
-            dI = (0.5 * m_k * system.z2) @ system.sp_nu
-            mD = m_k * D
-            a = (mD @ system.sp_nu) / sc
-            if charge_col is not None:
-                a[:, charge_col] = (mD @ system.charges.astype(float)) / sc[:, charge_col]
-            for col, sp in zip(act_cols, act_species):
-                a[:, col] = G[:, :n] @ system.nu[sp]
-            pinned = kd & (tot <= 0)
-            a[pinned] = 0.0
-            J += a[:, :, None] * dI[:, None, :]
-        bad = ~np.all(np.isfinite(J), axis=(1, 2)) | ~np.all(np.isfinite(res), axis=1)
-        J[bad] = np.eye(n)
-        res[bad] = 0.0
-        try:
-            step = np.linalg.solve(J, -res[:, :, None])[:, :, 0]
-        except np.linalg.LinAlgError:
-            ridge = 1e-12 * np.maximum(np.abs(np.diagonal(J, axis1=1, axis2=2)), 1e-300)
-            step = np.linalg.solve(J + ridge[:, :, None] * np.eye(n), -res[:, :, None])[:, :, 0]
+            di = st.idx[done]
+            converged[di] = True
+            lnm_out[:, di], lng_out[:, di] = _final(pb, st, ev, done)
+            m_out[:, di] = ev.m[:, done]
+            keep = np.flatnonzero(~done)
+            if not keep.size:
+                st.idx = st.idx[:0]
+                break
+            st.keep(keep)
+            ev.keep(keep)
+            err, near = err[keep], near[keep]
+            res = ev.res
+        st.met = near
+        if park and it >= 3 and st.idx.size <= park:
+            left = st.idx.copy(), st.u.T.copy()
+            return SolveOutput(lnm_out.T, lng_out.T, converged, iterations, resid, m_out.T, *left)
+        if not by_I:
+            st.g = ev.g
+        if structured:
+            step, ok = _step_spd(pb, st, ev)
+            if not np.all(ok):
+                bad = np.flatnonzero(~ok)
+                step[:, bad] = _step_general(pb, st.subset(bad), ev.subset(bad))
+        else:
+            step = _step_general(pb, st, ev)
         step = np.where(np.isfinite(step), step, 0.0)
-        big = np.max(np.abs(step), axis=1)
+        big = np.max(np.abs(step), axis=0)
         lam = np.minimum(1.0, MAX_STEP / np.maximum(big, 1e-300))
-        trial = ua + lam[:, None] * step
-        # backtracking only away from the solution; where every scaled residual is already
-        # below NEAR the step is taken whole (the quadratic regime of Newton's method, where
-        # checking would cost an extra pass)
-        far = np.flatnonzero(err[keep] > NEAR)
-        if far.size:
-            f0 = np.sum(res[far] ** 2, axis=1)
-            lam_f, step_f, u_f, g_f = lam[far], step[far], ua[far], g_new[far]
-            lk_f, tot_f, sc_f, kd_f = lk[far], tot[far], sc[far], kd[far]
-            tg_f = [t[far] for t in tg]
-            trial_f = trial[far]
-            for _ in range(BACKTRACKS):
-                lnm_t = _species_lnm(system, lk_f, trial_f, g_f)
-                m_t = np.exp(np.minimum(lnm_t, 230.0))
-                r_t, _ = _residual(
-                    system,
-                    m_t,
-                    lnm_t + g_f,
-                    trial_f,
-                    tot_f,
-                    sc_f,
-                    kd_f,
-                    charge_col,
-                    act_cols,
-                    act_species,
-                    tg_f,
-                    want_j=False,
-                )
-                f1 = np.sum(r_t * r_t, axis=1)
-                worse = ~(f1 <= f0 * (1.0 - 1e-4 * lam_f)) & (f0 > tol * tol)
-                if not np.any(worse):
-                    break
-                lam_f = np.where(worse, lam_f * 0.5, lam_f)
-                trial_f = np.where(worse[:, None], u_f + lam_f[:, None] * step_f, trial_f)
-            trial[far] = trial_f
-        u[act] = trial
-    if act.size:
-        lnm_out[act] = _species_lnm(system, lnk[act], u[act], lng[act])
-    return SolveOutput(lnm_out, lng, converged, iterations, resid)
+        trial = (np.vstack([st.u, st.w[None]]) if by_I else st.u) + lam * step
+        # backtracking: for models of I alone on every row (the trial evaluation is the next
+        # iterate's, so checking costs nothing); otherwise only away from the solution (rows
+        # whose scaled residuals are all below NEAR take the Newton step whole)
+        far = np.arange(err.size) if by_I else np.flatnonzero(err > NEAR)
+        cache = _backtrack(pb, st, far, res, lam, step, trial) if far.size else None
+        st.u = trial[:n]
+        if by_I:
+            st.w = trial[n]
+    if st.idx.size:
+        ev = _evaluate(pb, st, None)
+        lnm_out[:, st.idx], lng_out[:, st.idx] = _final(pb, st, ev, np.ones(st.idx.size, dtype=bool))
+        m_out[:, st.idx] = np.exp(lnm_out[:, st.idx])
+    return SolveOutput(lnm_out.T, lng_out.T, converged, iterations, resid, m_out.T)
 
+
+def _final(pb: _Problem, st: _Rows, ev: _Eval, sel: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """ln m and ln γ (n_species, rows) of the rows ``sel`` (a mask)."""
+    if pb.by_I:
+        Gr = ev.Gr[:, sel]
+        return pb.gam.lnm_of_I(st.lk[:, sel], st.u[:, sel], Gr), Gr[pb.gam.grp]
+    return ev.lnm[:, sel], ev.g[:, sel]
+
+
+def _backtrack(pb: _Problem, st: _Rows, far, res, lam, step, trial) -> _Eval | None:
+    """Halve the steps of the rows ``far`` (columns of ``trial``, changed in place) while
+    the residual norm does not decrease, up to ``BACKTRACKS`` times; only the rows still
+    failing are evaluated again. For models of I alone (``far`` is then every row) returns
+    the evaluations at the accepted points, the next iterate's (rows not accepted are
+    marked in ``have``); otherwise None."""
+    n = pb.system.n
+    rows = st.idx.size
+    full = far.size == rows
+    sub = _Rows(**st.__dict__) if full else st.subset(far)
+    sub.sweep = False  # γ held where it is (other models)
+    f0 = np.sum(res[:, far] ** 2, axis=0) if not full else np.sum(res * res, axis=0)
+    lam_f, step_f = (lam.copy(), step) if full else (lam[far], step[:, far])
+    trial_f = trial if full else trial[:, far]
+    base_f = trial_f - lam_f * step_f
+    pend = np.arange(far.size)  # rows of ``far`` still on trial
+    cache = None
+    for r in range(BACKTRACKS):
+        if r:
+            sub.u = trial_f[:n, pend]
+            if pb.by_I:
+                sub.w = trial_f[n, pend]
+        else:
+            sub.u = trial_f[:n].copy() if full else trial_f[:n]
+            if pb.by_I:
+                sub.w = trial_f[n].copy() if full else trial_f[n]
+        ev = _evaluate(pb, sub, None)
+        f1 = np.sum(ev.res * ev.res, axis=0)
+        lp = lam_f[pend]
+        worse = ~(f1 <= f0[pend] * (1.0 - 1e-4 * lp)) & (f0[pend] > pb.tol * pb.tol)
+        if pb.by_I and full:
+            if r == 0:
+                cache = ev
+                cache.have = ~worse
+            else:
+                ok = np.flatnonzero(~worse)
+                cols = pend[ok]
+                cache.have[cols] = True
+                for name in ("res", "Gr", "m", "I", "Ic"):
+                    getattr(cache, name)[..., cols] = getattr(ev, name)[..., ok]
+        if not np.any(worse):
+            break
+        pend = pend[worse]
+        sub.keep(np.flatnonzero(worse))
+        lam_f[pend] *= 0.5
+        trial_f[:, pend] = base_f[:, pend] + lam_f[pend] * step_f[:, pend]
+    if not full:
+        trial[:, far] = trial_f
+    return cache
+
+
+class _Eval(_Rows):
+    """Species, γ and residuals at one point of the working set (rows last)."""
+
+
+def _evaluate(pb: _Problem, st: _Rows, cache: _Eval | None) -> _Eval:
+    """Species, γ and scaled residuals (k, rows) at the working set's unknowns.
+
+    With a ``cache`` (models of I alone) the rows it has are taken from it and only the
+    others are evaluated. For other models γ is updated ``GAMMA_SWEEPS`` times at fixed u
+    (its change is ``dg``).
+    """
+    if cache is not None and np.any(cache.have):
+        todo = np.flatnonzero(~cache.have)
+        if todo.size:
+            ev = _evaluate(pb, st.subset(todo), None)
+            for name in ("res", "Gr", "m", "I", "Ic"):
+                getattr(cache, name)[..., todo] = getattr(ev, name)
+        del cache.have
+        return cache
+    system = pb.system
+    n = system.n
+    ev = _Eval()
+    if pb.by_I:
+        I = np.exp(st.w)
+        Gr = pb.gam.of_I(I, st.T, st.P)
+        m = _exp(pb.gam.lnm_of_I(st.lk, st.u, Gr))
+        ev.I, ev.Gr = I, Gr
+        ev.Ic = 0.5 * (system.z2 @ m)
+    else:
+        g = st.g
+        lnm = _lnm(system, st.lk, st.u, g)
+        m = _exp(lnm)
+        g_prev = g
+        if getattr(st, "sweep", True):
+            for _ in range(GAMMA_SWEEPS):
+                g_prev, g = g, pb.gam.of_m(m, st.T, st.P)
+                lnm = _lnm(system, st.lk, st.u, g)
+                m = _exp(lnm)
+        ev.dg = np.max(np.abs(g - g_prev), axis=0)
+        ev.lnm, ev.g = lnm, g
+    res = np.empty((n + 1 if pb.by_I else n, m.shape[1]))
+    np.matmul(system.nuT, m, out=res[:n])
+    res[:n] -= st.tot
+    res[:n] /= st.sc
+    if pb.charge_col is not None:
+        res[pb.charge_col] = (system.zf @ m) / st.sc[pb.charge_col]
+    for col, sp, tgt in zip(pb.act_cols, pb.act_species, st.tg):
+        res[col] = _lna(pb, st, ev, sp) - tgt
+    if pb.any_pin:
+        for c in np.flatnonzero(np.any(st.pin, axis=1)):
+            p = st.pin[c]
+            res[c, p] = st.u[c, p] - LN_ABSENT
+    if pb.by_I:
+        res[n] = ev.Ic / ev.I - 1.0
+    ev.res, ev.m = res, m
+    return ev
+
+
+def _lna(pb: _Problem, st: _Rows, ev: _Eval, sp: int) -> np.ndarray:
+    """ln a of species ``sp``: ln β + Σ_c ν (u_c + ln γ_c)."""
+    nu = pb.system.nu[sp]
+    g_c = ev.Gr[pb.gam.grp_c] if pb.by_I else ev.g[: pb.system.n]
+    return st.lk[sp] + nu @ (st.u + g_c)
+
+
+def _terms(pb: _Problem, st: _Rows, ev: _Eval) -> None:
+    """Models of I alone: ∂ln γ/∂I of the groups (``dGr``) and the change of ln γ were I
+    moved to the computed one (``dg``)."""
+    if not pb.by_I:
+        return
+    dGr = pb.gam.of_I(ev.I * (1.0 + EPS_I), st.T, st.P)
+    dGr -= ev.Gr
+    dGr /= EPS_I * ev.I
+    ev.dGr = dGr
+    ev.dg = np.max(np.abs(dGr), axis=0) * np.abs(ev.Ic - ev.I)
+
+
+def _coupling(pb: _Problem, st: _Rows, ev: _Eval):
+    """The γ terms: ∂ln γ_c/∂I of the components (n, rows), D = ∂ln m/∂I (n_species,
+    rows) and dI = ∂I/∂u (n, rows)."""
+    system = pb.system
+    n = system.n
+    m = ev.m
+    if pb.by_I:
+        Gc = ev.dGr[pb.gam.grp_c]
+        D = pb.gam.numM[:, n:] @ ev.dGr
+    else:
+        I = 0.5 * (system.z2 @ m)
+        G = pb.gam.of_m(m * (1.0 + EPS_I), st.T, st.P)
+        G -= ev.g
+        G /= np.maximum(EPS_I * I, 1e-300)
+        Gc = G[:n]
+        D = system.nu @ Gc
+        D -= G
+    dI = system.h2T @ m
+    return Gc, D, dI
+
+
+def _step_spd(pb: _Problem, st: _Rows, ev: _Eval):
+    """Newton step for mass and charge closures: sparse Cholesky of S = νᵀ diag(m) ν (rows last)."""
+    system = pb.system
+    n = system.n
+    m = ev.m
+    rows = m.shape[1]
+    A = system.Wp @ m  # packed S
+    Y = np.empty((2, n, rows))
+    np.multiply(ev.res[:n], st.sc, out=Y[0])  # unscaled residuals
+    if pb.coupled:
+        _, D, dI = _coupling(pb, st, ev)
+        mD = m * D
+        np.matmul(system.nuT, mD, out=Y[1])
+    else:
+        Y[1] = 0.0
+    pins = [(c, st.pin[c]) for c in np.flatnonzero(np.any(st.pin, axis=1))] if pb.any_pin else []
+    for c, p in pins:  # an absent component's mass row is ≈ 0 (its species have m ≈ 0)
+        Y[:, c, p] = 0.0
+    q = pb.charge_col
+    if q is not None:
+        # the charge row is Σ_c z_c (mass row c): take the other mass rows out of it
+        zc = system.zc
+        Q = ev.res[q] * st.sc[q]  # Σ z m (unscaled)
+        Y[0, q] = (Q - (zc @ Y[0] - zc[q] * Y[0, q])) / zc[q]
+        if pb.coupled:
+            Y[1, q] = (system.zf @ mD - (zc @ Y[1] - zc[q] * Y[1, q])) / zc[q]
+    for c, p in pins:  # pinned: row and column of the identity, u_c → LN_ABSENT
+        for slot in system.off_slots[c]:
+            A[slot, p] = 0.0
+        A[system.diag_slot[c], p] = 1.0
+        Y[0, c, p] = st.u[c, p] - LN_ABSENT
+        if pb.coupled:
+            dI[c, p] = 0.0
+    X, ok = system.chol.solve(A, Y)
+    x0, x1 = X[0], X[1]
+    if pb.by_I:
+        # border: S δ + a ε = −y, (dI/I)·δ + c ε = −r_I with ε the change of ln I
+        I = ev.I
+        x1 *= I
+        b = dI / I
+        c = 0.5 * (system.z2 @ mD) - ev.Ic / I
+        eps = (np.einsum("kn,kn->n", b, x0) - ev.res[n]) / (c - np.einsum("kn,kn->n", b, x1))
+        step = np.empty((n + 1, rows))
+        np.multiply(x1, eps, out=step[:n])
+        step[:n] += x0
+        np.negative(step[:n], out=step[:n])
+        step[n] = eps
+    elif pb.coupled:
+        # rank one (Sherman–Morrison): S δ + a (dI·δ) = −y
+        t = -np.einsum("kn,kn->n", dI, x0) / (1.0 + np.einsum("kn,kn->n", dI, x1))
+        step = -(x0 + x1 * t)
+    else:
+        step = -x0
+    return step, ok & np.all(np.isfinite(step), axis=0)
+
+
+def _step_general(pb: _Problem, st: _Rows, ev: _Eval) -> np.ndarray:
+    """Newton step from the full Jacobian (any closures), ``numpy.linalg.solve`` per row."""
+    system = pb.system
+    n = system.n
+    m = ev.m
+    rows = m.shape[1]
+    k = n + 1 if pb.by_I else n
+    J = np.zeros((k, k, rows))
+    J[:n, :n] = (system.W2 @ m).reshape(n, n, rows) / st.sc[:, None, :]
+    if pb.charge_col is not None:
+        J[pb.charge_col, :n] = (system.zf * system.nu.T) @ m / st.sc[pb.charge_col]
+    for col, sp in zip(pb.act_cols, pb.act_species):
+        J[col, :n] = system.nu[sp][:, None]
+    if pb.coupled:
+        Gc, D, dI = _coupling(pb, st, ev)
+        mD = m * D
+        a = (system.nuT @ mD) / st.sc
+        if pb.charge_col is not None:
+            a[pb.charge_col] = (system.zf @ mD) / st.sc[pb.charge_col]
+        for col, sp in zip(pb.act_cols, pb.act_species):
+            a[col] = system.nu[sp] @ Gc
+        a[st.pin] = 0.0
+        if pb.by_I:
+            I = ev.I
+            J[:n, n] = a * I
+            J[n, :n] = dI / I
+            J[n, n] = 0.5 * (system.z2 @ mD) - ev.Ic / I
+        else:
+            J[:n, :n] += a[:, None, :] * dI[None, :, :]
+    for c in np.flatnonzero(np.any(st.pin, axis=1)):
+        p = st.pin[c]
+        J[c][:, p] = 0.0
+        J[c, c, p] = 1.0
+    Jr = np.ascontiguousarray(J.transpose(2, 0, 1))
+    res = ev.res.T.copy()
+    bad = ~np.all(np.isfinite(Jr), axis=(1, 2)) | ~np.all(np.isfinite(res), axis=1)
+    Jr[bad] = np.eye(k)
+    res[bad] = 0.0
+    try:
+        step = np.linalg.solve(Jr, -res[:, :, None])[:, :, 0]
+    except np.linalg.LinAlgError:
+        ridge = 1e-12 * np.maximum(np.abs(np.diagonal(Jr, axis1=1, axis2=2)), 1e-300)
+        step = np.linalg.solve(Jr + ridge[:, :, None] * np.eye(k), -res[:, :, None])[:, :, 0]
+    return step.T
+
+
+#: Rows of a block left for the joint finish once the rest has converged (see solve_blocks):
+#: at most PARK, and at most the share PARK_SHARE of the block.
+PARK = 256
+PARK_SHARE = 1 / 32
 
 #: Rows solved together: bounds the temporary memory (the Jacobians alone take
 #: 8 n² bytes per row) and keeps the working arrays in cache.
@@ -351,34 +716,77 @@ def solve_blocks(
     T: np.ndarray,
     P: np.ndarray,
     u0: np.ndarray,
+    progress: Any = None,
     **kw: Any,
 ) -> SolveOutput:
-    """:func:`start` and :func:`solve` on blocks of :data:`CHUNK` rows (same arguments)."""
+    """:func:`start` and :func:`solve` on blocks of :data:`CHUNK` rows (same arguments).
+
+    The few slow rows of each block (at most ``PARK`` once the rest has converged) are
+    set aside and finished together after the last block, from where they were: a block
+    does not run dozens of near-empty iterations for a handful of rows. ``progress``, if
+    given, is called with the number of rows finished after each block and after the joint
+    finish (e.g. the ``update`` of a progress bar); it sums to the number of rows.
+    """
     N = totals.shape[0]
     parts = []
-    for lo in range(0, N, CHUNK):
+    parked, u_parked = [], []
+    blocks = range(0, N, CHUNK)
+    for lo in blocks:
         sl = slice(lo, min(N, lo + CHUNK))
         u_start = start(system, lnk[sl], totals[sl], pin_cols, u0[sl])
-        parts.append(
-            solve(
-                system,
-                lnk[sl],
-                totals[sl],
-                scale[sl],
-                pin_cols,
-                charge_col,
-                act_cols,
-                act_species,
-                [t[sl] for t in act_targets],
-                model,
-                T[sl] if np.ndim(T) else T,
-                P[sl] if np.ndim(P) else P,
-                u_start,
-                **kw,
-            )
+        out = solve(
+            system,
+            lnk[sl],
+            totals[sl],
+            scale[sl],
+            pin_cols,
+            charge_col,
+            act_cols,
+            act_species,
+            [t[sl] for t in act_targets],
+            model,
+            T[sl] if np.ndim(T) else T,
+            P[sl] if np.ndim(P) else P,
+            u_start,
+            park=min(PARK, int((sl.stop - sl.start) * PARK_SHARE)) if len(blocks) > 1 else 0,
+            **kw,
         )
+        parts.append(out)
+        if out.parked is not None:
+            parked.append(out.parked + lo)
+            u_parked.append(out.u_parked)
+        if progress is not None:
+            progress(sl.stop - sl.start - (0 if out.parked is None else out.parked.size))
     if len(parts) == 1:
         return parts[0]
-    return SolveOutput(
-        *(np.concatenate([getattr(p, f) for p in parts]) for f in ("lnm", "lng", "converged", "iterations", "residual"))
+    full = SolveOutput(
+        *(
+            np.concatenate([getattr(p, f) for p in parts])
+            for f in ("lnm", "lng", "converged", "iterations", "residual", "m")
+        )
     )
+    if parked:
+        rows = np.concatenate(parked)
+        rest = solve(
+            system,
+            lnk[rows],
+            totals[rows],
+            scale[rows],
+            pin_cols,
+            charge_col,
+            act_cols,
+            act_species,
+            [np.broadcast_to(t, (N,))[rows] for t in act_targets],
+            model,
+            T[rows] if np.ndim(T) else T,
+            P[rows] if np.ndim(P) else P,
+            np.concatenate(u_parked),
+            **kw,
+        )
+        full.lnm[rows], full.lng[rows], full.converged[rows] = rest.lnm, rest.lng, rest.converged
+        full.m[rows] = rest.m
+        full.iterations[rows] += rest.iterations - 1  # the first re-evaluates where they stopped
+        full.residual[rows] = rest.residual
+        if progress is not None:
+            progress(rows.size)
+    return full

@@ -495,6 +495,7 @@ def molality_with_uncertainty(
     u_molality: Mapping[str, Any] | None = None,
     u_temperature: Any = 0.0,
     u_selectivity: Mapping[str, Any] | None = None,
+    speciation: Mapping[str, Any] | None = None,
     **options: Any,
 ) -> ChainResult:
     """Molality of the determinand from a reading, with its uncertainty budget and the model spread.
@@ -519,6 +520,12 @@ def molality_with_uncertainty(
     u_e0 : float or Mapping[str, float], default 0
         Standard uncertainty of E°, V (per side for a cell, as for :func:`emf_with_uncertainty`).
     pressures : Mapping[str, float], optional
+    speciation : Mapping, optional
+        Keyword arguments of :func:`activity.speciation.speciate` (``{{}}`` for its
+        defaults): the electrode answers to the free ion of the speciated sample and the
+        molality is the determinand's total, as for
+        :func:`activity.nernst.inverse.molality_from_potential`; every perturbed or drawn
+        sample is speciated, so the budget carries the uncertainty through the speciation.
     {options}
 
     Returns
@@ -558,6 +565,7 @@ def molality_with_uncertainty(
                 counter_ion=counter_ion,
                 pressures=pressures,
                 warn=False,
+                speciation=speciation,
             )
             alerts.extend(res.alerts)
             return res.molality
@@ -576,6 +584,7 @@ def molality_with_uncertainty(
                 counter_ion=counter_ion,
                 pressures=pressures,
                 warn=False,
+                speciation=speciation,
             )
             alerts.extend(res.alerts)
             return res.molality

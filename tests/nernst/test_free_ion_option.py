@@ -83,8 +83,10 @@ def test_cli_invert_free_ion(capsys):
     # 2 mmol/kg total Ca in 10 mmol/kg sulfate reads 6.63 mV (test above); about 30 % is paired
     text = json.dumps(free)
     assert "free ions from speciation" in text
-    assert main(args + ["--free-ion", "--u-reading", "0.2 mV"]) == 2
-    assert "--free-ion does not combine" in capsys.readouterr().err
+    # with the uncertainty options too (checked against Monte Carlo in
+    # tests/speciation/test_free_ion_uncertainty.py)
+    assert main(args + ["--free-ion", "--u-reading", "0.2 mV"]) == 0
+    assert "uncertainty" in json.loads(capsys.readouterr().out)
     m_free, m_plain = free["results"]["molality"]["value"], plain["results"]["molality"]["value"]
     assert m_free == pytest.approx(2e-3, rel=1e-3)  # the reading was computed for 2 mmol/kg total
     assert m_plain < 0.75 * m_free  # without speciation the paired calcium is missed

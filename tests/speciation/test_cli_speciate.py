@@ -78,3 +78,34 @@ def test_errors_are_one_line_exit_2(argv, needle, capsys):
     err = capsys.readouterr().err
     assert err.startswith("activity: error:") and needle in err
     assert "Traceback" not in err
+
+
+def _batch_csv(tmp_path, n):
+    csv = tmp_path / "many.csv"
+    lines = ["label,Ca2+ [mmol/kg],SO4^2- [mmol/kg]"] + [f"r{k},{1 + k % 9},{1 + k % 7}" for k in range(n)]
+    csv.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    return csv
+
+
+def test_big_batch_progress_bar_only_on_a_terminal(tmp_path, capsys, monkeypatch):
+    import io
+    import sys
+
+    from activity.speciation import solver
+
+    monkeypatch.setattr(solver, "CHUNK", 8)  # 40 rows = five solver blocks: a "big" batch here
+    csv = _batch_csv(tmp_path, 40)
+    # not a terminal (captured): nothing on standard error
+    assert main(["speciate", "--table", str(csv), "--csv"]) == 0
+    captured = capsys.readouterr()
+    assert captured.err == "" and len(captured.out.strip().splitlines()) == 41
+
+    class Terminal(io.StringIO):
+        def isatty(self):
+            return True
+
+    term = Terminal()
+    monkeypatch.setattr(sys, "stderr", term)
+    assert main(["speciate", "--table", str(csv), "--csv"]) == 0
+    assert "speciate:" in term.getvalue() and "/40" in term.getvalue()  # tqdm's bar over the 40 rows
+    assert len(capsys.readouterr().out.strip().splitlines()) == 41  # the report itself unchanged
