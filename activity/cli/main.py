@@ -19,6 +19,9 @@ __all__ = ["main", "build_parser", "CAUTION"]
 COMMAND_GROUPS = (solution, ise, ph, speciate, electrode)
 
 
+_QUIET_HELP = "no progress bars on standard error (they are drawn only when it is a terminal)"
+
+
 def build_parser() -> argparse.ArgumentParser:
     """The full argument parser (imports no numpy)."""
     parser = Parser(
@@ -28,9 +31,12 @@ def build_parser() -> argparse.ArgumentParser:
         epilog=CAUTION,
     )
     parser.add_argument("--version", action="version", version=f"activity {__version__}")
+    parser.add_argument("-q", "--quiet", action="store_true", help=_QUIET_HELP)
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=Parser)
     for group in COMMAND_GROUPS:
         group.register(sub)
+    for command in {id(c): c for c in sub.choices.values()}.values():  # also after the command
+        command.add_argument("-q", "--quiet", action="store_true", default=argparse.SUPPRESS, help=_QUIET_HELP)
     return parser
 
 
