@@ -17,6 +17,8 @@ from __future__ import annotations
 
 import argparse
 import csv
+import itertools
+import re
 import shutil
 import sys
 import tempfile
@@ -194,21 +196,21 @@ def solution_table(args: argparse.Namespace, form: str, *, chunk_rows: int | Non
                     I = np.atleast_1d(np.asarray(sol.ionic_strength))
                     for name, gamma, in_range in ok:
                         if form == "csv":
-                            _csv_rows(sections, name, chunk.labels, sol, T, I, gamma, in_range)
+                            if not sections and len(ok) == 1:  # one model: no section to spool
+                                _csv_header(out, species)
+                                sections[name] = out
+                            if name not in sections:
+                                sections[name] = tempfile.TemporaryFile("w+", encoding="utf-8", newline="")
+                            sections[name].write(_csv_chunk(name, chunk.labels, sol, T, I, gamma, in_range))
                         else:
                             _table_rows(sections, name, chunk.labels, sol, T, I, gamma, in_range)
                 if form == "csv":
-                    header = (
-                        ["label", "model", "temperature_K", "ionic_strength_mol_per_kg"]
-                        + [f"gamma {n}" for n in species]
-                        + [f"activity {n}" for n in species]
-                        + ["in_range"]
-                    )
-                    csv.writer(out, lineterminator="\n").writerow(header)
-                    for name in order:
-                        if name in sections:
-                            sections[name].seek(0)
-                            shutil.copyfileobj(sections[name], out)
+                    if out not in sections.values():
+                        _csv_header(out, species)
+                        for name in order:
+                            if name in sections:
+                                sections[name].seek(0)
+                                shutil.copyfileobj(sections[name], out)
                     _finish_text(out, True, _to_stdout(args))
                 else:
                     lines = _Lines(out, for_people=True)
@@ -226,21 +228,46 @@ def solution_table(args: argparse.Namespace, form: str, *, chunk_rows: int | Non
                     _finish_text(out, False, _to_stdout(args))
             finally:
                 for s in sections.values():
-                    s.close()
+                    if s is not out:
+                        s.close()
     run.finish()
 
 
-def _csv_rows(sections: dict, name: str, labels: tuple, sol: Any, T: Any, I: Any, gamma: Any, in_range: Any) -> None:
-    spool = sections.get(name)
-    if spool is None:
-        spool = sections[name] = tempfile.TemporaryFile("w+", encoding="utf-8", newline="")
+def _csv_header(out: TextIO, species: tuple[str, ...]) -> None:
+    header = (
+        ["label", "model", "temperature_K", "ionic_strength_mol_per_kg"]
+        + [f"gamma {n}" for n in species]
+        + [f"activity {n}" for n in species]
+        + ["in_range"]
+    )
+    csv.writer(out, lineterminator="\n").writerow(header)
+
+
+_CSV_SPECIAL = re.compile(r'[,"\n]')  # what csv.writer (QUOTE_MINIMAL, lineterminator '\n') quotes
+
+
+def _csv_cells(texts: Any) -> list[str]:
+    """Text cells as ``csv.writer`` writes them (quoted where they hold a comma, a quote or a
+    line break)."""
+    texts = list(texts)
+    if not _CSV_SPECIAL.search("".join(texts)):
+        return texts
+    return ['"' + t.replace('"', '""') + '"' if _CSV_SPECIAL.search(t) else t for t in texts]
+
+
+def _number_lines(columns: list[Any]) -> list[str]:
+    """Rows of comma-joined ``repr`` s of float columns (each column one value per row)."""
+    return list(map(",".join, zip(*(_reprs(c) for c in columns))))
+
+
+def _csv_chunk(name: str, labels: tuple, sol: Any, T: Any, I: Any, gamma: Any, in_range: Any) -> str:
+    """The CSV rows of one chunk by one model, as ``to_csv`` writes them (``repr`` of floats)."""
     m = sol.m.reshape(len(sol.species), -1)
     g = np.asarray(gamma).reshape(len(sol.species), -1)
-    cols = [labels, [name] * len(labels), _reprs(T), _reprs(I)]
-    cols += [_reprs(row) for row in g]
-    cols += [_reprs(row) for row in g * m]
-    cols.append(["True" if v else "False" for v in np.asarray(in_range).tolist()])
-    csv.writer(spool, lineterminator="\n").writerows(zip(*cols))
+    numbers = _number_lines([T, I, *g, *(g * m)])
+    flags = ["True" if v else "False" for v in np.asarray(in_range).tolist()]
+    cells = zip(_csv_cells(labels), itertools.repeat(_csv_cells([name])[0]), numbers, flags)
+    return "\n".join(map(",".join, cells)) + "\n"
 
 
 def _table_rows(
@@ -371,12 +398,12 @@ def invert_table(
                 shutil.copyfileobj(body, out)
             _finish_text(out, False, _to_stdout(args))
         elif form == "csv":
-            writer = csv.writer(out, lineterminator="\n")
-            writer.writerow(["label", *_INVERT_COLUMNS])
+            out.write(",".join(["label", *_INVERT_COLUMNS]))  # each row starts with its newline
             for chunk in run:
                 labels, cols = evaluate(chunk)
-                writer.writerows(zip(labels, *(_reprs(v) for v in cols.values())))
-            _finish_text(out, False, _to_stdout(args))  # the CSV's last newline is stripped, print adds one
+                cells = zip(_csv_cells(labels), _number_lines(list(cols.values())))
+                out.write("\n" + "\n".join(map(",".join, cells)))
+            _finish_text(out, False, _to_stdout(args))  # the CSV's last newline was stripped; emit adds one
         else:
             t = SpooledTable(["label", "t / °C", "reading / mV", "m / (mol/kg)", "activity", "γ", "I / (mol/kg)"],
                              digits=6)

@@ -141,14 +141,14 @@ def _parse_rows(p: Path, columns: list, body: list[list[str]], first: int) -> tu
     count, a cell that is not a finite number, a comma inside a cell) goes to the row-by-row
     parser, which raises the error naming the row and column."""
     nc = len(columns)
-    if any(len(r) != nc for r in body):
+    if set(map(len, body)) != {nc}:
         return _parse_rows_slowly(p, columns, body, first)
     cols = list(zip(*body))
     values: dict[str, Any] = {}
     labels: list[str] | None = None
     for (name, unit), col in zip(columns, cols):
         if unit is None:
-            if any("," in c for c in col):  # a quoted cell with a comma: the decimal-comma check
+            if "," in "".join(col):  # a quoted cell with a comma: the decimal-comma check
                 return _parse_rows_slowly(p, columns, body, first)
             labels = [c.strip() or f"row {k}" for k, c in enumerate(col, start=first)]
             continue
@@ -312,9 +312,12 @@ def solution_from_table(
         warnings.warn(f"pressure {pressure} applied to every row of {n}", ActivityWarning, stacklevel=2)
     if "temperature" in table.conditions:
         unit, arr = table.conditions["temperature"]
-        offset = parse_temperature(f"0 {unit}", field="column 'temperature'")
-        scale = parse_temperature(f"1 {unit}", field="column 'temperature'") if unit != "K" else 1.0
-        T = arr * (scale - offset) + offset if unit != "K" else arr
+        if unit == "K":  # (0 K itself is outside the range parse_temperature accepts)
+            T = arr
+        else:
+            offset = parse_temperature(f"0 {unit}", field="column 'temperature'")
+            scale = parse_temperature(f"1 {unit}", field="column 'temperature'")
+            T = arr * (scale - offset) + offset
         if np.any((T < T_MIN) | (T > T_MAX)):
             row = int(np.flatnonzero((T < T_MIN) | (T > T_MAX))[0])
             raise InputError(

@@ -8,6 +8,8 @@ import sys
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from activity.cli.main import build_parser, main
 from activity.io import tables
@@ -59,7 +61,8 @@ def test_solution_table_chunked_equals_whole(tmp_path, capsys, monkeypatch, form
 
 
 @pytest.mark.parametrize("form", ["table", "csv", "json"])
-def test_solution_table_equals_the_whole_table_renderer(tmp_path, capsys, monkeypatch, form):
+@pytest.mark.parametrize("to_file", [False, True])
+def test_solution_table_equals_the_whole_table_renderer(tmp_path, capsys, monkeypatch, form, to_file):
     """The chunked command against the renderer that takes the whole table at once
     (``render.table_report``, the code path before streaming), per-litre amounts included."""
     from activity.cli.common import emit
@@ -69,13 +72,18 @@ def test_solution_table_equals_the_whole_table_renderer(tmp_path, capsys, monkey
 
     path = _solution_table(tmp_path / "perL.csv", n=120, seed=5, basis="mol/L")
     flag = {"table": [], "csv": ["--csv"], "json": ["--json"]}[form]
-    code, out, _ = _run(["solution", "--table", str(path), "-m", "all", *flag], capsys, 11, monkeypatch)
+    new = ["-o", str(tmp_path / "new.txt")] if to_file else []
+    code, out, _ = _run(["solution", "--table", str(path), "-m", "all", *flag, *new], capsys, 11, monkeypatch)
     assert code == 0
     tbl = read_table(path)
     sol, _ = call_with_notes(solution_from_table, tbl)
-    args = build_parser().parse_args(["solution", "--table", str(path), *flag])
+    old = ["-o", str(tmp_path / "old.txt")] if to_file else []
+    args = build_parser().parse_args(["solution", "--table", str(path), *flag, *old])
     emit(args, table_report(sol, tbl.labels, "all", form=form))
-    assert out == capsys.readouterr().out
+    if to_file:
+        assert (tmp_path / "new.txt").read_bytes() == (tmp_path / "old.txt").read_bytes()
+    else:
+        assert out == capsys.readouterr().out
 
 
 @pytest.mark.parametrize("form", [[], ["--csv"], ["--json"]])
@@ -98,7 +106,12 @@ def test_invert_table_chunked_equals_whole(tmp_path, capsys, monkeypatch, form):
         assert any("of 150 row(s)" in n for n in doc["notes"])
 
 
-def test_invert_table_equals_the_whole_table_renderer(tmp_path, capsys, monkeypatch):
+@pytest.mark.parametrize("form", [[], ["--csv"], ["--json"]])
+@pytest.mark.parametrize("to_file", [False, True])
+def test_invert_table_equals_the_whole_table_renderer(tmp_path, capsys, monkeypatch, form, to_file):
+    """Chunked, against the renderer that takes the whole batch (the code path before
+    streaming), on standard output and written to a file."""
+    from activity.cli.common import emit
     from activity.cli.electrode import _render_table
     from activity.io.tables import read_table, solution_from_table
     from activity.nernst import Cell, IonSelectiveElectrode, molality_from_emf
@@ -107,15 +120,21 @@ def test_invert_table_equals_the_whole_table_renderer(tmp_path, capsys, monkeypa
     path = tmp_path / "readings.csv"
     rows = [f"r{k},{-290 + 0.4 * k:.1f},0.1,0.1" for k in range(60)]
     path.write_text("label,reading [mV],K+ [mol/L],Cl- [mol/L]\n" + "\n".join(rows) + "\n", encoding="utf-8")
-    code, out, _ = _run(ISE + ["--table", str(path)], capsys, 7, monkeypatch)
+    out = ["-o", str(tmp_path / "new.txt")] if to_file else []
+    code, text, _ = _run(ISE + ["--table", str(path), *form, *out], capsys, 7, monkeypatch)
     assert code == 0
     tbl = read_table(path)
     matrix = solution_from_table(tbl)
     cell = Cell(left=silver_chloride_electrode(3.0, basis="mol/L"), right=IonSelectiveElectrode("Ca2+", 0.0521))
     reading = tbl.extra["reading"][1] * 1e-3
     res = molality_from_emf(cell, reading, matrix, "davies", species="Ca^2+", counter_ion="Cl-")
-    args = build_parser().parse_args(["invert", "--table", str(path)])
-    assert out == _render_table(args, tbl.labels, reading, res, matrix.T) + "\n"
+    ref_out = ["-o", str(tmp_path / "old.txt")] if to_file else []
+    args = build_parser().parse_args(["invert", "--table", str(path), *form, *ref_out])
+    emit(args, _render_table(args, tbl.labels, reading, res, matrix.T))
+    if to_file:
+        assert (tmp_path / "new.txt").read_bytes() == (tmp_path / "old.txt").read_bytes()
+    else:
+        assert text == capsys.readouterr().out
 
 
 @pytest.mark.parametrize("existing", [False, True])
@@ -236,3 +255,16 @@ def test_quiet_runs_in_every_command_group(where, capsys):
         full = ["--quiet", *argv] if where == "before" else [*argv, "--quiet"]
         assert main(full) == 0, argv
         capsys.readouterr()
+
+
+@settings(deadline=None, max_examples=50)
+@given(st.lists(st.text(alphabet='ab ,"\n\r\t\u2028é', min_size=1, max_size=6), min_size=1, max_size=8))
+def test_label_cells_are_quoted_as_csv_writer_quotes_them(labels):
+    import csv
+    import io
+
+    from activity.cli.batch import _csv_cells
+
+    buf = io.StringIO()
+    csv.writer(buf, lineterminator="\n").writerows([[lab, "x"] for lab in labels])
+    assert "".join(f"{c},x\n" for c in _csv_cells(labels)) == buf.getvalue()

@@ -150,3 +150,17 @@ def test_note_merger_equals_the_whole_batch_note():
         part = m[start : start + 64]
         merger.add(model.activity_coefficients(Solution({"Na+": part, "Cl-": part}), warn=False).notes)
     assert merger.result(500) == list(whole) and "of 500 row(s)" in whole[0]
+
+
+def test_temperature_column_in_kelvin(tmp_path):
+    """A 'temperature [K]' column was refused ('0 K is below the range'): it is read as is."""
+    from activity.io.tables import solution_from_table
+
+    k = tmp_path / "k.csv"
+    k.write_text("K+ [mol/kg],Cl- [mol/kg],temperature [K]\n0.1,0.1,310.15\n0.1,0.1,298.15\n", "utf-8")
+    c = tmp_path / "c.csv"
+    c.write_text("K+ [mol/kg],Cl- [mol/kg],temperature [°C]\n0.1,0.1,37\n0.1,0.1,25\n", "utf-8")
+    T_k = solution_from_table(read_table(k)).T
+    T_c = solution_from_table(read_table(c)).T
+    np.testing.assert_allclose(T_k, [310.15, 298.15], rtol=0, atol=0)
+    np.testing.assert_allclose(T_k, T_c, rtol=1e-13)  # 1 °C is 1 K (the °C column goes through its offset)
