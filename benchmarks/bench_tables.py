@@ -110,9 +110,9 @@ def lean_solution(path: str, out: str) -> float:
 
     import activity as act
 
-    model = act.get_model("davies")
     parse_time, (labels, v) = _lean_parse(path, 5)
-    start = time.perf_counter()
+    start = time.perf_counter()  # the setup is timed, as the command's is
+    model = act.get_model("davies")
     na, k, ca, cl, t = v
     T = t * (274.15 - 273.15) + 273.15  # °C → K as the table reader converts a column (its 0 and 1 °C)
     sol = act.Solution({"Na+": na, "K+": k, "Ca^2+": ca, "Cl-": cl}, T=T)
@@ -139,11 +139,11 @@ def lean_invert(path: str, out: str) -> float:
 
     import activity as act
 
+    parse_time, (labels, v) = _lean_parse(path, 3)
+    start = time.perf_counter()  # the setup is timed, as the command's is
     cell = act.Cell(
         left=act.silver_chloride_electrode(3.0, basis="mol/L"), right=act.IonSelectiveElectrode("Ca2+", 0.0521)
     )
-    parse_time, (labels, v) = _lean_parse(path, 3)
-    start = time.perf_counter()
     E, k, cl = v
     matrix = act.Solution({"K+": k, "Cl-": cl})
     reading = E * 1e-3

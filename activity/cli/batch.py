@@ -201,7 +201,8 @@ def solution_table(args: argparse.Namespace, form: str, *, chunk_rows: int | Non
                                 sections[name] = out
                             if name not in sections:
                                 sections[name] = tempfile.TemporaryFile("w+", encoding="utf-8", newline="")
-                            sections[name].write(_csv_chunk(name, chunk.labels, sol, T, I, gamma, in_range))
+                            for text in _csv_chunk(name, chunk.labels, sol, T, I, gamma, in_range):
+                                sections[name].write(text)
                         else:
                             _table_rows(sections, name, chunk.labels, sol, T, I, gamma, in_range)
                 if form == "csv":
@@ -260,14 +261,25 @@ def _number_lines(columns: list[Any]) -> list[str]:
     return list(map(",".join, zip(*(_reprs(c) for c in columns))))
 
 
-def _csv_chunk(name: str, labels: tuple, sol: Any, T: Any, I: Any, gamma: Any, in_range: Any) -> str:
-    """The CSV rows of one chunk by one model, as ``to_csv`` writes them (``repr`` of floats)."""
+#: Rows formatted at a time when a chunk is written: the text of 2¹⁴ rows (a few MB) is
+#: built and written before the next, so the strings of a whole chunk never coexist.
+_WRITE_ROWS = 1 << 14
+
+
+def _csv_chunk(name: str, labels: tuple, sol: Any, T: Any, I: Any, gamma: Any, in_range: Any) -> Iterator[str]:
+    """The CSV rows of one chunk by one model, as ``to_csv`` writes them (``repr`` of floats),
+    in pieces of :data:`_WRITE_ROWS` rows."""
     m = sol.m.reshape(len(sol.species), -1)
     g = np.asarray(gamma).reshape(len(sol.species), -1)
-    numbers = _number_lines([T, I, *g, *(g * m)])
-    flags = ["True" if v else "False" for v in np.asarray(in_range).tolist()]
-    cells = zip(_csv_cells(labels), itertools.repeat(_csv_cells([name])[0]), numbers, flags)
-    return "\n".join(map(",".join, cells)) + "\n"
+    columns = np.vstack([np.broadcast_to(T, (len(labels),)), np.broadcast_to(I, (len(labels),)), g, g * m])
+    flags = np.asarray(in_range).reshape(-1)
+    model = _csv_cells([name])[0]
+    for start in range(0, len(labels), _WRITE_ROWS):
+        part = slice(start, start + _WRITE_ROWS)
+        numbers = _number_lines(list(columns[:, part]))
+        texts = ["True" if v else "False" for v in flags[part].tolist()]
+        cells = zip(_csv_cells(labels[part]), itertools.repeat(model), numbers, texts)
+        yield "\n".join(map(",".join, cells)) + "\n"
 
 
 def _table_rows(
@@ -401,8 +413,11 @@ def invert_table(
             out.write(",".join(["label", *_INVERT_COLUMNS]))  # each row starts with its newline
             for chunk in run:
                 labels, cols = evaluate(chunk)
-                cells = zip(_csv_cells(labels), _number_lines(list(cols.values())))
-                out.write("\n" + "\n".join(map(",".join, cells)))
+                columns = np.vstack(list(cols.values()))
+                for start in range(0, len(labels), _WRITE_ROWS):
+                    part = slice(start, start + _WRITE_ROWS)
+                    cells = zip(_csv_cells(labels[part]), _number_lines(list(columns[:, part])))
+                    out.write("\n" + "\n".join(map(",".join, cells)))
             _finish_text(out, False, _to_stdout(args))  # the CSV's last newline was stripped; emit adds one
         else:
             t = SpooledTable(["label", "t / °C", "reading / mV", "m / (mol/kg)", "activity", "γ", "I / (mol/kg)"],

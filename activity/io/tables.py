@@ -22,8 +22,9 @@ from __future__ import annotations
 
 import csv
 import itertools
+import operator
 import re
-from collections.abc import Iterator
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -135,33 +136,95 @@ def _parse_rows_slowly(p: Path, columns: list, body: list[list[str]], first: int
     return labels, {n: np.array(v, dtype=float) for n, v in values.items()}
 
 
-def _parse_rows(p: Path, columns: list, body: list[list[str]], first: int) -> tuple[list, dict]:
-    """Labels and float columns of ``body`` (data rows numbered from ``first``, blank rows
-    already dropped). Whole columns are converted at once; anything unusual (a wrong cell
-    count, a cell that is not a finite number, a comma inside a cell) goes to the row-by-row
-    parser, which raises the error naming the row and column."""
-    nc = len(columns)
-    if set(map(len, body)) != {nc}:
-        return _parse_rows_slowly(p, columns, body, first)
-    cols = list(zip(*body))
+def _parse_rows(
+    p: Path, columns: list, rows: Callable[[], Iterable[list[str]]], first: int, cols: list | None = None
+) -> tuple[list, dict]:
+    """Labels and float columns of a chunk (data rows numbered from ``first``).
+
+    ``rows()`` gives the chunk's rows (lists of cells; blank rows may be among them);
+    ``cols``, when given, its cells column by column (the fast path of plain lines, every
+    row with the header's cell count). Whole columns are converted at once; anything unusual
+    (a wrong cell count, a blank row, a cell that is not a finite number, a comma inside a
+    cell) goes to the row-by-row parser, which skips blank rows and raises the error naming
+    the row and column.
+    """
+    if cols is None:
+        body = [r for r in rows() if r]
+        if set(map(len, body)) != {len(columns)}:
+            return _parse_rows_slowly(p, columns, body, first)
+        cols = list(zip(*body))
+        rows = lambda: body  # noqa: E731
     values: dict[str, Any] = {}
     labels: list[str] | None = None
     for (name, unit), col in zip(columns, cols):
         if unit is None:
             if "," in "".join(col):  # a quoted cell with a comma: the decimal-comma check
-                return _parse_rows_slowly(p, columns, body, first)
+                return _parse_rows_slowly(p, columns, [r for r in rows() if r], first)
             labels = [c.strip() or f"row {k}" for k, c in enumerate(col, start=first)]
             continue
         try:
             arr = np.fromiter(map(float, col), dtype=float, count=len(col))
         except ValueError:
-            return _parse_rows_slowly(p, columns, body, first)
+            return _parse_rows_slowly(p, columns, [r for r in rows() if r], first)
         if not np.all(np.isfinite(arr)):
-            return _parse_rows_slowly(p, columns, body, first)
+            return _parse_rows_slowly(p, columns, [r for r in rows() if r], first)
         values[name] = arr
     if labels is None:
-        labels = [f"row {k}" for k in range(first, first + len(body))]
+        labels = [f"row {k}" for k in range(first, first + len(cols[0]))]
     return labels, values
+
+
+class _Chunks:
+    """The rows of an open CSV file, a chunk at a time.
+
+    While the file has no quote character its lines are split at commas directly (one
+    string operation per chunk, cells sliced column by column); from the first quote on,
+    the csv module reads the rest (quoted cells may hold commas and line breaks).
+    """
+
+    def __init__(self, fh: Any, size: int):
+        self.fh, self.size = fh, size
+        self.reader: Any = None  # the csv reader, once a quote was seen
+
+    def header(self) -> list[str] | None:
+        """The first row with a non-blank cell."""
+        for line in self.fh:
+            if '"' in line:
+                self.reader = csv.reader(itertools.chain([line], self.fh))
+                return next((r for r in self.reader if any(c.strip() for c in r)), None)
+            row = next(csv.reader([line]), [])
+            if any(c.strip() for c in row):
+                return row
+        return None
+
+    def next(self, nc: int) -> tuple[Callable[[], Iterable[list[str]]], list | None] | None:
+        """``(rows, cols)`` of the next chunk (see :func:`_parse_rows`), None at the end."""
+        if self.reader is None:
+            lines = list(itertools.islice(self.fh, self.size))
+            if not lines:
+                return None
+            text = "".join(lines)
+            if '"' in text:  # from here on, the csv module
+                self.reader = csv.reader(itertools.chain(lines, self.fh))
+            else:
+                if "\r" in text:
+                    text = text.replace("\r\n", "\n")
+                parts = text.split("\n")
+                if parts[-1] == "":
+                    parts.pop()
+
+                def rows(parts: list[str] = parts) -> Iterable[list[str]]:
+                    return csv.reader(parts)
+
+                if nc > 1 and "\r" not in text and set(map(_COMMAS, parts)) == {nc - 1}:
+                    cells = ",".join(parts).split(",")
+                    return rows, [cells[j::nc] for j in range(nc)]
+                return rows, None
+        body = list(itertools.islice(self.reader, self.size))
+        return (lambda: body, None) if body else None
+
+
+_COMMAS = operator.methodcaller("count", ",")
 
 
 def _table_input(p: Path, columns: list, labels: list, values: dict) -> TableInput:
@@ -203,26 +266,23 @@ def iter_table(path: str | Path, chunk_rows: int = CHUNK_ROWS) -> Iterator[Table
     p = Path(path)
     try:
         with p.open(newline="", encoding="utf-8-sig") as fh:
-            reader = csv.reader(fh)
-            header = next((r for r in reader if any(c.strip() for c in r)), None)
-            body: list[list[str]] = []
-            while header is not None and not body:  # the first chunk that holds a data row
-                raw = list(itertools.islice(reader, chunk_rows))
-                if not raw:
-                    break
-                body = [r for r in raw if r]
-                if not any(any(c.strip() for c in r) for r in body):
-                    body = []
-            if header is None or not body:
+            source = _Chunks(fh, int(chunk_rows))
+            header = source.header()
+            nc = len(header) if header is not None else 0
+            chunk = source.next(nc) if header is not None else None
+            while chunk is not None and not any(any(c.strip() for c in r) for r in chunk[0]()):
+                chunk = source.next(nc)  # blank lines only, so far
+            if chunk is None:
                 raise InputError("needs a header row and at least one data row", field="table", value=str(p))
             columns = _columns(p, header)
             first = 2
-            while body:
-                labels, values = _parse_rows(p, columns, body, first)
+            while chunk is not None:
+                labels, values = _parse_rows(p, columns, chunk[0], first, chunk[1])
+                chunk = None  # the text of the chunk is not kept while the caller computes
                 if labels:
                     first += len(labels)
                     yield _table_input(p, columns, labels, values)
-                body = [r for r in itertools.islice(reader, chunk_rows) if r]
+                chunk = source.next(nc)
     except _READ_ERRORS as exc:
         raise _open_error(p, exc) from None
 

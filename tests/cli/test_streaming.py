@@ -36,7 +36,10 @@ def _solution_table(path, n=230, seed=3, basis="mol/kg"):
 
 
 def _run(argv, capsys, chunk_rows, monkeypatch):
+    from activity.cli import batch
+
     monkeypatch.setattr(tables, "CHUNK_ROWS", chunk_rows)
+    monkeypatch.setattr(batch, "_WRITE_ROWS", 5 if chunk_rows < 1000 else 1 << 14)  # pieces within a chunk
     code = main(argv)
     out, err = capsys.readouterr()
     return code, out, err

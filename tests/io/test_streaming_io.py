@@ -21,13 +21,13 @@ number = st.one_of(
 label = st.text(alphabet="ab ,\"'x1é", max_size=6)
 
 
-def _write(path, rows, with_label):
+def _write(path, rows, with_label, newline="\n"):
     buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
+    w = csv.writer(buf, lineterminator=newline)
     w.writerow((["label"] if with_label else []) + ["K+ [mmol/kg]", "Cl- [mmol/kg]"])
     for r in rows:
         w.writerow(r if r is not None else [])  # None: a blank line
-    path.write_text(buf.getvalue(), encoding="utf-8")
+    path.write_bytes(buf.getvalue().encode("utf-8"))
 
 
 @settings(deadline=None, max_examples=40)
@@ -35,13 +35,14 @@ def _write(path, rows, with_label):
     rows=st.lists(st.one_of(st.none(), st.tuples(label, number, number)), min_size=1, max_size=30),
     with_label=st.booleans(),
     chunk=st.integers(1, 12),
+    newline=st.sampled_from(["\n", "\r\n"]),
 )
-def test_chunks_join_to_the_row_by_row_parse(tmp_path_factory, rows, with_label, chunk):
+def test_chunks_join_to_the_row_by_row_parse(tmp_path_factory, rows, with_label, chunk, newline):
     """Law: for any chunk size the chunks, joined, are the row-by-row parse of the whole file
     (labels, row numbers and values), or both raise the same error."""
     path = tmp_path_factory.mktemp("t") / "t.csv"
     body = [None if r is None else (list(r) if with_label else list(r[1:])) for r in rows]
-    _write(path, body, with_label)
+    _write(path, body, with_label, newline)
     with path.open(newline="", encoding="utf-8") as fh:
         all_rows = [r for r in csv.reader(fh) if any(c.strip() for c in r)]
     try:
@@ -164,3 +165,15 @@ def test_temperature_column_in_kelvin(tmp_path):
     T_c = solution_from_table(read_table(c)).T
     np.testing.assert_allclose(T_k, [310.15, 298.15], rtol=0, atol=0)
     np.testing.assert_allclose(T_k, T_c, rtol=1e-13)  # 1 °C is 1 K (the °C column goes through its offset)
+
+
+def test_first_quote_in_a_late_chunk(tmp_path):
+    """Plain lines are split at commas until the first quote; from there the csv module reads
+    (a quoted label with a comma and a line break, in the 8th chunk of 7 rows)."""
+    path = tmp_path / "q.csv"
+    rows = [f"p{k},{k},{k}" for k in range(50)] + ['"q, with\nbreak",1,2', "after,3,4", ",,", "last,5,6"]
+    path.write_text("label,K+ [mmol/kg],Cl- [mmol/kg]\r\n" + "\r\n".join(rows) + "\r\n", encoding="utf-8")
+    t = concat_tables(list(iter_table(path, chunk_rows=7)))
+    assert t.labels[-4:] == ("p49", "q, with\nbreak", "after", "last")
+    np.testing.assert_array_equal(t.species["Cl-"][1][-3:], [2.0, 4.0, 6.0])
+    assert len(t.labels) == 53  # the blank row ',,' is skipped
