@@ -271,3 +271,50 @@ def test_label_cells_are_quoted_as_csv_writer_quotes_them(labels):
     buf = io.StringIO()
     csv.writer(buf, lineterminator="\n").writerows([[lab, "x"] for lab in labels])
     assert "".join(f"{c},x\n" for c in _csv_cells(labels)) == buf.getvalue()
+
+
+def test_command_table_matches_the_groups():
+    """main.COMMANDS (which group to import for a command) is what the groups declare."""
+    import argparse
+    import importlib
+
+    entry = importlib.import_module("activity.cli.main")
+    declared = {}
+    for group in entry.GROUPS:
+        sub = argparse.ArgumentParser().add_subparsers()
+        importlib.import_module(f"activity.cli.{group}").register(sub)
+        declared.update(dict.fromkeys(sub.choices, group))
+    assert declared == entry.COMMANDS
+
+
+def test_one_command_imports_only_its_group():
+    """What start-up leaves out: the other command groups, and the scan of installed packages for
+    model entry points (importlib.metadata) when the model named is a registered one."""
+    code = (
+        "import sys; from activity.cli.main import main; main(['solution', 'Na+=0.1 mol/kg', 'Cl-=0.1 mol/kg']); "
+        "print(sorted(m for m in sys.modules if m.startswith(('activity.cli.', 'importlib.metadata'))), "
+        "file=sys.stderr)"
+    )
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    loaded = set(json.loads(proc.stderr.strip().splitlines()[-1].replace("'", '"')))
+    assert "activity.cli.solution" in loaded
+    assert not {"activity.cli.electrode", "activity.cli.ise", "activity.cli.ph", "activity.cli.speciate"} & loaded
+    assert "importlib.metadata" not in loaded
+
+
+def test_entry_points_still_found_for_other_names(monkeypatch):
+    """get_model scans entry points only for a name not registered, so a plug-in still loads."""
+    import activity.coefficients as reg
+    from activity.coefficients.davies import DaviesModel
+
+    class EP:  # the part of importlib.metadata.EntryPoint that the registry uses
+        name = "plugin-davies"
+
+        def load(self):
+            return DaviesModel
+
+    monkeypatch.setattr(reg, "_entry_points_loaded", False)
+    monkeypatch.setattr(reg, "_REGISTRY", dict(reg._BUILTIN))
+    monkeypatch.setattr("importlib.metadata.entry_points", lambda group: [EP()])
+    assert reg.get_model("davies").name == "davies" and reg._entry_points_loaded is False
+    assert isinstance(reg.get_model("plugin-davies"), DaviesModel) and reg._entry_points_loaded is True
