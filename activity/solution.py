@@ -22,6 +22,10 @@ from .species import check_solute, parse_species, solute_key
 __all__ = ["Solution"]
 
 _NEUTRALITY = ("warn", "ignore", "raise")
+#: Up to these sizes the species sums use numpy's einsum loop rather than a BLAS product
+#: (see Solution._sums; measured by benchmarks/bench_speed.py, rows inverse and monte-carlo).
+_EINSUM_ROWS = 200_000
+_EINSUM_SPECIES = 8
 
 
 def _items(composition: Any) -> list[tuple[str, Any]]:
@@ -305,7 +309,13 @@ class Solution:
             z = self._charges.astype(float)
             w = np.stack([z, 0.5 * np.abs(z), 0.5 * z * z, np.ones_like(z)])
             flat = self._m.reshape(len(self._species), -1)
-            sums = self._cache["sums"] = (w @ flat).reshape((4,) + self._shape)
+            if flat.shape[1] <= _EINSUM_ROWS and flat.shape[0] <= _EINSUM_SPECIES:
+                # numpy's own loop: the BLAS product costs a near-constant ~8 ms below ~10⁵ rows
+                # on a shared 2-core machine (thread start-up), 6× the loop (bench_speed inverse)
+                prod = np.einsum("ki,in->kn", w, flat)
+            else:
+                prod = w @ flat
+            sums = self._cache["sums"] = prod.reshape((4,) + self._shape)
             sums.setflags(write=False)
         return sums
 
