@@ -81,7 +81,6 @@ class ChunkRun:
         self.path, self.quiet = path, quiet
         self.chunk_rows = _tables.CHUNK_ROWS if chunk_rows is None else chunk_rows
         self.rows = 0
-        self.first_label: str | None = None
         self._warned = NoteMerger()
         self._categories: dict[str, type] = {}
         self._cautions: set[str] = set()
@@ -91,8 +90,6 @@ class ChunkRun:
 
         with Progress(None, progress=not self.quiet, desc=Path(self.path).name, unit="row") as bar:
             for chunk in iter_table(self.path, self.chunk_rows):
-                if self.first_label is None:
-                    self.first_label = chunk.labels[0]
                 yield chunk
                 self.rows += len(chunk.labels)
                 bar.update(len(chunk.labels))

@@ -89,6 +89,18 @@ def test_solution_table_equals_the_whole_table_renderer(tmp_path, capsys, monkey
         assert out == capsys.readouterr().out
 
 
+def test_conditions_given_for_every_row_are_said_once(tmp_path, capsys, monkeypatch):
+    """-t and -p with a table apply to every row and say so once, with the whole count."""
+    path = tmp_path / "noT.csv"
+    path.write_text("K+ [mmol/kg],Cl- [mmol/kg]\n" + "".join(f"{k},{k}\n" for k in range(1, 40)), encoding="utf-8")
+    argv = ["solution", "--table", str(path), "-t", "37 °C", "-p", "2 bar", "--csv"]
+    whole = _run(argv, capsys, 10**6, monkeypatch)
+    chunked = _run(argv, capsys, 6, monkeypatch)
+    assert whole == chunked
+    assert "warning: temperature 37 °C applied to every row of 39" in chunked[2]
+    assert chunked[2].count("applied to every row") == 2  # temperature and pressure, once each
+
+
 @pytest.mark.parametrize("form", [[], ["--csv"], ["--json"]])
 def test_invert_table_chunked_equals_whole(tmp_path, capsys, monkeypatch, form):
     rng = np.random.default_rng(7)
@@ -318,3 +330,13 @@ def test_entry_points_still_found_for_other_names(monkeypatch):
     monkeypatch.setattr("importlib.metadata.entry_points", lambda group: [EP()])
     assert reg.get_model("davies").name == "davies" and reg._entry_points_loaded is False
     assert isinstance(reg.get_model("plugin-davies"), DaviesModel) and reg._entry_points_loaded is True
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="pseudo-terminals as on Linux")
+def test_monte_carlo_bar_on_a_terminal_and_quiet_silences_it():
+    argv = ISE + ["--reading", "-255.3 mV", "K+=0.1 mol/L", "Cl-=0.1 mol/L", "--u-reading", "0.3 mV"]
+    argv += ["--method", "monte-carlo", "--trials", "20000", "--seed", "1"]
+    code, shown = _stderr_on_a_terminal(argv)
+    assert code == 0 and "Monte Carlo" in shown and "trial" in shown
+    code, shown = _stderr_on_a_terminal(["-q", *argv])
+    assert code == 0 and shown == ""
