@@ -22,9 +22,9 @@ from .species import check_solute, parse_species, solute_key
 __all__ = ["Solution"]
 
 _NEUTRALITY = ("warn", "ignore", "raise")
-#: Up to these sizes the species sums use numpy's einsum loop rather than a BLAS product
+#: Within these sizes the species sums use numpy's einsum loop rather than a BLAS product
 #: (see Solution._sums; measured by benchmarks/bench_speed.py, rows inverse and monte-carlo).
-_EINSUM_ROWS = 200_000
+_EINSUM_ROWS = (32_768, 200_000)
 _EINSUM_SPECIES = 8
 
 
@@ -309,9 +309,10 @@ class Solution:
             z = self._charges.astype(float)
             w = np.stack([z, 0.5 * np.abs(z), 0.5 * z * z, np.ones_like(z)])
             flat = self._m.reshape(len(self._species), -1)
-            if flat.shape[1] <= _EINSUM_ROWS and flat.shape[0] <= _EINSUM_SPECIES:
-                # numpy's own loop: the BLAS product costs a near-constant ~8 ms below ~10⁵ rows
-                # on a shared 2-core machine (thread start-up), 6× the loop (bench_speed inverse)
+            if _EINSUM_ROWS[0] <= flat.shape[1] <= _EINSUM_ROWS[1] and flat.shape[0] <= _EINSUM_SPECIES:
+                # numpy's own loop: from ~4·10⁴ rows the BLAS product wakes its threads, which
+                # cost ~6 ms per call between other work on a shared 2-core machine (measured
+                # in the inverse and Monte Carlo rows of bench_speed); below, BLAS is faster
                 prod = np.einsum("ki,in->kn", w, flat)
             else:
                 prod = w @ flat
