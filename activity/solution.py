@@ -22,6 +22,10 @@ from .species import check_solute, parse_species, solute_key
 __all__ = ["Solution"]
 
 _NEUTRALITY = ("warn", "ignore", "raise")
+#: Within these sizes the species sums use numpy's einsum loop rather than a BLAS product
+#: (see Solution._sums; measured by benchmarks/bench_speed.py, rows inverse and monte-carlo).
+_EINSUM_ROWS = (32_768, 200_000)
+_EINSUM_SPECIES = 8
 
 
 def _items(composition: Any) -> list[tuple[str, Any]]:
@@ -311,7 +315,14 @@ class Solution:
             z = self._charges.astype(float)
             w = np.stack([z, 0.5 * np.abs(z), 0.5 * z * z, np.ones_like(z)])
             flat = self._m.reshape(len(self._species), -1)
-            sums = self._cache["sums"] = (w @ flat).reshape((4,) + self._shape)
+            if _EINSUM_ROWS[0] <= flat.shape[1] <= _EINSUM_ROWS[1] and flat.shape[0] <= _EINSUM_SPECIES:
+                # numpy's own loop: from ~4·10⁴ rows the BLAS product wakes its threads, which
+                # cost ~6 ms per call between other work on a shared 2-core machine (measured
+                # in the inverse and Monte Carlo rows of bench_speed); below, BLAS is faster
+                prod = np.einsum("ki,in->kn", w, flat)
+            else:
+                prod = w @ flat
+            sums = self._cache["sums"] = prod.reshape((4,) + self._shape)
             sums.setflags(write=False)
         return sums
 

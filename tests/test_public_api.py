@@ -164,7 +164,9 @@ SUBPACKAGE_NAMES = {
     ],
     "activity.workflows.model_choice": ["model_spread", "ModelSpread"],
     "activity.workflows.record": ["Record"],
-    "activity.io.files": ["write_text", "write_bytes"],
+    "activity.io.files": ["write_text", "write_bytes", "atomic_output"],
+    "activity.io.tables": ["read_table", "iter_table", "solution_from_table", "TableInput", "CHUNK_ROWS"],
+    "activity.io.streaming": ["NoteMerger", "SpooledTable", "json_document"],
 }
 
 

@@ -10,7 +10,7 @@ from __future__ import annotations
 import argparse
 from typing import Any
 
-from .common import add_output, add_solution_arguments, emit, show_cautions, solution_from_args
+from .common import add_output, add_solution_arguments, emit, solution_from_args
 
 __all__ = ["register", "electrode_from_spec"]
 
@@ -342,6 +342,7 @@ def _chain_options(
         trials=args.trials,
         seed=args.seed,
         coverage=_coverage(args.coverage),
+        progress=not getattr(args, "quiet", False),  # a bar of the Monte Carlo trials, on a terminal only
     )
     if args.u_temperature:
         opts["u_temperature"] = _u_temperature(args.u_temperature)
@@ -556,10 +557,7 @@ def cmd_invert(args: argparse.Namespace) -> int:
                 field="couple",
                 value=args.couple,
             )
-    labels = None
     if args.table:
-        from ..io.tables import read_table, solution_from_table
-
         if args.pairs or args.recipe or args.reading is not None:
             raise InputError(
                 "with --table the readings and the matrix come from the file", field="table", value=args.table
@@ -568,21 +566,7 @@ def cmd_invert(args: argparse.Namespace) -> int:
             raise InputError(
                 "uncertainty options take one reading; give the reading with --reading", field="table", value=args.table
             )
-        tbl = read_table(args.table)
-        if "reading" not in tbl.extra:
-            raise InputError("needs a 'reading [mV]' (or [V]) column", field="table", value=args.table)
-        unit, values = tbl.extra["reading"]
-        reading = values * parse_potential(f"1 {unit}", field="column 'reading'")
-        matrix = show_cautions(
-            solution_from_table(
-                tbl,
-                temperature=args.temperature,
-                pressure=args.pressure,
-                density=args.density,
-                balance_with=args.balance_with,
-            )
-        )
-        labels = tbl.labels
+        matrix = reading = None  # read chunk by chunk in activity.cli.batch
     else:
         if args.reading is None:
             raise InputError(
@@ -606,13 +590,22 @@ def cmd_invert(args: argparse.Namespace) -> int:
         )
         if species is None:
             raise InputError("say which species to solve for (--species)", field="species", value=None)
-        res = molality_from_emf(cell, reading, matrix, args.model, species=species, **kw)
+
+        def solve(reading: Any, matrix: Any) -> Any:
+            return molality_from_emf(cell, reading, matrix, args.model, species=species, **kw)
+
     else:
         species = args.species
-        res = molality_from_potential(electrode, reading, matrix, args.model, species=species, **kw)
-    if labels is not None:
-        emit(args, _render_table(args, labels, reading, res, matrix.T))
+
+        def solve(reading: Any, matrix: Any) -> Any:
+            return molality_from_potential(electrode, reading, matrix, args.model, species=species, **kw)
+
+    if args.table:
+        from .batch import invert_table
+
+        invert_table(args, solve)  # streamed in chunks, written whole at the end
         return 0
+    res = solve(reading, matrix)
     chain = None
     opts = _chain_options(args, matrix, {parse_species(k).name: v for k, v in sel.items()})
     if opts is not None:

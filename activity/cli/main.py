@@ -4,23 +4,50 @@ every error a user can cause into one line on standard error with exit status 2.
 from __future__ import annotations
 
 import argparse
+import importlib
 import sys
 from collections.abc import Callable, Sequence
 from typing import Any
 
 from .. import __version__
 from ..errors import ActivityError, call_with_notes
-from . import electrode, ise, ph, solution, speciate
 from .common import CAUTION, Parser
 
 __all__ = ["main", "build_parser", "CAUTION"]
 
-#: Command groups, in the order they are listed by ``--help``; each has ``register(subparsers)``.
-COMMAND_GROUPS = (solution, ise, ph, speciate, electrode)
+#: Modules of the command groups (in ``activity.cli``), in the order ``--help`` lists them;
+#: each has ``register(subparsers)``.
+GROUPS = ("solution", "ise", "ph", "speciate", "electrode")
+#: The group that declares each command (a test checks this against the groups' ``register``):
+#: a run of one command imports and registers only its group, which keeps start-up short.
+COMMANDS = {
+    "solution": "solution",
+    "models": "solution",
+    "demo": "solution",
+    "calibrate": "ise",
+    "ise-examples": "ise",
+    "ph-calibrate": "ph",
+    "ph-buffers": "ph",
+    "ph-harned": "ph",
+    "speciate": "speciate",
+    "potential": "electrode",
+    "reference": "electrode",
+    "cell": "electrode",
+    "invert": "electrode",
+}
 
 
-def build_parser() -> argparse.ArgumentParser:
-    """The full argument parser (imports no numpy)."""
+def __getattr__(name: str) -> Any:
+    if name == "COMMAND_GROUPS":  # the modules themselves, imported when asked for
+        return tuple(importlib.import_module(f".{g}", __package__) for g in GROUPS)
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
+_QUIET_HELP = "no progress bars on standard error (they are drawn only when it is a terminal)"
+
+
+def build_parser(groups: Sequence[str] = GROUPS) -> argparse.ArgumentParser:
+    """The argument parser of the command groups ``groups`` (default all; imports no numpy)."""
     parser = Parser(
         prog="activity",
         description="Activity-corrected Nernst engine: ionic strength, activity coefficients, "
@@ -28,9 +55,12 @@ def build_parser() -> argparse.ArgumentParser:
         epilog=CAUTION,
     )
     parser.add_argument("--version", action="version", version=f"activity {__version__}")
+    parser.add_argument("-q", "--quiet", action="store_true", help=_QUIET_HELP)
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=Parser)
-    for group in COMMAND_GROUPS:
-        group.register(sub)
+    for group in groups:
+        importlib.import_module(f".{group}", __package__).register(sub)
+    for command in {id(c): c for c in sub.choices.values()}.values():  # also after the command
+        command.add_argument("-q", "--quiet", action="store_true", default=argparse.SUPPRESS, help=_QUIET_HELP)
     return parser
 
 
@@ -78,8 +108,21 @@ def main(argv: Sequence[str] | None = None) -> int:
         sys.stdout, sys.stderr = saved
 
 
+def _command(argv: Sequence[str]) -> str | None:
+    """The command named on the command line (the first word that is not an option), or
+    None when help is asked for before it or no known command is named."""
+    for word in argv:
+        if word in ("-h", "--help"):
+            return None
+        if not word.startswith("-"):
+            return word if word in COMMANDS else None
+    return None
+
+
 def _main(argv: Sequence[str] | None) -> int:
-    parser = build_parser()
+    argv = sys.argv[1:] if argv is None else list(argv)
+    command = _command(argv)
+    parser = build_parser(GROUPS if command is None else (COMMANDS[command],))
     args = parser.parse_args(argv)
     if not getattr(args, "func", None):
         parser.print_help()

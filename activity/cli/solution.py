@@ -4,33 +4,23 @@ from __future__ import annotations
 
 import argparse
 
-from .common import CAUTION, add_output, add_solution_arguments, emit, output_format, show_cautions, solution_from_args
+from .common import CAUTION, add_output, add_solution_arguments, emit, output_format, solution_from_args
 
 __all__ = ["register"]
 
 
 def cmd_solution(args: argparse.Namespace) -> int:
-    from .render import solution_report, table_report
-
     form = output_format(args)
     if args.table:
         from ..errors import InputError
-        from ..io.tables import read_table, solution_from_table
+        from .batch import solution_table
 
         if args.pairs or args.recipe:
             raise InputError("give either --table FILE or a composition, not both", field="table", value=args.table)
-        tbl = read_table(args.table)
-        sol = show_cautions(
-            solution_from_table(
-                tbl,
-                temperature=args.temperature,
-                pressure=args.pressure,
-                density=args.density,
-                balance_with=args.balance_with,
-            )
-        )
-        emit(args, table_report(sol, tbl.labels, args.model, form=form))
+        solution_table(args, form)  # streamed in chunks, written whole at the end
         return 0
+    from .render import solution_report
+
     sol = solution_from_args(args)
     emit(args, solution_report(sol, args.model, form=form))
     return 0

@@ -90,7 +90,8 @@ def get_model(name: str, **params: Any) -> ActivityModel:
     'davies'
     """
     key = _normalise(name)
-    _load_entry_points()
+    if key not in _REGISTRY:  # entry points never replace a registered name: look only for others
+        _load_entry_points()
     if key not in _REGISTRY:
         raise InputError(f"unknown model; available: {', '.join(_REGISTRY)}", field="model", value=name)
     target = _REGISTRY[key]

@@ -19,11 +19,14 @@ import errno
 import os
 import stat
 import tempfile
+from collections.abc import Iterator
+from contextlib import contextmanager
 from pathlib import Path
+from typing import TextIO
 
 from ..errors import InputError
 
-__all__ = ["write_text", "write_bytes"]
+__all__ = ["write_text", "write_bytes", "atomic_output"]
 
 
 def _umask() -> int:
@@ -35,6 +38,35 @@ def _umask() -> int:
 def _fail(exc: OSError, path: str | Path) -> OSError:
     """The same error, naming the user's path instead of a temporary file."""
     return type(exc)(exc.errno, exc.strerror or str(exc), str(path))
+
+
+def _target(path: str | Path) -> tuple[str, Path, int | None]:
+    """('regular', target, mode) or ('stream', target, None) for the path the user named."""
+    user_path = str(path)
+    if user_path == "":
+        raise InputError("an empty file name", field="output", value=user_path)
+    target = Path(os.path.realpath(path))  # through symbolic links: the link stays, its target is written
+    try:
+        st = os.stat(target)
+    except FileNotFoundError:
+        st = None
+    except OSError as exc:
+        raise _fail(exc, user_path) from None
+    if st is not None and not stat.S_ISREG(st.st_mode):
+        if stat.S_ISCHR(st.st_mode) or stat.S_ISFIFO(st.st_mode):
+            return "stream", target, None
+        kind = "a directory" if stat.S_ISDIR(st.st_mode) else "not a regular file, a character device or a FIFO"
+        raise InputError(f"{kind}; give a file name", field="output", value=user_path)
+    return "regular", target, stat.S_IMODE(st.st_mode) if st is not None else 0o666 & ~_umask()
+
+
+def _temporary_beside(target: Path, user_path: str) -> tuple[int, str]:
+    try:
+        return tempfile.mkstemp(prefix=f".{target.name}.", dir=target.parent)
+    except FileNotFoundError:
+        raise OSError(errno.ENOENT, "no such directory", user_path) from None
+    except OSError as exc:
+        raise _fail(exc, user_path) from None
 
 
 def write_bytes(path: str | Path, data: bytes) -> None:
@@ -55,33 +87,15 @@ def write_bytes(path: str | Path, data: bytes) -> None:
     'one\\n'
     """
     user_path = str(path)
-    if user_path == "":
-        raise InputError("an empty file name", field="output", value=user_path)
-    target = Path(os.path.realpath(path))  # through symbolic links: the link stays, its target is written
-    try:
-        st = os.stat(target)
-    except FileNotFoundError:
-        st = None
-    except OSError as exc:
-        raise _fail(exc, user_path) from None
-    if st is not None and not stat.S_ISREG(st.st_mode):
-        if stat.S_ISCHR(st.st_mode) or stat.S_ISFIFO(st.st_mode):
-            try:
-                with open(target, "wb") as fh:
-                    fh.write(data)
-            except OSError as exc:
-                raise _fail(exc, user_path) from None
-            return
-        kind = "a directory" if stat.S_ISDIR(st.st_mode) else "not a regular file, a character device or a FIFO"
-        raise InputError(f"{kind}; give a file name", field="output", value=user_path)
-    mode = stat.S_IMODE(st.st_mode) if st is not None else 0o666 & ~_umask()
-    directory = target.parent
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", dir=directory)
-    except FileNotFoundError:
-        raise OSError(errno.ENOENT, "no such directory", user_path) from None
-    except OSError as exc:
-        raise _fail(exc, user_path) from None
+    kind, target, mode = _target(path)
+    if kind == "stream":
+        try:
+            with open(target, "wb") as fh:
+                fh.write(data)
+        except OSError as exc:
+            raise _fail(exc, user_path) from None
+        return
+    fd, tmp = _temporary_beside(target, user_path)
     try:
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
@@ -93,6 +107,73 @@ def write_bytes(path: str | Path, data: bytes) -> None:
         except FileNotFoundError:
             pass
         if isinstance(exc, OSError):
+            raise _fail(exc, user_path) from None
+        raise
+
+
+@contextmanager
+def atomic_output(path: str | Path | None) -> Iterator[TextIO]:
+    """A text stream (UTF-8) whose whole content reaches ``path`` when the block ends
+    normally, and nothing at all when it raises.
+
+    ``path`` None or ``'-'`` is standard output. For a regular file (or a new name) the
+    text goes to a temporary file beside it, renamed over it at the end (the rules of
+    :func:`write_bytes`); for standard output, a character device or a FIFO it is spooled
+    to an anonymous temporary file and copied at the end. Either way memory stays flat
+    however much is written, and an error half-way leaves no partial output.
+
+    Examples
+    --------
+    >>> import os, tempfile
+    >>> d = tempfile.mkdtemp(); p = os.path.join(d, "out.csv")
+    >>> with atomic_output(p) as out:
+    ...     _ = out.write("a,b\\n")
+    >>> open(p).read()
+    'a,b\\n'
+    >>> try:
+    ...     with atomic_output(os.path.join(d, "never.csv")) as out:
+    ...         _ = out.write("half")
+    ...         raise ValueError("a bad row")
+    ... except ValueError:
+    ...     pass
+    >>> sorted(os.listdir(d))
+    ['out.csv']
+    """
+    import sys
+
+    if path is None or str(path) == "-":
+        with tempfile.TemporaryFile("w+", encoding="utf-8", newline="") as spool:
+            yield spool
+            spool.seek(0)
+            while block := spool.read(1 << 20):
+                sys.stdout.write(block)
+            sys.stdout.flush()
+        return
+    user_path = str(path)
+    kind, target, mode = _target(path)
+    if kind == "stream":
+        with tempfile.TemporaryFile("w+", encoding="utf-8", newline="") as spool:
+            yield spool
+            spool.seek(0)
+            try:
+                with open(target, "w", encoding="utf-8", newline="") as fh:
+                    while block := spool.read(1 << 20):
+                        fh.write(block)
+            except OSError as exc:
+                raise _fail(exc, user_path) from None
+        return
+    fd, tmp = _temporary_beside(target, user_path)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
+            yield fh
+        os.chmod(tmp, mode)
+        os.replace(tmp, target)
+    except BaseException as exc:
+        try:
+            os.unlink(tmp)
+        except FileNotFoundError:
+            pass
+        if isinstance(exc, OSError) and exc.filename in (None, tmp):
             raise _fail(exc, user_path) from None
         raise
 

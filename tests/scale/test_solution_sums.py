@@ -93,3 +93,31 @@ def test_adopted_arrays_are_read_only_and_not_copied():
     sol = Solution._adopt(("Na+", "Cl-"), np.array([1, -1]), m, np.asarray(298.15), np.asarray(101325.0))
     assert sol.m is m and not m.flags.writeable
     np.testing.assert_allclose(sol.ionic_strength, [0.1, 0.2], rtol=1e-15)
+
+
+@settings(deadline=None, max_examples=30)
+@given(st.integers(1, 300_000), st.integers(1, 12), st.integers(0, 2**32 - 1))
+def test_sums_equal_the_blas_product_they_replace(n, n_species, seed):
+    """From 32 768 to 2·10⁵ rows and up to 8 species the sums come from einsum; the BLAS product they
+    replaced is kept here as the reference (1e-13 relative: summation order only)."""
+    rng = np.random.default_rng(seed)
+    names = ["Na+", "K+", "Ca^2+", "Mg^2+", "Cl-", "SO4^2-", "Br-", "NO3-", "Li+", "F-", "Sr^2+", "HCO3-"]
+    comp = {s: rng.uniform(0, 2.0, n) for s in names[:n_species]}
+    sol = Solution(comp, neutrality="ignore")
+    z = sol.charges.astype(float)
+    w = np.stack([z, 0.5 * np.abs(z), 0.5 * z * z, np.ones_like(z)])
+    old = w @ sol.m.reshape(n_species, -1)  # the kernel before
+    scale = np.abs(w) @ sol.m.reshape(n_species, -1)  # Σ|w m|: cancellation in Σ z m is not an error
+    np.testing.assert_array_less(np.abs(sol._sums().reshape(4, -1) - old), 1e-13 * scale + 1e-300)
+
+
+@pytest.mark.parametrize("n", [1, 32_767, 32_768, 150_000, 200_001])
+def test_sums_at_the_edges_of_the_einsum_window(n):
+    rng = np.random.default_rng(n)
+    comp = {s: rng.uniform(0, 2.0, n) for s in Z}
+    sol = Solution(comp, neutrality="ignore")
+    z = sol.charges.astype(float)
+    w = np.stack([z, 0.5 * np.abs(z), 0.5 * z * z, np.ones_like(z)])
+    old = w @ sol.m.reshape(len(z), -1)  # the kernel before, as the reference
+    scale = np.abs(w) @ sol.m.reshape(len(z), -1)
+    np.testing.assert_array_less(np.abs(sol._sums().reshape(4, -1) - old), 1e-13 * scale + 1e-300)
