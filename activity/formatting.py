@@ -86,38 +86,56 @@ def table(
     for row in cells:
         for j, c in enumerate(row):
             widths[j] = max(widths[j], len(c))
-    # a column is text if any cell in it is (cells saying "no value" do not count)
-    text_cols = {
-        j for j in range(len(widths)) if any(j < len(r) and r[j] not in _BLANKS and not _numeric(r[j]) for r in cells)
-    }
-    if width is not None:
-        # narrow the widest text columns a character at a time, so that the space is shared
-        # (one column squeezed to its floor wraps into a tall thin stack)
-        excess = sum(widths) + 2 * (len(widths) - 1) - width
-        while excess > 0:
-            shrinkable = [j for j in text_cols if widths[j] > max(12, len(headers[j]))]
-            if not shrinkable:
-                break
-            j = max(shrinkable, key=lambda k: (widths[k], k))  # ties: the rightmost (prose)
-            widths[j] -= 1
-            excess -= 1
+    text_cols = {j for j in range(len(widths)) if any(j < len(r) and is_text_cell(r[j]) for r in cells)}
+    widths = narrow(widths, text_cols, headers, width)
     lines = []
     if title:
         lines.extend(textwrap.wrap(title, width) if width else [title])
     lines.append("  ".join(h.ljust(w) for h, w in zip(headers, widths)).rstrip())
     lines.append("  ".join("-" * w for w in widths))
     for row in cells:
-        parts = [
-            textwrap.wrap(c, w, break_long_words=False) or [""] if len(c) > w else [c] for c, w in zip(row, widths)
-        ]
-        right = [j not in text_cols for j in range(len(row))]  # a column of numbers is right-aligned
-        for k in range(max(len(p) for p in parts)):
-            out = []
-            for p, w, r in zip(parts, widths, right):
-                c = p[k] if k < len(p) else ""
-                out.append(c.rjust(w) if r else c.ljust(w))
-            lines.append("  ".join(out).rstrip())
+        lines.extend(row_lines(row, widths, text_cols))
     return "\n".join(lines)
+
+
+def is_text_cell(c: str) -> bool:
+    """Whether a cell makes its column a text column (cells saying "no value" do not)."""
+    return c not in _BLANKS and not _numeric(c)
+
+
+def narrow(widths: Sequence[int], text_cols: set[int], headers: Sequence[str], width: int | None) -> list[int]:
+    """Column widths of a table kept within ``width`` characters by narrowing text columns.
+
+    The widest text column loses a character at a time (ties: the rightmost, usually prose),
+    so the narrowing is shared; no column goes below 12 characters or its header.
+    """
+    widths = list(widths)
+    if width is None:
+        return widths
+    excess = sum(widths) + 2 * (len(widths) - 1) - width
+    while excess > 0:
+        shrinkable = [j for j in text_cols if widths[j] > max(12, len(headers[j]))]
+        if not shrinkable:
+            break
+        j = max(shrinkable, key=lambda k: (widths[k], k))
+        widths[j] -= 1
+        excess -= 1
+    return widths
+
+
+def row_lines(row: Sequence[str], widths: Sequence[int], text_cols: set[int]) -> list[str]:
+    """The line(s) of one table row: text cells wrapped to their column, numbers right-aligned."""
+    import textwrap
+
+    right = [j not in text_cols for j in range(len(row))]
+    if all(len(c) <= w for c, w in zip(row, widths)):  # the common case: no wrapping
+        return ["  ".join(c.rjust(w) if r else c.ljust(w) for c, w, r in zip(row, widths, right)).rstrip()]
+    parts = [textwrap.wrap(c, w, break_long_words=False) or [""] if len(c) > w else [c] for c, w in zip(row, widths)]
+    out = []
+    for k in range(max(len(p) for p in parts)):
+        cells = [p[k] if k < len(p) else "" for p in parts]
+        out.append("  ".join(c.rjust(w) if r else c.ljust(w) for c, w, r in zip(cells, widths, right)).rstrip())
+    return out
 
 
 def _plain(obj: Any) -> Any:

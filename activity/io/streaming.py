@@ -22,7 +22,7 @@ import textwrap
 from collections.abc import Iterable, Iterator, Sequence
 from typing import Any, TextIO
 
-from ..formatting import _numeric, _plain, fmt
+from ..formatting import _plain, fmt, is_text_cell, narrow, row_lines
 
 __all__ = ["NoteMerger", "SpooledTable", "json_document", "json_value"]
 
@@ -128,25 +128,13 @@ class SpooledTable:
         widths = self.widths
         for j, col in enumerate(zip(*cells)):
             widths[j] = max(widths[j], max(map(len, col)))
-            if j not in self.text_cols and not all(map(_numeric, col)):
+            if j not in self.text_cols and any(map(is_text_cell, col)):
                 self.text_cols.add(j)
         self.rows += len(cells)
         pickle.dump(cells, self._spool, protocol=pickle.HIGHEST_PROTOCOL)
 
     def _layout(self) -> list[int]:
-        widths = list(self.widths)
-        headers, width = self.headers, self.width
-        if width is not None:
-            excess = sum(widths) + 2 * (len(widths) - 1) - width
-            while excess > 0:
-                shrinkable = [j for j in self.text_cols if widths[j] > max(12, len(headers[j]))]
-                if not shrinkable:
-                    break
-                j = max(shrinkable, key=lambda k: widths[k])
-                new = max(12, len(headers[j]), widths[j] - excess)
-                excess -= widths[j] - new
-                widths[j] = new
-        return widths
+        return narrow(self.widths, self.text_cols, self.headers, self.width)
 
     def lines(self) -> Iterator[str]:
         """The lines of the table (title, header, rule, rows); the spool is closed after."""
@@ -163,22 +151,7 @@ class SpooledTable:
                 except EOFError:
                     break
                 for row in cells:
-                    if all(len(c) <= w for c, w in zip(row, widths)):  # the common case: no wrapping
-                        yield "  ".join(
-                            c.rjust(w) if _numeric(c) else c.ljust(w) for c, w in zip(row, widths)
-                        ).rstrip()
-                        continue
-                    parts = [
-                        textwrap.wrap(c, w, break_long_words=False) or [""] if len(c) > w else [c]
-                        for c, w in zip(row, widths)
-                    ]
-                    right = [_numeric(c) for c in row]
-                    for k in range(max(len(p) for p in parts)):
-                        out = []
-                        for p, w, r in zip(parts, widths, right):
-                            c = p[k] if k < len(p) else ""
-                            out.append(c.rjust(w) if r else c.ljust(w))
-                        yield "  ".join(out).rstrip()
+                    yield from row_lines(row, widths, self.text_cols)
         finally:
             self.close()
 
