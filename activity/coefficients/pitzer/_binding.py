@@ -21,7 +21,7 @@ from typing import Any
 
 import numpy as np
 
-from ...constants import ZERO_CELSIUS
+from ...constants import T_REF, ZERO_CELSIUS
 from ._params import ParameterSet, basis
 
 __all__ = ["Bound", "bind"]
@@ -78,7 +78,8 @@ class Contraction:
         return plan
 
     def __call__(self, coef: np.ndarray, x: np.ndarray) -> np.ndarray:
-        """Contract with ``x`` (J, N); ``coef`` (nnz,) at one T or (nnz, N) with T per row.
+        """Contract with ``x`` (J, N); ``coef`` (nnz,) at one T, or with T per row (nnz, N) or
+        a list of nnz floats and (N,) arrays (:meth:`Bound.at`).
 
         A loop over the non-zero entries with in-place products on rows of the block (the
         kernel works on blocks of a few thousand rows, which stay in cache): no BLAS thread
@@ -88,7 +89,7 @@ class Contraction:
         out = np.zeros((self.nrows, N))
         if not len(self.cols):
             return out.reshape(self.lead + (N,))
-        c = coef.tolist() if coef.ndim == 1 else coef
+        c = coef.tolist() if isinstance(coef, np.ndarray) and coef.ndim == 1 else coef
         tmp = np.empty(N)
         for r, entries in self.plan:
             o = out[r]
@@ -220,7 +221,37 @@ class Bound:
                     self._cache.clear()
                 hit = self._cache[key] = self._evaluate(basis(T))
             return hit
-        return self._evaluate(basis(T))
+        return self._evaluate_rows(T)
+
+    def _evaluate_rows(self, T: np.ndarray) -> dict:
+        """Coefficients with a temperature per row: the T-independent ones (most of them)
+        stay Python floats, each distinct T-dependent one is one array of the rows, built
+        from the basis functions it uses only. Per contraction a list, indexed like the
+        vectors of one temperature."""
+        W = self._all_weights
+        vals: list = W[:, 0].tolist()
+        dep = np.flatnonzero(np.any(W[:, 1:] != 0, axis=1))
+        if len(dep):
+            used = np.flatnonzero(np.any(W[dep] != 0, axis=0)).tolist()
+            d = T - T_REF
+            funcs = {
+                1: lambda: 1.0 / T - 1.0 / T_REF,
+                2: lambda: np.log(T / T_REF),
+                3: lambda: d,
+                4: lambda: d * d,
+            }
+            b = {k: funcs[k]() for k in used if k}
+            made: dict = {}
+            for r in dep.tolist():
+                key = tuple(W[r].tolist())
+                if key not in made:
+                    v = None
+                    for k, bk in b.items():
+                        if key[k] != 0.0:
+                            v = key[k] * bk if v is None else v + key[k] * bk
+                    made[key] = v + key[0]
+                vals[r] = made[key]
+        return {k: vals[o : o + self._sizes[k]] for k, o in self._offsets.items()}
 
     def _evaluate(self, b: np.ndarray) -> dict:
         # One product of the stacked non-zero weights with the basis, without BLAS (einsum

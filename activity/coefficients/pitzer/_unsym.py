@@ -80,37 +80,68 @@ def _table() -> tuple[float, float, np.ndarray, np.ndarray]:
     return u0, h, np.ascontiguousarray(sp.x[:-1]), np.ascontiguousarray(sp.c.T)
 
 
+@functools.lru_cache(maxsize=1)
+def _pieces() -> tuple:
+    """:func:`_table` laid out for gathers: first knot, 1/spacing, knots, and the cubic's
+    coefficients and those of its derivative as separate contiguous vectors."""
+    u0, h, knots, c = _table()
+    c0, c1, c2, c3 = (np.ascontiguousarray(c[:, k]) for k in range(4))
+    return u0, 1.0 / h, knots, c0, c1, c2, c3, 3.0 * c0, 2.0 * c1, len(c) - 1
+
+
 def _ln_j(u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """S(u) = ln J(e^u) and dS/du from the cubic pieces (u inside the table)."""
-    u0, h, knots, c = _table()
-    i = np.floor((u - u0) * (1.0 / h)).astype(np.intp)
-    np.clip(i, 0, len(c) - 1, out=i)
-    t = u - knots[i]
-    ci = c[i]  # (N, 4)
-    c0, c1, c2, c3 = ci[:, 0], ci[:, 1], ci[:, 2], ci[:, 3]
-    S = ((c0 * t + c1) * t + c2) * t + c3
-    dS = (3.0 * c0 * t + 2.0 * c1) * t + c2
+    u0, inv_h, knots, c0, c1, c2, c3, d0, d1, last = _pieces()
+    i = np.floor((u - u0) * inv_h).astype(np.intp)
+    np.clip(i, 0, last, out=i)
+    t = u - knots.take(i)
+    S = c0.take(i)
+    S *= t
+    S += c1.take(i)
+    S *= t
+    S += c2.take(i)
+    S *= t
+    S += c3.take(i)
+    dS = d0.take(i)
+    dS *= t
+    dS += d1.take(i)
+    dS *= t
+    dS += c2.take(i)
     return S, dS
 
 
 def _j_xdj(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """J(x) and x J′(x) (what Eθ′ needs), x ≥ 0, continued outside the table as j_exact."""
     x = np.asarray(x, dtype=float)
-    shape = x.shape
-    x = x.reshape(-1)
-    xs = np.clip(x, _X_MIN, _X_MAX)
-    S, dS = _ln_j(np.log(xs))
+    with np.errstate(divide="ignore"):
+        return _j_xdj_log(np.log(x.reshape(-1)), x.reshape(-1), shape=x.shape)
+
+
+_U_MIN, _U_MAX = float(np.log(_X_MIN)), float(np.log(_X_MAX))
+
+
+def _j_xdj_log(lnx: np.ndarray, x: np.ndarray | None = None, shape: tuple | None = None):
+    """J and x J′ from ln x (1-d; −inf for x = 0): the kernel passes ln x = ln p + ln(6Aφ√I)
+    for the three charge products p of a pair, so one logarithm serves all three. ``x``
+    (if known) is used only outside the table."""
+    u = np.clip(lnx, _U_MIN, _U_MAX)
+    S, dS = _ln_j(u)
     J = np.exp(S)
-    xdJ = J * dS * (x / xs)  # x J′ = J dS/du · x/xs (x/xs = 1 inside the table)
-    low, high = x < _X_MIN, x > _X_MAX
-    if np.any(low):
+    xdJ = J * dS
+    low, high = lnx < _U_MIN, lnx > _U_MAX
+    if np.any(low) or np.any(high):
+        if x is None:
+            x = np.exp(lnx)
+        xs = np.clip(x, _X_MIN, _X_MAX)
+        xdJ *= x / xs  # x J′ = J dS/du · x/xs (x/xs = 1 inside the table)
         J0 = J
         J = np.where(low, J0 * (x / _X_MIN) ** 2, J)
         xdJ = np.where(low, 2.0 * J0 * (x / _X_MIN) ** 2, xdJ)
-    if np.any(high):
         J = np.where(high, J + (x - _X_MAX) / 4.0, J)
         xdJ = np.where(high, 0.25 * x, xdJ)
-    return J.reshape(shape), xdJ.reshape(shape)
+    if shape is not None:
+        return J.reshape(shape), xdJ.reshape(shape)
+    return J, xdJ
 
 
 def j_exact(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -188,10 +219,13 @@ def e_theta(zi: float, zj: float, Aphi, I: np.ndarray, cache: dict | None = None
     Is = np.where(pos, I, 1.0)
     base = 6.0 * Aphi * np.sqrt(Is)
     cache = {} if cache is None else cache
+    if "ln_base" not in cache:
+        cache["ln_base"] = np.log(base).reshape(-1)  # one logarithm for every charge product
 
     def jx(p):
         if p not in cache:
-            cache[p] = _j_xdj(p * base)
+            J, xdJ = _j_xdj_log(cache["ln_base"] + np.log(p))
+            cache[p] = (J.reshape(base.shape), xdJ.reshape(base.shape))
         return cache[p]
 
     zz = zi * zj
