@@ -20,13 +20,20 @@ Requires the optional extra: ``pip install 'activity[dask]'``.
 from __future__ import annotations
 
 import argparse
+import os
 import resource
 import subprocess
 import sys
 import time
 import warnings
 
-from _common import ROOT  # noqa: F401  (puts this checkout on sys.path)
+# One BLAS/OpenMP thread per process, set before numpy loads (the worker processes inherit
+# the environment): the baseline is then one core, and two workers on two cores do not
+# each start a second BLAS thread (Solution's weighted sums are a matrix product).
+for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_var, "1")
+
+from _common import ROOT  # noqa: E402, F401  (puts this checkout on sys.path)
 
 SEAWATER = {
     "Na+": 0.486,
@@ -51,7 +58,6 @@ def pitzer_graph(n, chunk):
 
 
 def run_pitzer(n, chunk):
-    import os
 
     import dask
     import distributed
