@@ -8,8 +8,7 @@ one-temperature path. The numbers are the same either way (checked against the m
 import numpy as np
 import pytest
 
-from activity.coefficients import get_model
-from activity.coefficients import parallel
+from activity.coefficients import get_model, parallel
 from activity.solution import Solution
 
 da = pytest.importorskip("dask.array")
