@@ -116,6 +116,8 @@ _CONTRACTIONS = {
     "psiA": ("psiA", None),
     "psiAM": ("psiAM", None),
     "psiCX": ("psiCX", None),
+    "psiAMu": ("psiAMu", None),
+    "psiCXu": ("psiCXu", None),
     "lam": ("lam", None),
     "zN": ("zN", None),
     "zC": ("zC", None),
@@ -335,6 +337,9 @@ def bind(params: ParameterSet, species: tuple, charges: np.ndarray) -> Bound:
         psiCX=psc.transpose(2, 0, 1, 3).reshape(na, nc * nc, 5),  # [X, (c, c')]
         psiA=psa.transpose(0, 2, 1, 3).reshape(na, nc * na, 5),  # [X, (c, a')]: psa[X, a', c] → [X, c, a']
         psiAM=psa.transpose(2, 0, 1, 3).reshape(nc, na * na, 5),  # [M, (a, a')]
+        # the same over the unordered pairs a < a' (c < c') only: ½ Σ_{a,a'} = Σ_{a<a'}
+        psiAMu=psa[np.triu_indices(na, 1)].transpose(1, 0, 2).reshape(nc, na * (na - 1) // 2, 5),
+        psiCXu=psc[np.triu_indices(nc, 1)].transpose(1, 0, 2).reshape(na, nc * (nc - 1) // 2, 5),
     )
     lam = np.zeros((ns, ns, 5))
     zeta = np.zeros((nn, nc, na, 5))

@@ -60,6 +60,17 @@ def _outer(u: np.ndarray, v: np.ndarray) -> np.ndarray:
     return (u[:, None, :] * v[None, :, :]).reshape(u.shape[0] * v.shape[0], u.shape[1])
 
 
+def _pairs(u: np.ndarray) -> np.ndarray:
+    """Products u_i u_j over the pairs i < j in row order (0,1), (0,2), …, (1,2), …"""
+    n = u.shape[0]
+    out = np.empty((n * (n - 1) // 2, u.shape[1]))
+    k = 0
+    for i in range(n - 1):
+        np.multiply(u[i], u[i + 1 :], out=out[k : k + n - 1 - i])
+        k += n - 1 - i
+    return out
+
+
 def _rows(idx: np.ndarray) -> slice | np.ndarray:
     """A slice when the indices are a contiguous ascending run (a view, no copy), else them."""
     idx = np.asarray(idx, dtype=np.intp)
@@ -156,12 +167,12 @@ def evaluate(bound, P: dict, rowwise: bool, m: np.ndarray, I: np.ndarray, Aphi, 
     # B terms: B_ca = β0 + Σ_k Bk_ca g(α_k √I), one pass per distinct α
     BA = dot("b0", ma)  # Σ_a β0_ca m_a, becomes Σ_a B_ca m_a
     BC = dot("b0T", mc) if want_lng else None
-    SB0 = np.sum(mc * BA, axis=0) if want_pg else 0.0
+    SB0 = _vdot(mc, BA) if want_pg else 0.0
     Sg, Sphi, Sp = 0.0, SB0, 0.0
     if len(bound.alphas):
         BkA = dot("Bk", ma)  # (K, n_c, N)
         BkC = dot("BkT", mc) if want_lng else None
-        Pk = np.sum(mc[None] * BkA, axis=1)  # Σ_ca m_c m_a Bk_ca, (K, N)
+        Pk = np.einsum("cn,kcn->kn", mc, BkA)  # Σ_ca m_c m_a Bk_ca, (K, N)
         with np.errstate(divide="ignore", invalid="ignore"):
             inv_I = np.where(I > 0, 1.0 / I, 0.0)
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -181,7 +192,7 @@ def evaluate(bound, P: dict, rowwise: bool, m: np.ndarray, I: np.ndarray, Aphi, 
                     e *= Pk[k]
                     Sphi = Sphi + e
     CA = dot("C", ma)
-    SC = np.sum(mc * CA, axis=0)
+    SC = _vdot(mc, CA)
     # like-charge mixing: θ by contraction, Eθ by charge class
     PhiC = dot("thc", mc) if f["thc"] else None
     PhiA = dot("tha", ma) if f["tha"] else None
@@ -217,14 +228,10 @@ def evaluate(bound, P: dict, rowwise: bool, m: np.ndarray, I: np.ndarray, Aphi, 
         CC = dot("CT", mc)
         CC *= Z
         la += CC
-        if f["psiAM"]:
-            t = dot("psiAM", _outer(ma, ma))
-            t *= 0.5
-            lc += t
-        if f["psiCX"]:
-            t = dot("psiCX", _outer(mc, mc))
-            t *= 0.5
-            la += t
+        if f["psiAMu"]:
+            lc += dot("psiAMu", _pairs(ma))
+        if f["psiCXu"]:
+            la += dot("psiCXu", _pairs(mc))
         for rows, groups in ((lc, lay.zc_groups), (la, lay.za_groups)):
             for q, r in groups:
                 rows[r] += (q * q) * F + q * SC
@@ -245,14 +252,14 @@ def evaluate(bound, P: dict, rowwise: bool, m: np.ndarray, I: np.ndarray, Aphi, 
     # 2 Σ_{i<j} m_i m_j Φ_ij and 2 Σ_{i<j} m_i m_j Σ_k m_k ψ_ijk
     sPhi = 2.0 * (sec + sea)
     if PhiC is not None:
-        sPhi = sPhi + np.sum(mc * PhiC, axis=0)
+        sPhi = sPhi + _vdot(mc, PhiC)
     if PhiA is not None:
-        sPhi = sPhi + np.sum(ma * PhiA, axis=0)
+        sPhi = sPhi + _vdot(ma, PhiA)
     sPsi = 0.0
     if PsiC is not None:
-        sPsi = sPsi + np.sum(mc * PsiC, axis=0)
+        sPsi = sPsi + _vdot(mc, PsiC)
     if PsiA is not None:
-        sPsi = sPsi + np.sum(ma * PsiA, axis=0)
+        sPsi = sPsi + _vdot(ma, PsiA)
     if "phi" in want:
         acc = 2.0 * (-Aphi * I * sI / opb + Sphi + Z * SC + 0.5 * (sPhi + sPsi) + I * (spc + spa))
         acc += lam_q + 2.0 * zeta_q
@@ -262,6 +269,11 @@ def evaluate(bound, P: dict, rowwise: bool, m: np.ndarray, I: np.ndarray, Aphi, 
     if "gex" in want:
         out["gex"] = -Aphi * (4.0 * I / B_CONST) * ln1 + 2.0 * (SB0 + Sg) + Z * SC + sPhi + 0.5 * sPsi + lam_q + zeta_q
     return out
+
+
+def _vdot(x: np.ndarray, y: np.ndarray) -> np.ndarray:
+    """Σ_i x_i y_i over the first axis in one pass (no product array)."""
+    return np.einsum("in,in->n", x, y)
 
 
 def _weighted_sum(w: list, nz: list, x: np.ndarray) -> np.ndarray:

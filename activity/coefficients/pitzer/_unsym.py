@@ -222,14 +222,15 @@ def e_theta(zi: float, zj: float, Aphi, I: np.ndarray, cache: dict | None = None
     if "ln_base" not in cache:
         cache["ln_base"] = np.log(base).reshape(-1)  # one logarithm for every charge product
 
-    def jx(p):
-        if p not in cache:
-            J, xdJ = _j_xdj_log(cache["ln_base"] + np.log(p))
-            cache[p] = (J.reshape(base.shape), xdJ.reshape(base.shape))
-        return cache[p]
-
     zz = zi * zj
-    (Jij, xdij), (Jii, xdii), (Jjj, xdjj) = jx(zz), jx(zi * zi), jx(zj * zj)
+    todo = [p for p in dict.fromkeys((zz, zi * zi, zj * zj)) if p not in cache]
+    if todo:  # the missing charge products in one pass over (len(todo), N) values
+        lnx = cache["ln_base"][None, :] + np.log(np.asarray(todo, dtype=float))[:, None]
+        J, xdJ = _j_xdj_log(lnx.reshape(-1))
+        J, xdJ = J.reshape(len(todo), -1), xdJ.reshape(len(todo), -1)
+        for r, p in enumerate(todo):
+            cache[p] = (J[r].reshape(base.shape), xdJ[r].reshape(base.shape))
+    (Jij, xdij), (Jii, xdii), (Jjj, xdjj) = cache[zz], cache[zi * zi], cache[zj * zj]
     et = zz / (4.0 * Is) * (Jij - 0.5 * Jii - 0.5 * Jjj)
     etp = -et / Is + zz / (8.0 * Is * Is) * (xdij - 0.5 * xdii - 0.5 * xdjj)
     return np.where(pos, et, 0.0), np.where(pos, etp, 0.0)
