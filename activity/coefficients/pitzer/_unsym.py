@@ -83,30 +83,37 @@ def _table() -> tuple[float, float, np.ndarray, np.ndarray]:
 @functools.lru_cache(maxsize=1)
 def _pieces() -> tuple:
     """:func:`_table` laid out for gathers: first knot, 1/spacing, knots, and the cubic's
-    coefficients and those of its derivative as separate contiguous vectors."""
+    four coefficients as separate contiguous vectors."""
     u0, h, knots, c = _table()
     c0, c1, c2, c3 = (np.ascontiguousarray(c[:, k]) for k in range(4))
-    return u0, 1.0 / h, knots, c0, c1, c2, c3, 3.0 * c0, 2.0 * c1, len(c) - 1
+    return u0, 1.0 / h, knots, c0, c1, c2, c3, len(c) - 1
 
 
 def _ln_j(u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """S(u) = ln J(e^u) and dS/du from the cubic pieces (u inside the table)."""
-    u0, inv_h, knots, c0, c1, c2, c3, d0, d1, last = _pieces()
+    """S(u) = ln J(e^u) and dS/du from the cubic pieces (u inside the table).
+
+    S = ((a t + b) t + c) t + d and dS/du = (3 a t + 2 b) t + c with t = u − knot, from
+    one gather of each coefficient.
+    """
+    u0, inv_h, knots, c0, c1, c2, c3, last = _pieces()
     i = np.floor((u - u0) * inv_h).astype(np.intp)
     np.clip(i, 0, last, out=i)
     t = u - knots.take(i)
-    S = c0.take(i)
+    at = c0.take(i)
+    at *= t
+    b = c1.take(i)
+    c = c2.take(i)
+    S = at + b
     S *= t
-    S += c1.take(i)
-    S *= t
-    S += c2.take(i)
+    S += c
     S *= t
     S += c3.take(i)
-    dS = d0.take(i)
+    at *= 3.0
+    b *= 2.0
+    dS = at
+    dS += b
     dS *= t
-    dS += d1.take(i)
-    dS *= t
-    dS += c2.take(i)
+    dS += c
     return S, dS
 
 
