@@ -67,15 +67,22 @@ class Contraction:
     @property
     def plan(self) -> tuple:
         """((row, ((col, k), ...)), ...): per output row, its columns and coefficient index."""
-        plan = self.__dict__.get("_plan")
-        if plan is None:
+        return self._prepared[1]
+
+    @property
+    def _prepared(self) -> tuple:
+        """(number of rows, plan, rows without entries), formed once."""
+        got = self.__dict__.get("_prep")
+        if got is None:
             ends = list(self.starts[1:]) + [len(self.cols)]
             plan = tuple(
                 (int(r), tuple((int(self.cols[k]), k) for k in range(s, e)))
                 for r, s, e in zip(self.urows, self.starts, ends)
             )
-            object.__setattr__(self, "_plan", plan)
-        return plan
+            empty = sorted(set(range(self.nrows)) - {r for r, _ in plan})
+            got = (self.nrows, plan, empty)
+            object.__setattr__(self, "_prep", got)
+        return got
 
     def __call__(self, coef: np.ndarray, x: np.ndarray) -> np.ndarray:
         """Contract with ``x`` (J, N); ``coef`` (nnz,) at one T, or with T per row (nnz, N) or
@@ -86,12 +93,15 @@ class Contraction:
         pool, no multiplication of zeros, no gathered copy of ``x``.
         """
         N = x.shape[1]
-        out = np.zeros((self.nrows, N))
-        if not len(self.cols):
+        nrows, plan, empty = self._prepared
+        out = np.empty((nrows, N))
+        if empty:
+            out[empty] = 0.0
+        if not plan:
             return out.reshape(self.lead + (N,))
         c = coef.tolist() if isinstance(coef, np.ndarray) and coef.ndim == 1 else coef
         tmp = np.empty(N)
-        for r, entries in self.plan:
+        for r, entries in plan:
             o = out[r]
             (j, k), rest = entries[0], entries[1:]
             np.multiply(x[j], c[k], out=o)
