@@ -46,9 +46,13 @@ def _g_funcs_e(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     any_small = bool(np.any(small))
     xs = np.where(small, 1.0, x) if any_small else x
     e = np.exp(-xs)
-    x2 = xs * xs
-    g = 2.0 * (1.0 - (1.0 + xs) * e) / x2
-    gp = -2.0 * (1.0 - (1.0 + xs + 0.5 * x2) * e) / x2
+    r = xs * xs
+    np.divide(2.0, r, out=r)
+    g = xs + 1.0
+    g *= e
+    np.subtract(1.0, g, out=g)
+    g *= r  # g = 2 [1 − (1 + x) e^(−x)] / x²
+    gp = e - g  # g′ = −2 [1 − (1 + x + x²/2) e^(−x)] / x² = e^(−x) − g
     if not any_small:
         return g, gp, e
     gs = 1.0 - x * (2.0 / 3.0 - x * (0.25 - x * (1.0 / 15.0 - x / 72.0)))

@@ -96,18 +96,18 @@ def _ln_j(u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     one gather of each coefficient.
     """
     u0, inv_h, knots, c0, c1, c2, c3, last = _pieces()
-    i = np.floor((u - u0) * inv_h).astype(np.intp)
-    np.clip(i, 0, last, out=i)
-    t = u - knots.take(i)
-    at = c0.take(i)
+    # u ≥ u0, so truncation is the floor; take(mode="clip") puts u = u_max in the last piece
+    i = ((u - u0) * inv_h).astype(np.intp)
+    t = u - knots.take(i, mode="clip")
+    at = c0.take(i, mode="clip")
     at *= t
-    b = c1.take(i)
-    c = c2.take(i)
+    b = c1.take(i, mode="clip")
+    c = c2.take(i, mode="clip")
     S = at + b
     S *= t
     S += c
     S *= t
-    S += c3.take(i)
+    S += c3.take(i, mode="clip")
     at *= 3.0
     b *= 2.0
     dS = at
@@ -135,8 +135,8 @@ def _j_xdj_log(lnx: np.ndarray, x: np.ndarray | None = None, shape: tuple | None
     S, dS = _ln_j(u)
     J = np.exp(S)
     xdJ = J * dS
-    low, high = lnx < _U_MIN, lnx > _U_MAX
-    if np.any(low) or np.any(high):
+    if lnx.size and (lnx.min() < _U_MIN or lnx.max() > _U_MAX):
+        low, high = lnx < _U_MIN, lnx > _U_MAX
         if x is None:
             x = np.exp(lnx)
         xs = np.clip(x, _X_MIN, _X_MAX)
