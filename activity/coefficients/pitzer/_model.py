@@ -19,8 +19,12 @@ from ._params import ParameterSet, combine
 
 __all__ = ["PitzerModel"]
 
-#: Rows evaluated per block: bounds temporary memory, keeps blocks in cache.
-CHUNK = 8192
+#: Rows evaluated per block: bounds temporary memory, keeps blocks in cache. Measured on the
+#: 8-ion seawater set (CPU time of interleaved runs, 10⁶ rows, a loaded 2-core machine): one T
+#: 16384 rows 1.18x faster than 8192, T per row the same; 32768 and more about 2x slower (the
+#: blocks leave the cache). 16000 keeps a row of one quantity (125 KiB)
+#: under glibc's default 128 KiB mmap threshold, so temporaries come from the heap.
+CHUNK = 16000
 
 
 class PitzerModel(ActivityModel):
