@@ -193,14 +193,16 @@ class Bound:
                 out = positive[i] if out is None else out & positive[i]
             return out
 
+        I_top = float(np.max(I)) if N else 0.0
         for label, idx, i_max, t_lo, t_hi in self.checks:
+            # 1e-9 (relative for I, in K for T): round-off slack, as in the model's check
+            i_check = np.isfinite(i_max) and I_top > i_max * (1 + 1e-9)  # else no row can exceed
             if scalar_T:
                 t_out = bool(T < t_lo - 1e-9 or T > t_hi + 1e-9)
-                if not np.isfinite(i_max) and not t_out:
+                if not i_check and not t_out:
                     continue
-            # 1e-9 (relative for I, in K for T): round-off slack, as in the model's check
             pres = present(idx)
-            high = pres & (I > i_max * (1 + 1e-9)) if np.isfinite(i_max) else None
+            high = pres & (I > i_max * (1 + 1e-9)) if i_check else None
             if scalar_T:
                 cold = pres if t_out else None
             else:

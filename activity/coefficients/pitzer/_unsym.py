@@ -222,8 +222,9 @@ def e_theta(zi: float, zj: float, Aphi, I: np.ndarray, cache: dict | None = None
         return z, z.copy()
     # Below I = 1e-20 mol/kg the terms (multiplied by m_i m_j ≤ 4I²) are negligible, and
     # Eθ′ ~ 1/I² would overflow; they are set to 0 there.
-    pos = I > 1e-20
-    Is = np.where(pos, I, 1.0)
+    all_pos = bool(I.size) and float(np.min(I)) > 1e-20
+    pos = True if all_pos else I > 1e-20
+    Is = I if all_pos else np.where(pos, I, 1.0)
     base = 6.0 * Aphi * np.sqrt(Is)
     cache = {} if cache is None else cache
     if "ln_base" not in cache:
@@ -240,4 +241,6 @@ def e_theta(zi: float, zj: float, Aphi, I: np.ndarray, cache: dict | None = None
     (Jij, xdij), (Jii, xdii), (Jjj, xdjj) = cache[zz], cache[zi * zi], cache[zj * zj]
     et = zz / (4.0 * Is) * (Jij - 0.5 * Jii - 0.5 * Jjj)
     etp = -et / Is + zz / (8.0 * Is * Is) * (xdij - 0.5 * xdii - 0.5 * xdjj)
+    if all_pos:
+        return et, etp
     return np.where(pos, et, 0.0), np.where(pos, etp, 0.0)
