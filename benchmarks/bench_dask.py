@@ -101,13 +101,15 @@ def run_pitzer(n, chunk):
     t_one = 0.5 * (t_a + t_b)
     cpu_two = sum(after[w] - before[w] for w in after)
     same = max(abs(a - b) for a, b in zip(one, two))
-    print(f"Pitzer, {n:.0e} rows in chunks of {chunk:.0e}, mean log10 γ of 8 species (load average {load:.1f}):")
+    print(f"Pitzer, {n:.0e} rows in chunks of {chunk:.0e}, mean log10 γ of 8 species", end="")
+    print(f" (load average {load:.1f}):")
     print(f"  one process (sync scheduler)          {t_one:8.2f} s   {n / t_one:12,.0f} rows/s", end="")
     print(f"  (runs {t_a:.2f}, {t_b:.2f} s)")
     print(f"  LocalCluster, 2 worker processes       {t_two:8.2f} s   {n / t_two:12,.0f} rows/s")
     print(f"  speed-up {t_one / t_two:.2f}x (target ≥ 1.7 on 2 free cores); results differ by {same:.1e}")
     print(
-        f"  CPU: one process {cpu_one:.1f} s; the workers {cpu_two:.1f} s in all = {cpu_two / t_two:.2f} cores "
+        f"  CPU: one process {cpu_one:.1f} s; the workers {cpu_two:.1f} s in all = "
+        f"{cpu_two / t_two:.2f} cores "
         "busy on average (2 when both cores are free)"
     )
 

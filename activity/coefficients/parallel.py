@@ -114,7 +114,8 @@ def _split(stacked: Any, species: tuple, in_range: bool) -> dict[str, Any]:
 
 def _numpy(model, species, output, in_range, values):
     fixed, arrays = _fixed(values)
-    stacked = _evaluate_block(model, species, output, in_range, fixed, *[np.asarray(a, dtype=float) for a in arrays])
+    blocks = [np.asarray(a, dtype=float) for a in arrays]
+    stacked = _evaluate_block(model, species, output, in_range, fixed, *blocks)
     return _split(stacked, species, in_range)
 
 

@@ -46,7 +46,8 @@ def test_scalar_temperature_reaches_each_block_as_one_value(seen, kind):
     g = parallel.activity_coefficients(inp, "pitzer", T=310.0, P=2e5)
     got = {k: np.asarray(v.compute(scheduler="sync") if kind == "dask" else v) for k, v in g.items()}
     assert seen and all(int(np.prod(s)) == 1 for s in seen)  # one T per block, never a row array
-    ref = get_model("pitzer").activity_coefficients(Solution(comp, T=310.0, P=2e5, neutrality="ignore"), warn=False)
+    sol = Solution(comp, T=310.0, P=2e5, neutrality="ignore")
+    ref = get_model("pitzer").activity_coefficients(sol, warn=False)
     for s in comp:
         np.testing.assert_allclose(got[s], ref[s], rtol=1e-14)  # round-off only
 
@@ -54,7 +55,8 @@ def test_scalar_temperature_reaches_each_block_as_one_value(seen, kind):
 def test_temperature_array_still_goes_per_row(seen):
     comp = _comp(60)
     T = np.linspace(280.0, 320.0, 60)
-    g = parallel.activity_coefficients({k: da.from_array(v, chunks=20) for k, v in comp.items()}, "pitzer", T=T)
+    dcomp = {k: da.from_array(v, chunks=20) for k, v in comp.items()}
+    g = parallel.activity_coefficients(dcomp, "pitzer", T=T)
     got = g["Na+"].compute(scheduler="sync")
     assert seen and all(int(np.prod(s)) == 20 for s in seen)
     ref = get_model("pitzer").activity_coefficients(Solution(comp, T=T, neutrality="ignore"), warn=False)

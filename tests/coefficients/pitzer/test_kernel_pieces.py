@@ -122,7 +122,8 @@ def test_coefficients_per_row_equal_the_dense_evaluation(seed, n):
     rows = bound.at(T)
     dense = bound._evaluate(basis(T))  # every coefficient as one product with the 5 basis functions
     for name, ref in dense.items():
-        got = np.array([np.broadcast_to(np.asarray(c, dtype=float), (n,)) for c in rows[name]]).reshape(ref.shape)
+        got = np.array([np.broadcast_to(np.asarray(c, dtype=float), (n,)) for c in rows[name]])
+        got = got.reshape(ref.shape)
         np.testing.assert_allclose(got, ref, rtol=1e-13, atol=1e-15)  # sums of the same terms, other order
     W = bound._all_weights
     n_dep = int(np.count_nonzero(np.any(W[:, 1:] != 0, axis=1)))
