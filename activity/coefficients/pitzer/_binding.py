@@ -194,17 +194,20 @@ class Bound:
             return out
 
         I_top = float(np.max(I)) if N else 0.0
+        T_bot, T_top = (float(np.min(T)), float(np.max(T))) if T.size else (0.0, 0.0)
         for label, idx, i_max, t_lo, t_hi in self.checks:
-            # 1e-9 (relative for I, in K for T): round-off slack, as in the model's check
-            i_check = np.isfinite(i_max) and I_top > i_max * (1 + 1e-9)  # else no row can exceed
-            if scalar_T:
-                t_out = bool(T < t_lo - 1e-9 or T > t_hi + 1e-9)
-                if not i_check and not t_out:
-                    continue
+            # 1e-9 (relative for I, in K for T): round-off slack, as in the model's check.
+            # A limit that no row reaches (I below it, every T inside the range) costs nothing.
+            i_check = np.isfinite(i_max) and I_top > i_max * (1 + 1e-9)
+            t_check = T_bot < t_lo - 1e-9 or T_top > t_hi + 1e-9
+            if not i_check and not t_check:
+                continue
             pres = present(idx)
             high = pres & (I > i_max * (1 + 1e-9)) if i_check else None
-            if scalar_T:
-                cold = pres if t_out else None
+            if not t_check:
+                cold = None
+            elif scalar_T:
+                cold = pres
             else:
                 cold = pres & ((T < t_lo - 1e-9) | (T > t_hi + 1e-9))
             nh = int(np.count_nonzero(high)) if high is not None else 0
