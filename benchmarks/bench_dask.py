@@ -20,13 +20,24 @@ Requires the optional extra: ``pip install 'activity[dask]'``.
 from __future__ import annotations
 
 import argparse
+import os
 import resource
 import subprocess
 import sys
 import time
 import warnings
 
-from _common import ROOT  # noqa: F401  (puts this checkout on sys.path)
+# One BLAS/OpenMP thread per process, set before numpy loads (the worker processes inherit
+# the environment): the baseline is then one core, and two workers on two cores do not
+# each start a second BLAS thread (Solution's weighted sums are a matrix product).
+for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_var, "1")
+# The workers' sampling profiler (a thread that takes the GIL every 10 ms, for the dashboard,
+# which is off here) measured 1.15x more worker CPU per task on this graph; off, as for any
+# throughput run.
+os.environ.setdefault("DASK_DISTRIBUTED__WORKER__PROFILE__ENABLED", "False")
+
+from _common import ROOT  # noqa: E402, F401  (puts this checkout on sys.path)
 
 SEAWATER = {
     "Na+": 0.486,
@@ -51,8 +62,6 @@ def pitzer_graph(n, chunk):
 
 
 def run_pitzer(n, chunk):
-    import os
-
     import dask
     import distributed
 
@@ -66,9 +75,15 @@ def run_pitzer(n, chunk):
 
     warnings.simplefilter("ignore")
     graph = pitzer_graph(n, chunk)
-    start = time.perf_counter()
-    one = dask.compute(*graph, scheduler="sync")
-    t_one = time.perf_counter() - start
+    dask.compute(*pitzer_graph(chunk, chunk), scheduler="sync")  # warm: imports, parameters, J table
+
+    def one_process():
+        start, cpu = time.perf_counter(), time.process_time()
+        out = dask.compute(*graph, scheduler="sync")
+        return out, time.perf_counter() - start, time.process_time() - cpu
+
+    one, t_a, cpu_one = one_process()
+    load = os.getloadavg()[0]
     with (
         distributed.LocalCluster(
             n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None, silence_logs=40
@@ -77,14 +92,26 @@ def run_pitzer(n, chunk):
     ):
         client.run(lambda: __import__("activity.coefficients.pitzer"))  # warm the workers' imports
         dask.compute(*pitzer_graph(chunk, chunk))  # and the model's parameter set in each worker
+        before = client.run(time.process_time)
         start = time.perf_counter()
         two = dask.compute(*graph)
         t_two = time.perf_counter() - start
+        after = client.run(time.process_time)
+    _, t_b, _ = one_process()  # the baseline again after the cluster: the load drifts
+    t_one = 0.5 * (t_a + t_b)
+    cpu_two = sum(after[w] - before[w] for w in after)
     same = max(abs(a - b) for a, b in zip(one, two))
-    print(f"Pitzer, {n:.0e} rows in chunks of {chunk:.0e}, mean log10 γ of 8 species:")
-    print(f"  one process (sync scheduler)          {t_one:8.2f} s   {n / t_one:12,.0f} rows/s")
+    print(f"Pitzer, {n:.0e} rows in chunks of {chunk:.0e}, mean log10 γ of 8 species", end="")
+    print(f" (load average {load:.1f}):")
+    print(f"  one process (sync scheduler)          {t_one:8.2f} s   {n / t_one:12,.0f} rows/s", end="")
+    print(f"  (runs {t_a:.2f}, {t_b:.2f} s)")
     print(f"  LocalCluster, 2 worker processes       {t_two:8.2f} s   {n / t_two:12,.0f} rows/s")
     print(f"  speed-up {t_one / t_two:.2f}x (target ≥ 1.7 on 2 free cores); results differ by {same:.1e}")
+    print(
+        f"  CPU: one process {cpu_one:.1f} s; the workers {cpu_two:.1f} s in all = "
+        f"{cpu_two / t_two:.2f} cores "
+        "busy on average (2 when both cores are free)"
+    )
 
 
 def davies_child(side, chunk):
@@ -114,13 +141,18 @@ def davies_child(side, chunk):
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--quick", action="store_true")
+    ap.add_argument("--rows", type=int, help="Pitzer rows (default 10⁷, 10⁶ with --quick)")
+    ap.add_argument("--pitzer-only", action="store_true", help="skip the Davies grid")
+    ap.add_argument("--blocks", type=int, default=20, help="Pitzer rows split into this many blocks")
     ap.add_argument("--davies-child", nargs=2, type=int, help=argparse.SUPPRESS)
     args = ap.parse_args()
     if args.davies_child:
         davies_child(*args.davies_child)
         return
-    n = 1_000_000 if args.quick else 10_000_000
-    run_pitzer(n, n // 20)
+    n = args.rows or (1_000_000 if args.quick else 10_000_000)
+    run_pitzer(n, n // args.blocks)
+    if args.pitzer_only:
+        return
     side = 3163 if args.quick else 10_000
     sys.stdout.flush()
     subprocess.run([sys.executable, __file__, "--davies-child", str(side), "1000"], check=True)

@@ -67,15 +67,22 @@ def _model(model: ModelLike) -> Any:
     return _MODELS[key]
 
 
-def _evaluate_block(model: Any, species: tuple, output: str, in_range: bool, *blocks: np.ndarray) -> np.ndarray:
-    """One block: molality blocks (one per species), then T and P blocks → stacked results.
+def _evaluate_block(
+    model: Any, species: tuple, output: str, in_range: bool, fixed: tuple, *blocks: np.ndarray
+) -> np.ndarray:
+    """One block: molality blocks (one per species), then the T and P blocks → stacked results.
 
-    Runs in the worker; the model (an object or a registered name) is resolved there.
-    Returns shape ``(n_species [+ 1],) + block shape``; the extra row is the in-range flag.
+    ``fixed`` is (T, P) with a number where that input is a scalar (then it comes as no
+    block: a scalar temperature stays one temperature, so a model takes its one-T path,
+    e.g. Pitzer's coefficients evaluated once instead of per row) and None where it comes
+    as a block. Runs in the worker; the model (an object or a registered name) is resolved
+    there. Returns shape ``(n_species [+ 1],) + block shape``; the extra row is the in-range
+    flag.
     """
     from ..solution import Solution
 
-    *ms, T, P = blocks
+    ms, rest = blocks[: len(species)], list(blocks[len(species) :])
+    T, P = (v if v is not None else rest.pop(0) for v in fixed)
     sol = Solution(dict(zip(species, ms)), T=T, P=P, neutrality="ignore")
     res = _model(model).activity_coefficients(sol, warn=False)
     lg = np.asarray(res.log10_gamma)
@@ -86,6 +93,18 @@ def _evaluate_block(model: Any, species: tuple, output: str, in_range: bool, *bl
     return out
 
 
+def _fixed(values: list) -> tuple[tuple, list]:
+    """Split the trailing T and P: a scalar (not an array of any kind) is kept as a float."""
+    fixed, arrays = [], list(values[:-2])
+    for v in values[-2:]:
+        if _kind(v) == "numpy" and np.ndim(v) == 0:
+            fixed.append(float(np.asarray(v, dtype=float)))
+        else:
+            fixed.append(None)
+            arrays.append(v)
+    return tuple(fixed), arrays
+
+
 def _split(stacked: Any, species: tuple, in_range: bool) -> dict[str, Any]:
     out = {s: stacked[i] for i, s in enumerate(species)}
     if in_range:
@@ -94,14 +113,17 @@ def _split(stacked: Any, species: tuple, in_range: bool) -> dict[str, Any]:
 
 
 def _numpy(model, species, output, in_range, values):
-    stacked = _evaluate_block(model, species, output, in_range, *values)
+    fixed, arrays = _fixed(values)
+    blocks = [np.asarray(a, dtype=float) for a in arrays]
+    stacked = _evaluate_block(model, species, output, in_range, fixed, *blocks)
     return _split(stacked, species, in_range)
 
 
 def _dask(model, species, output, in_range, values):
     import dask.array as da
 
-    arrays = da.broadcast_arrays(*[da.asarray(v) for v in values])
+    fixed, arrays = _fixed(values)
+    arrays = da.broadcast_arrays(*[da.asarray(v) for v in arrays])
     ref = max(arrays, key=lambda a: a.npartitions)  # the most finely chunked input sets the blocks
     arrays = [a.rechunk(ref.chunks) for a in arrays]
     n_out = len(species) + (1 if in_range else 0)
@@ -111,6 +133,7 @@ def _dask(model, species, output, in_range, values):
         species,
         output,
         in_range,
+        fixed,
         *arrays,
         new_axis=0,
         chunks=((n_out,),) + ref.chunks,
@@ -131,9 +154,12 @@ def _xarray(model, species, output, in_range, values):
                 field="composition",
                 value=type(v).__name__,
             )
-    das = xr.broadcast(*[v if _kind(v) == "xarray" else xr.DataArray(v) for v in values])
+    fixed, arrays = _fixed(values)
+    das = xr.broadcast(*[v if _kind(v) == "xarray" else xr.DataArray(v) for v in arrays])
     template = das[0]
     data = [d.transpose(*template.dims).data for d in das]
+    rest = data[len(species) :]
+    data = data[: len(species)] + [v if v is not None else rest.pop(0) for v in fixed]  # scalar T, P stay
     inner = _dask if any(_kind(x) == "dask" for x in data) else _numpy
     raw = inner(model, species, output, in_range, data)
     out = {}
@@ -199,4 +225,4 @@ def activity_coefficients(
         return _xarray(model, species_t, output, in_range, values)
     if "dask" in kinds:
         return _dask(model, species_t, output, in_range, values)
-    return _numpy(model, species_t, output, in_range, [np.asarray(v, dtype=float) for v in values])
+    return _numpy(model, species_t, output, in_range, values)

@@ -21,7 +21,7 @@ from typing import Any
 
 import numpy as np
 
-from ...constants import ZERO_CELSIUS
+from ...constants import T_REF, ZERO_CELSIUS
 from ._params import ParameterSet, basis
 
 __all__ = ["Bound", "bind"]
@@ -67,30 +67,41 @@ class Contraction:
     @property
     def plan(self) -> tuple:
         """((row, ((col, k), ...)), ...): per output row, its columns and coefficient index."""
-        plan = self.__dict__.get("_plan")
-        if plan is None:
+        return self._prepared[1]
+
+    @property
+    def _prepared(self) -> tuple:
+        """(number of rows, plan, rows without entries), formed once."""
+        got = self.__dict__.get("_prep")
+        if got is None:
             ends = list(self.starts[1:]) + [len(self.cols)]
             plan = tuple(
                 (int(r), tuple((int(self.cols[k]), k) for k in range(s, e)))
                 for r, s, e in zip(self.urows, self.starts, ends)
             )
-            object.__setattr__(self, "_plan", plan)
-        return plan
+            empty = sorted(set(range(self.nrows)) - {r for r, _ in plan})
+            got = (self.nrows, plan, empty)
+            object.__setattr__(self, "_prep", got)
+        return got
 
     def __call__(self, coef: np.ndarray, x: np.ndarray) -> np.ndarray:
-        """Contract with ``x`` (J, N); ``coef`` (nnz,) at one T or (nnz, N) with T per row.
+        """Contract with ``x`` (J, N); ``coef`` (nnz,) at one T, or with T per row (nnz, N) or
+        a list of nnz floats and (N,) arrays (:meth:`Bound.at`).
 
         A loop over the non-zero entries with in-place products on rows of the block (the
         kernel works on blocks of a few thousand rows, which stay in cache): no BLAS thread
         pool, no multiplication of zeros, no gathered copy of ``x``.
         """
         N = x.shape[1]
-        out = np.zeros((self.nrows, N))
-        if not len(self.cols):
+        nrows, plan, empty = self._prepared
+        out = np.empty((nrows, N))
+        if empty:
+            out[empty] = 0.0
+        if not plan:
             return out.reshape(self.lead + (N,))
-        c = coef.tolist() if coef.ndim == 1 else coef
+        c = coef.tolist() if isinstance(coef, np.ndarray) and coef.ndim == 1 else coef
         tmp = np.empty(N)
-        for r, entries in self.plan:
+        for r, entries in plan:
             o = out[r]
             (j, k), rest = entries[0], entries[1:]
             np.multiply(x[j], c[k], out=o)
@@ -115,6 +126,8 @@ _CONTRACTIONS = {
     "psiA": ("psiA", None),
     "psiAM": ("psiAM", None),
     "psiCX": ("psiCX", None),
+    "psiAMu": ("psiAMu", None),
+    "psiCXu": ("psiCXu", None),
     "lam": ("lam", None),
     "zN": ("zN", None),
     "zC": ("zC", None),
@@ -180,16 +193,21 @@ class Bound:
                 out = positive[i] if out is None else out & positive[i]
             return out
 
+        I_top = float(np.max(I)) if N else 0.0
+        T_bot, T_top = (float(np.min(T)), float(np.max(T))) if T.size else (0.0, 0.0)
         for label, idx, i_max, t_lo, t_hi in self.checks:
-            if scalar_T:
-                t_out = bool(T < t_lo - 1e-9 or T > t_hi + 1e-9)
-                if not np.isfinite(i_max) and not t_out:
-                    continue
-            # 1e-9 (relative for I, in K for T): round-off slack, as in the model's check
+            # 1e-9 (relative for I, in K for T): round-off slack, as in the model's check.
+            # A limit that no row reaches (I below it, every T inside the range) costs nothing.
+            i_check = np.isfinite(i_max) and I_top > i_max * (1 + 1e-9)
+            t_check = T_bot < t_lo - 1e-9 or T_top > t_hi + 1e-9
+            if not i_check and not t_check:
+                continue
             pres = present(idx)
-            high = pres & (I > i_max * (1 + 1e-9)) if np.isfinite(i_max) else None
-            if scalar_T:
-                cold = pres if t_out else None
+            high = pres & (I > i_max * (1 + 1e-9)) if i_check else None
+            if not t_check:
+                cold = None
+            elif scalar_T:
+                cold = pres
             else:
                 cold = pres & ((T < t_lo - 1e-9) | (T > t_hi + 1e-9))
             nh = int(np.count_nonzero(high)) if high is not None else 0
@@ -220,7 +238,37 @@ class Bound:
                     self._cache.clear()
                 hit = self._cache[key] = self._evaluate(basis(T))
             return hit
-        return self._evaluate(basis(T))
+        return self._evaluate_rows(T)
+
+    def _evaluate_rows(self, T: np.ndarray) -> dict:
+        """Coefficients with a temperature per row: the T-independent ones (most of them)
+        stay Python floats, each distinct T-dependent one is one array of the rows, built
+        from the basis functions it uses only. Per contraction a list, indexed like the
+        vectors of one temperature."""
+        W = self._all_weights
+        vals: list = W[:, 0].tolist()
+        dep = np.flatnonzero(np.any(W[:, 1:] != 0, axis=1))
+        if len(dep):
+            used = np.flatnonzero(np.any(W[dep] != 0, axis=0)).tolist()
+            d = T - T_REF
+            funcs = {
+                1: lambda: 1.0 / T - 1.0 / T_REF,
+                2: lambda: np.log(T / T_REF),
+                3: lambda: d,
+                4: lambda: d * d,
+            }
+            b = {k: funcs[k]() for k in used if k}
+            made: dict = {}
+            for r in dep.tolist():
+                key = tuple(W[r].tolist())
+                if key not in made:
+                    v = None
+                    for k, bk in b.items():
+                        if key[k] != 0.0:
+                            v = key[k] * bk if v is None else v + key[k] * bk
+                    made[key] = v + key[0]
+                vals[r] = made[key]
+        return {k: vals[o : o + self._sizes[k]] for k, o in self._offsets.items()}
 
     def _evaluate(self, b: np.ndarray) -> dict:
         # One product of the stacked non-zero weights with the basis, without BLAS (einsum
@@ -304,6 +352,9 @@ def bind(params: ParameterSet, species: tuple, charges: np.ndarray) -> Bound:
         psiCX=psc.transpose(2, 0, 1, 3).reshape(na, nc * nc, 5),  # [X, (c, c')]
         psiA=psa.transpose(0, 2, 1, 3).reshape(na, nc * na, 5),  # [X, (c, a')]: psa[X, a', c] → [X, c, a']
         psiAM=psa.transpose(2, 0, 1, 3).reshape(nc, na * na, 5),  # [M, (a, a')]
+        # the same over the unordered pairs a < a' (c < c') only: ½ Σ_{a,a'} = Σ_{a<a'}
+        psiAMu=psa[np.triu_indices(na, 1)].transpose(1, 0, 2).reshape(nc, na * (na - 1) // 2, 5),
+        psiCXu=psc[np.triu_indices(nc, 1)].transpose(1, 0, 2).reshape(na, nc * (nc - 1) // 2, 5),
     )
     lam = np.zeros((ns, ns, 5))
     zeta = np.zeros((nn, nc, na, 5))

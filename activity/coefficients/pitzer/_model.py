@@ -19,8 +19,12 @@ from ._params import ParameterSet, combine
 
 __all__ = ["PitzerModel"]
 
-#: Rows evaluated per block: bounds temporary memory, keeps blocks in cache.
-CHUNK = 8192
+#: Rows evaluated per block: bounds temporary memory, keeps blocks in cache. Measured on the
+#: 8-ion seawater set (CPU time of interleaved runs, 10⁶ rows, a loaded 2-core machine): one T
+#: 16384 rows 1.18x faster than 8192, T per row the same; 32768 and more about 2x slower (the
+#: blocks leave the cache). 16000 keeps a row of one quantity (125 KiB)
+#: under glibc's default 128 KiB mmap threshold, so temporaries come from the heap.
+CHUNK = 16000
 
 
 class PitzerModel(ActivityModel):
@@ -104,6 +108,7 @@ class PitzerModel(ActivityModel):
         return bound.notes, bound.missing
 
     def _run(self, sol, bound, want: set) -> dict:
+        """Evaluate ``want`` ⊆ {"lng", "phi", "gex"} block by block; "lng" comes back as lg γ."""
         n, N = len(sol.species), sol.size
         m = sol.m.reshape(n, N)
         I = np.asarray(sol.ionic_strength, dtype=float).reshape(N)
@@ -125,16 +130,20 @@ class PitzerModel(ActivityModel):
             Ac = Aphi_all if np.ndim(Aphi_all) == 0 else Aphi_all[sl]
             part = evaluate(bound, Pc, not scalar_T, m[:, sl], I[sl], Ac, want)
             for k, v in part.items():
-                res[k][..., sl] = v
+                if k == "lng":  # lg γ = ln γ / ln 10, formed while the block is in cache
+                    np.divide(v, LN10, out=res[k][:, sl])
+                else:
+                    res[k][..., sl] = v
         return {k: (v.reshape((n,) + sol.shape) if k == "lng" else v.reshape(sol.shape)) for k, v in res.items()}
 
     def compute(self, sol, bound, I):
         # γ and φ share their sums: one pass gives both for little more than γ alone.
+        # (``_run`` returns lg γ under "lng".)
         out = self._run(sol, bound, {"lng", "phi"})
-        return out["lng"] / LN10, out["phi"]
+        return out["lng"], out["phi"]
 
     def compute_log10_gamma(self, sol, bound, I):
-        return self._run(sol, bound, {"lng"})["lng"] / LN10
+        return self._run(sol, bound, {"lng"})["lng"]
 
     def compute_osmotic(self, sol, bound, I):
         return self._run(sol, bound, {"phi"})["phi"]

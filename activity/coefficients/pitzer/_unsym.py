@@ -80,37 +80,75 @@ def _table() -> tuple[float, float, np.ndarray, np.ndarray]:
     return u0, h, np.ascontiguousarray(sp.x[:-1]), np.ascontiguousarray(sp.c.T)
 
 
-def _ln_j(u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """S(u) = ln J(e^u) and dS/du from the cubic pieces (u inside the table)."""
+@functools.lru_cache(maxsize=1)
+def _pieces() -> tuple:
+    """:func:`_table` laid out for gathers: first knot, 1/spacing, knots, and the cubic's
+    four coefficients as separate contiguous vectors."""
     u0, h, knots, c = _table()
-    i = np.floor((u - u0) * (1.0 / h)).astype(np.intp)
-    np.clip(i, 0, len(c) - 1, out=i)
-    t = u - knots[i]
-    ci = c[i]  # (N, 4)
-    c0, c1, c2, c3 = ci[:, 0], ci[:, 1], ci[:, 2], ci[:, 3]
-    S = ((c0 * t + c1) * t + c2) * t + c3
-    dS = (3.0 * c0 * t + 2.0 * c1) * t + c2
+    c0, c1, c2, c3 = (np.ascontiguousarray(c[:, k]) for k in range(4))
+    return u0, 1.0 / h, knots, c0, c1, c2, c3, len(c) - 1
+
+
+def _ln_j(u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """S(u) = ln J(e^u) and dS/du from the cubic pieces (u inside the table).
+
+    S = ((a t + b) t + c) t + d and dS/du = (3 a t + 2 b) t + c with t = u − knot, from
+    one gather of each coefficient.
+    """
+    u0, inv_h, knots, c0, c1, c2, c3, last = _pieces()
+    # u ≥ u0, so truncation is the floor; take(mode="clip") puts u = u_max in the last piece
+    i = ((u - u0) * inv_h).astype(np.intp)
+    t = u - knots.take(i, mode="clip")
+    at = c0.take(i, mode="clip")
+    at *= t
+    b = c1.take(i, mode="clip")
+    c = c2.take(i, mode="clip")
+    S = at + b
+    S *= t
+    S += c
+    S *= t
+    S += c3.take(i, mode="clip")
+    at *= 3.0
+    b *= 2.0
+    dS = at
+    dS += b
+    dS *= t
+    dS += c
     return S, dS
 
 
 def _j_xdj(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """J(x) and x J′(x) (what Eθ′ needs), x ≥ 0, continued outside the table as j_exact."""
     x = np.asarray(x, dtype=float)
-    shape = x.shape
-    x = x.reshape(-1)
-    xs = np.clip(x, _X_MIN, _X_MAX)
-    S, dS = _ln_j(np.log(xs))
+    with np.errstate(divide="ignore"):
+        return _j_xdj_log(np.log(x.reshape(-1)), x.reshape(-1), shape=x.shape)
+
+
+_U_MIN, _U_MAX = float(np.log(_X_MIN)), float(np.log(_X_MAX))
+
+
+def _j_xdj_log(lnx: np.ndarray, x: np.ndarray | None = None, shape: tuple | None = None):
+    """J and x J′ from ln x (1-d; −inf for x = 0): the kernel passes ln x = ln p + ln(6Aφ√I)
+    for the three charge products p of a pair, so one logarithm serves all three. ``x``
+    (if known) is used only outside the table."""
+    u = np.clip(lnx, _U_MIN, _U_MAX)
+    S, dS = _ln_j(u)
     J = np.exp(S)
-    xdJ = J * dS * (x / xs)  # x J′ = J dS/du · x/xs (x/xs = 1 inside the table)
-    low, high = x < _X_MIN, x > _X_MAX
-    if np.any(low):
+    xdJ = J * dS
+    if lnx.size and (lnx.min() < _U_MIN or lnx.max() > _U_MAX):
+        low, high = lnx < _U_MIN, lnx > _U_MAX
+        if x is None:
+            x = np.exp(lnx)
+        xs = np.clip(x, _X_MIN, _X_MAX)
+        xdJ *= x / xs  # x J′ = J dS/du · x/xs (x/xs = 1 inside the table)
         J0 = J
         J = np.where(low, J0 * (x / _X_MIN) ** 2, J)
         xdJ = np.where(low, 2.0 * J0 * (x / _X_MIN) ** 2, xdJ)
-    if np.any(high):
         J = np.where(high, J + (x - _X_MAX) / 4.0, J)
         xdJ = np.where(high, 0.25 * x, xdJ)
-    return J.reshape(shape), xdJ.reshape(shape)
+    if shape is not None:
+        return J.reshape(shape), xdJ.reshape(shape)
+    return J, xdJ
 
 
 def j_exact(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -184,18 +222,25 @@ def e_theta(zi: float, zj: float, Aphi, I: np.ndarray, cache: dict | None = None
         return z, z.copy()
     # Below I = 1e-20 mol/kg the terms (multiplied by m_i m_j ≤ 4I²) are negligible, and
     # Eθ′ ~ 1/I² would overflow; they are set to 0 there.
-    pos = I > 1e-20
-    Is = np.where(pos, I, 1.0)
+    all_pos = bool(I.size) and float(np.min(I)) > 1e-20
+    pos = True if all_pos else I > 1e-20
+    Is = I if all_pos else np.where(pos, I, 1.0)
     base = 6.0 * Aphi * np.sqrt(Is)
     cache = {} if cache is None else cache
-
-    def jx(p):
-        if p not in cache:
-            cache[p] = _j_xdj(p * base)
-        return cache[p]
+    if "ln_base" not in cache:
+        cache["ln_base"] = np.log(base).reshape(-1)  # one logarithm for every charge product
 
     zz = zi * zj
-    (Jij, xdij), (Jii, xdii), (Jjj, xdjj) = jx(zz), jx(zi * zi), jx(zj * zj)
+    todo = [p for p in dict.fromkeys((zz, zi * zi, zj * zj)) if p not in cache]
+    if todo:  # the missing charge products in one pass over (len(todo), N) values
+        lnx = cache["ln_base"][None, :] + np.log(np.asarray(todo, dtype=float))[:, None]
+        J, xdJ = _j_xdj_log(lnx.reshape(-1))
+        J, xdJ = J.reshape(len(todo), -1), xdJ.reshape(len(todo), -1)
+        for r, p in enumerate(todo):
+            cache[p] = (J[r].reshape(base.shape), xdJ[r].reshape(base.shape))
+    (Jij, xdij), (Jii, xdii), (Jjj, xdjj) = cache[zz], cache[zi * zi], cache[zj * zj]
     et = zz / (4.0 * Is) * (Jij - 0.5 * Jii - 0.5 * Jjj)
     etp = -et / Is + zz / (8.0 * Is * Is) * (xdij - 0.5 * xdii - 0.5 * xdjj)
+    if all_pos:
+        return et, etp
     return np.where(pos, et, 0.0), np.where(pos, etp, 0.0)
