@@ -18,6 +18,7 @@ uses it.
 
 from __future__ import annotations
 
+import functools
 from typing import Any
 
 import numpy as np
@@ -115,6 +116,11 @@ def debye_huckel_Aphi(T: ArrayLike, P: ArrayLike = None) -> Any:
     >>> round(debye_huckel_Aphi(298.15), 4)
     0.3914
     """
+    key = _scalar_key(T, P)
+    return _aphi_scalar(*key) if key is not None else _aphi(T, P)
+
+
+def _aphi(T: ArrayLike, P: ArrayLike) -> Any:
     T, rho, eps = _kappa_terms(T, P)
     lb = E_CHARGE**2 / (4.0 * np.pi * EPSILON_0 * eps * K_B * T)  # Bjerrum length, m
     return _checks.scalar_or_array(np.sqrt(2.0 * np.pi * N_A * rho) * lb**1.5 / 3.0)
@@ -142,6 +148,33 @@ def debye_huckel_B(T: ArrayLike, P: ArrayLike = None) -> Any:
     >>> round(debye_huckel_B(298.15), 4)
     0.3285
     """
+    key = _scalar_key(T, P)
+    return _b_scalar(*key) if key is not None else _b(T, P)
+
+
+def _b(T: ArrayLike, P: ArrayLike) -> Any:
     T, rho, eps = _kappa_terms(T, P)
     b = np.sqrt(2.0 * N_A * rho * E_CHARGE**2 / (EPSILON_0 * eps * K_B * T)) * 1e-10
     return _checks.scalar_or_array(b)
+
+
+# One composition at one temperature (a GUM evaluation, the model spread, a CLI call) asks
+# for Aφ and B at the same scalar T and P once per model: scalar answers are kept (floats,
+# immutable). The cached function is the array one, called with the same numbers, so the
+# values are the same bits; a bad T or P raises on every call (exceptions are not cached).
+_aphi_scalar = functools.lru_cache(maxsize=256)(_aphi)
+_b_scalar = functools.lru_cache(maxsize=256)(_b)
+_FLOATS = (float, int, np.floating, np.integer)
+
+
+def _scalar_key(T: Any, P: Any) -> tuple[float, float | None] | None:
+    """(T, P) as Python floats when both are plain real scalars (or 0-d real arrays), else None."""
+    if isinstance(T, np.ndarray) and T.ndim == 0 and T.dtype.kind in "fiu":
+        T = T.item()
+    if isinstance(P, np.ndarray) and P.ndim == 0 and P.dtype.kind in "fiu":
+        P = P.item()
+    if isinstance(T, bool) or isinstance(P, bool) or not isinstance(T, _FLOATS):
+        return None
+    if P is not None and not isinstance(P, _FLOATS):
+        return None
+    return float(T), (None if P is None else float(P))
