@@ -219,10 +219,14 @@ class _Point:
 
 
 def _point_builder(sample: Solution, inputs: list[_Input], reading: ArrayLike) -> Callable[[Mapping[str, Any]], _Point]:
-    def build(cols: Mapping[str, Any]) -> _Point:
+    def build(cols: Mapping[str, Any], *, at_estimates: bool = False) -> _Point:
+        # At the estimates the amounts and T are the sample's own numbers (each input's mean
+        # is the sample's float), so a plain sample is itself the solution: no re-validation.
+        # (``replace`` makes a plain Solution: a subclass, e.g. a speciated one, goes through it.)
         amounts = {i.target: cols[i.key] for i in inputs if i.role == "amount"}
         T = next((cols[i.key] for i in inputs if i.role == "T"), None)
-        sol = sample.replace(amounts, T=T) if (amounts or T is not None) else sample
+        changed = (amounts or T is not None) and not (at_estimates and type(sample) is Solution)
+        sol = sample.replace(amounts, T=T) if changed else sample
         read = next((cols[i.key] for i in inputs if i.role == "reading"), reading)
         return _Point(
             sol,
@@ -330,7 +334,8 @@ def _run(
         f"during the propagation ({len(m)} batch call(s) outside a validity; the first): {m[0]}" for m in kinds.values()
     ]
     warn_alerts(notes, stacklevel=3)
-    spread, spread_notes = _spread(quantity, build({i.key: i.dist.mean for i in inputs}), spread_models)
+    estimates = {i.key: i.dist.mean for i in inputs}
+    spread, spread_notes = _spread(quantity, build(estimates, at_estimates=True), spread_models)
     return ChainResult(label, unit, model.name, result, spread, tuple(notes) + tuple(spread_notes))
 
 
