@@ -31,7 +31,7 @@ from ..errors import ConvergenceError, InputError, warn_alerts
 from ..solution import Solution
 from ..species import parse_species
 from .cell import Cell
-from .electrodes import IonSelectiveElectrode, free_solution
+from .electrodes import IonSelectiveElectrode, free_solution, own_row_model
 from .half_reaction import HalfReaction
 from .protocol import Electrode
 
@@ -201,19 +201,6 @@ def _builder(
     return build
 
 
-def _own_row_model(model: Any) -> bool:
-    """Whether γ of an ion depends only on I, T, P and the ion's own parameters: the
-    Debye–Hückel form as shipped (a subclass that changes how γ is computed does not count)."""
-    from ..coefficients._dh_form import DebyeHuckelForm
-
-    kind = type(model)
-    return (
-        isinstance(model, DebyeHuckelForm)
-        and kind.compute_log10_gamma is DebyeHuckelForm.compute_log10_gamma
-        and kind.prepare is DebyeHuckelForm.prepare
-    )
-
-
 def _ise_rows(
     electrode: Any, model: Any, matrix: Solution, species: str, counter: str | None, ratio: float, shape: tuple
 ) -> Callable[[np.ndarray], Any] | None:
@@ -226,7 +213,7 @@ def _ise_rows(
     electrode evaluates on a solution of them alone. None where this does not apply (the
     general path of :func:`_builder` is taken).
     """
-    if not (_ROW_PATH and isinstance(electrode, IonSelectiveElectrode) and _own_row_model(model)):
+    if not (_ROW_PATH and isinstance(electrode, IonSelectiveElectrode) and own_row_model(model)):
         return None
     present = [j for j in electrode.selectivity if j in matrix.species]
     names = (species,) + tuple(present)
