@@ -71,9 +71,7 @@ def test_potential_equals_previous_code(seed, model, interferents, per_row):
     na = rng.uniform(0.0, 0.3, n)
     ca = rng.uniform(0.0, 0.01, n)
     T = rng.uniform(278.15, 318.15, n) if per_row else 298.15
-    sol = act.Solution(
-        {"K+": k, "Na+": na, "Ca^2+": ca, "Cl-": k + na + 2 * ca}, T=T, neutrality="ignore"
-    )
+    sol = act.Solution({"K+": k, "Na+": na, "Ca^2+": ca, "Cl-": k + na + 2 * ca}, T=T, neutrality="ignore")
     E0 = rng.uniform(-0.1, 0.1, n) if per_row else 0.05
     sel = {j: (v * rng.uniform(0.5, 2.0, n) if per_row else v) for j, v in interferents.items()}
     ise = IonSelectiveElectrode("K+", E0=E0, selectivity=sel, slope_factor=0.98, dE0dT=1e-4)
