@@ -374,21 +374,22 @@ class IonSelectiveElectrode(Electrode):
         if not same and any(not np.array_equal(lg[k], lg[i]) for _, k in present):
             return None
         shape = np.broadcast_shapes(sol.shape, *(np.shape(self.selectivity[j]) for j, _ in present))
-        # mᵢ + Σ Kᵢⱼ mⱼ written into one new array (no copy of mᵢ first); "min > 0" is
-        # False for NaN as well, without a boolean temporary
-        total = np.empty(shape)
+        # mᵢ + Σ Kᵢⱼ mⱼ written into one new array (no copy of mᵢ first; without interferents
+        # mᵢ itself, the logarithm being the new array); "min > 0" is False for NaN as well,
+        # without a boolean temporary
         if present:
+            total = np.empty(shape)
             (j0, k0), rest = present[0], present[1:]
             np.multiply(self.selectivity[j0], sol.m[k0], out=total)
             for j, k in rest:
                 total += self.selectivity[j] * sol.m[k]
             total += sol.m[i]
         else:
-            np.copyto(total, np.broadcast_to(sol.m[i], shape))
+            total = sol.m[i]
         if not (total.size == 0 or total.min() > 0):
             return None  # the general path raises the error naming the field
         # (k s/z)(log10 total + log10 γᵢ), in place: no temporary for ln10·log10 γ
-        E = np.log(total, out=total)
+        E = np.log(total, out=total) if present else np.log(total)
         E *= 1.0 / LN10
         E += lg[i]
         E *= self.slope_factor * R * LN10 * np.asarray(sol.T_compact, float) / (self.z * F)
