@@ -217,7 +217,7 @@ def common_practice_potential(kind: str, filling: Any) -> tuple[float, str] | No
     return None
 
 
-def own_row_model(model: Any) -> bool:
+def _own_row_model(model: Any) -> bool:
     """Whether ``model`` computes γ of an ion from I, T, P and that ion's own parameters
     only: the Debye–Hückel form as shipped (a subclass that changes how γ is computed, or
     the binding, does not count). Then a caller may ask for a few species' rows alone."""
@@ -400,7 +400,7 @@ class IonSelectiveElectrode(Electrode):
         """Whether ``model`` gives the primary ion and every interferent present the same
         log10 γ row bit for bit, read from its binding (Debye–Hückel form: same |z|, same
         denominator and same linear term mean the same arithmetic)."""
-        if self.ion not in sol.species or not own_row_model(model):
+        if self.ion not in sol.species or not _own_row_model(model):
             return False
         bound = model.bind(sol.species, sol.charges)
         t = bound.terms

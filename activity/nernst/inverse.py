@@ -31,7 +31,7 @@ from ..errors import ConvergenceError, InputError, warn_alerts
 from ..solution import Solution
 from ..species import parse_species
 from .cell import Cell
-from .electrodes import IonSelectiveElectrode, free_solution, own_row_model
+from .electrodes import IonSelectiveElectrode, _own_row_model, free_solution
 from .half_reaction import HalfReaction
 from .protocol import Electrode
 
@@ -213,7 +213,7 @@ def _ise_rows(
     electrode evaluates on a solution of them alone. None where this does not apply (the
     general path of :func:`_builder` is taken).
     """
-    if not (_ROW_PATH and isinstance(electrode, IonSelectiveElectrode) and own_row_model(model)):
+    if not (_ROW_PATH and isinstance(electrode, IonSelectiveElectrode) and _own_row_model(model)):
         return None
     present = [j for j in electrode.selectivity if j in matrix.species]
     names = (species,) + tuple(present)

@@ -17,7 +17,7 @@ from hypothesis import strategies as st
 
 import activity as act
 from activity.constants import LN10, F, R
-from activity.nernst.electrodes import IonSelectiveElectrode, own_row_model
+from activity.nernst.electrodes import IonSelectiveElectrode, _own_row_model
 from activity.nernst.membrane import nikolsky_eisenman_core
 
 MODELS = ["davies", "extended-debye-huckel", "truesdell-jones", "debye-huckel-limiting", "pitzer"]
@@ -94,7 +94,7 @@ def test_rows_known_equal_only_from_the_binding():
     sol = act.Solution({"K+": 0.004, "Na+": 0.1, "Ca^2+": 0.001, "Cl-": 0.106})
     davies, edh = act.get_model("davies"), act.get_model("extended-debye-huckel")
     same_charge = IonSelectiveElectrode("K+", E0=0.05, selectivity={"Na+": 0.01})
-    assert own_row_model(davies) and not own_row_model(act.get_model("pitzer"))
+    assert _own_row_model(davies) and not _own_row_model(act.get_model("pitzer"))
     assert same_charge._rows_equal_by_binding(sol, davies)  # Davies: γ from |z| alone
     assert not same_charge._rows_equal_by_binding(sol, edh)  # Kielland sizes differ (3 vs 4–4.5 Å)
     assert not same_charge._rows_equal_by_binding(sol, act.get_model("pitzer"))
