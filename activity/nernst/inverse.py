@@ -26,7 +26,7 @@ from numpy.typing import ArrayLike
 from .. import _checks
 from ..coefficients import resolve_model
 from ..coefficients.base import CoefficientResult, ModelLike
-from ..constants import F, R
+from ..constants import LN10, F, R
 from ..errors import ConvergenceError, InputError, warn_alerts
 from ..solution import Solution
 from ..species import parse_species
@@ -210,7 +210,8 @@ def _ise_rows(
     needs γ of the primary ion and the interferents present, not of the whole sample: the
     ionic strength is updated as I = I_matrix + ½ (z_d² + r z_c²) m (r the counter-ion's
     amount per determinand), the model is bound once to those few species, and the
-    electrode evaluates on a solution of them alone. None where this does not apply (the
+    electrode evaluates on a solution of them alone (without interferents the Nernst term
+    takes log10 m = x/ln 10 directly). None where this does not apply (the
     general path of :func:`_builder` is taken).
     """
     if not (_ROW_PATH and isinstance(electrode, IonSelectiveElectrode) and _own_row_model(model)):
@@ -228,6 +229,7 @@ def _ise_rows(
     T = np.asarray(matrix.T_compact, float)
     P = np.asarray(matrix.P_compact, float)
     bound = model.bind(names, charges)
+    E0, slope = electrode.e0_at(T), electrode.slope(T)
 
     def potential(x: np.ndarray) -> Any:
         if present:
@@ -238,6 +240,12 @@ def _ise_rows(
         I = per_m * m[0, ...]
         I += I0
         sub = Solution._adopt(names, charges, m, T, P)
+        if not present:
+            # E0 + slope (log10 m + log10 γ) with log10 m = x / ln 10: no logarithm per step
+            E = x * (1.0 / LN10)
+            E += model.compute_log10_gamma(sub, bound, I)[0]
+            E *= slope
+            return E + E0
         g = CoefficientResult(names, model.compute_log10_gamma(sub, bound, I), I, model.name)
         return electrode.evaluate_in(sub, g).potential
 

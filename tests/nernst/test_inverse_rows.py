@@ -129,3 +129,13 @@ def test_plug_in_model_still_solved_exactly():
         ise, E, act.Solution({"Mg^2+": 0.01, "Cl-": 0.02}), model, counter_ion="Cl-", warn=False
     )
     assert res.molality == pytest.approx(0.004, rel=1e-8)  # stopping tolerance 1e-10 in ln m
+
+
+def test_row_path_without_interferents_broadcasts_e0_and_temperature(monkeypatch):
+    """The no-interferent step (log10 m taken as x/ln 10): E0 per row, dE0/dT, T per row."""
+    ise = IonSelectiveElectrode("K+", E0=np.array([0.05, 0.051, 0.052]), dE0dT=2e-4, slope_factor=0.95)
+    matrix = act.Solution({"Na+": [0.01, 0.1, 0.3], "Cl-": [0.01, 0.1, 0.3]}, T=[283.15, 298.15, 310.15])
+    E = np.array([[-0.1, -0.05, 0.0], [-0.2, -0.12, -0.08]])
+    fast, slow = _both(monkeypatch, ise, E, matrix, "davies", counter_ion="Cl-")
+    _same(fast, slow)
+    assert np.shape(fast.molality) == (2, 3)
