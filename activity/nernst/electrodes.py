@@ -217,6 +217,20 @@ def common_practice_potential(kind: str, filling: Any) -> tuple[float, str] | No
     return None
 
 
+def _own_row_model(model: Any) -> bool:
+    """Whether ``model`` computes γ of an ion from I, T, P and that ion's own parameters
+    only: the Debye–Hückel form as shipped (a subclass that changes how γ is computed, or
+    the binding, does not count). Then a caller may ask for a few species' rows alone."""
+    from ..coefficients._dh_form import DebyeHuckelForm
+
+    kind = type(model)
+    return (
+        isinstance(model, DebyeHuckelForm)
+        and kind.compute_log10_gamma is DebyeHuckelForm.compute_log10_gamma
+        and kind.prepare is DebyeHuckelForm.prepare
+    )
+
+
 def free_solution(sol: Solution, model: Any, speciation: Mapping[str, Any] | None) -> tuple[Solution, tuple[str, ...]]:
     """``sol`` itself, or — when ``speciation`` is given — its free species after speciation
     (:func:`activity.speciation.speciate` with those keyword arguments), with a note."""
@@ -344,36 +358,58 @@ class IonSelectiveElectrode(Electrode):
         aj = [activity(sol.index(j)) for j in present]
         return ai, present, [parse_species(j).charge for j in present], aj
 
-    def _shared_gamma(self, sol: Solution, lg: np.ndarray):
+    def _shared_gamma(self, sol: Solution, lg: np.ndarray, same: bool = False):
         """Fast exact path when every interferent present has the primary ion's charge and
         the same γ (the Debye–Hückel family, Davies): then
         ln(aᵢ + Σ Kᵢⱼ aⱼ) = ln γ + ln(mᵢ + Σ Kᵢⱼ mⱼ), and no exponential is needed.
-        Returns (E − E0, lazy log10 activities) or None."""
+        ``same=True`` says the caller knows the rows of log10 γ are equal (from the model's
+        binding), which spares comparing them. Returns (E − E0, lazy log10 activities) or None."""
         if self.ion not in sol.species:
             return None
         i = sol.index(self.ion)
         present = [(j, sol.index(j)) for j in self.selectivity if j in sol.species]
-        if any(sol.charges[k] != self.z or not np.array_equal(lg[k], lg[i]) for _, k in present):
+        charges = sol._charges
+        if any(charges[k] != self.z for _, k in present):
+            return None
+        if not same and any(not np.array_equal(lg[k], lg[i]) for _, k in present):
             return None
         shape = np.broadcast_shapes(sol.shape, *(np.shape(self.selectivity[j]) for j, _ in present))
-        # mᵢ + Σ Kᵢⱼ mⱼ written into one new array (no copy of mᵢ first); "min > 0" is
-        # False for NaN as well, without a boolean temporary
-        total = np.empty(shape)
+        # mᵢ + Σ Kᵢⱼ mⱼ written into one new array (no copy of mᵢ first; without interferents
+        # mᵢ itself, the logarithm being the new array); "min > 0" is False for NaN as well,
+        # without a boolean temporary
         if present:
+            total = np.empty(shape)
             (j0, k0), rest = present[0], present[1:]
             np.multiply(self.selectivity[j0], sol.m[k0], out=total)
             for j, k in rest:
                 total += self.selectivity[j] * sol.m[k]
             total += sol.m[i]
         else:
-            np.copyto(total, np.broadcast_to(sol.m[i], shape))
+            total = sol.m[i]
         if not (total.size == 0 or total.min() > 0):
             return None  # the general path raises the error naming the field
-        ln_total = np.log(total, out=total)
-        ln_total += LN10 * lg[i]
-        ln_total *= self.slope_factor * R * np.asarray(sol.T_compact, float) / (self.z * F)
+        # (k s/z)(log10 total + log10 γᵢ), in place: no temporary for ln10·log10 γ
+        E = np.log(total, out=total) if present else np.log(total)
+        E *= 1.0 / LN10
+        E += lg[i]
+        E *= self.slope_factor * R * LN10 * np.asarray(sol.T_compact, float) / (self.z * F)
         acts = {name: (lambda k=k: _log10_or_nan(sol.m[k] * 10.0 ** lg[k])) for name, k in [(self.ion, i)] + present}
-        return ln_total, LazyMapping(acts)
+        return E, LazyMapping(acts)
+
+    def _rows_equal_by_binding(self, sol: Solution, model: Any) -> bool:
+        """Whether ``model`` gives the primary ion and every interferent present the same
+        log10 γ row bit for bit, read from its binding (Debye–Hückel form: same |z|, same
+        denominator and same linear term mean the same arithmetic)."""
+        if self.ion not in sol.species or not _own_row_model(model):
+            return False
+        bound = model.bind(sol.species, sol.charges)
+        t = bound.terms
+
+        def key(k: int) -> tuple:
+            return (bound.z2[k], t.size[k], t.d[k], t.b[k])
+
+        i = sol.index(self.ion)
+        return all(key(sol.index(j)) == key(i) for j in self.selectivity if j in sol.species)
 
     def evaluate(
         self,
@@ -391,7 +427,8 @@ class IonSelectiveElectrode(Electrode):
         """
         model = resolve_model(model)
         sol, free_notes = free_solution(sol, model, speciation)
-        res = self.evaluate_in(sol, model.activity_coefficients(sol, warn=False))
+        g = model.activity_coefficients(sol, warn=False)
+        res = self._evaluate(sol, g, self._rows_equal_by_binding(sol, model))
         if free_notes:
             res = dataclasses.replace(res, notes=res.notes + free_notes)
         if warn:
@@ -400,9 +437,12 @@ class IonSelectiveElectrode(Electrode):
 
     def evaluate_in(self, sol: Solution, g: Any, *, pressures: Mapping[str, Any] | None = None) -> ElectrodeResult:
         """:meth:`evaluate` with the model's result ``g`` for ``sol`` already computed."""
+        return self._evaluate(sol, g, False)
+
+    def _evaluate(self, sol: Solution, g: Any, same: bool) -> ElectrodeResult:
         T = sol.T_compact
         E0 = self.e0_at(T)
-        shared = self._shared_gamma(sol, g.log10_gamma)
+        shared = self._shared_gamma(sol, g.log10_gamma, same)
         if shared is not None:
             E, lg = shared
             E += E0

@@ -26,12 +26,12 @@ from numpy.typing import ArrayLike
 from .. import _checks
 from ..coefficients import resolve_model
 from ..coefficients.base import CoefficientResult, ModelLike
-from ..constants import F, R
+from ..constants import LN10, F, R
 from ..errors import ConvergenceError, InputError, warn_alerts
 from ..solution import Solution
 from ..species import parse_species
 from .cell import Cell
-from .electrodes import free_solution
+from .electrodes import IonSelectiveElectrode, _own_row_model, free_solution
 from .half_reaction import HalfReaction
 from .protocol import Electrode
 
@@ -40,6 +40,10 @@ __all__ = ["InverseResult", "activity_from_potential", "molality_from_potential"
 #: Bounds of the search on ln m (design choice, not data): 1e-16 mol/kg lies far below any
 #: measurable activity, 30 mol/kg above the validity of every shipped model.
 _LN_M_MIN, _LN_M_MAX = np.log(1e-16), np.log(30.0)
+
+#: Whether the secant may take the determinand's own rows (see :func:`_ise_rows`). The tests
+#: switch it off to compare with the general path, which rebuilds the whole sample per step.
+_ROW_PATH = True
 
 
 @dataclass(frozen=True)
@@ -197,6 +201,57 @@ def _builder(
     return build
 
 
+def _ise_rows(
+    electrode: Any, model: Any, matrix: Solution, species: str, counter: str | None, ratio: float, shape: tuple
+) -> Callable[[np.ndarray], Any] | None:
+    """x = ln m ↦ the potential of an ion-selective electrode, from the rows it reads alone.
+
+    For a model whose γ of an ion depends only on I and the ion's own parameters, a step
+    needs γ of the primary ion and the interferents present, not of the whole sample: the
+    ionic strength is updated as I = I_matrix + ½ (z_d² + r z_c²) m (r the counter-ion's
+    amount per determinand), the model is bound once to those few species, and the
+    electrode evaluates on a solution of them alone (without interferents the Nernst term
+    takes log10 m = x/ln 10 directly). None where this does not apply (the
+    general path of :func:`_builder` is taken).
+    """
+    if not (_ROW_PATH and isinstance(electrode, IonSelectiveElectrode) and _own_row_model(model)):
+        return None
+    present = [j for j in electrode.selectivity if j in matrix.species]
+    names = (species,) + tuple(present)
+    charges = np.array([parse_species(species).charge] + [matrix.charges[matrix.index(j)] for j in present], int)
+    lead = (1,) * (len(shape) - len(matrix.shape))  # batch axes align on the right
+    rest = np.zeros((len(names),) + shape)
+    for k, j in enumerate(present, start=1):
+        rest[k] = np.asarray(matrix.m[matrix.index(j)]).reshape(lead + matrix.shape)
+    I0 = np.broadcast_to(np.asarray(matrix.ionic_strength, float).reshape(lead + matrix.shape), shape)
+    zc = parse_species(counter).charge if counter is not None else 0
+    per_m = 0.5 * (float(charges[0]) ** 2 + ratio * zc * zc)
+    T = np.asarray(matrix.T_compact, float)
+    P = np.asarray(matrix.P_compact, float)
+    bound = model.bind(names, charges)
+    E0, slope = electrode.e0_at(T), electrode.slope(T)
+
+    def potential(x: np.ndarray) -> Any:
+        if present:
+            m = rest.copy()
+            np.exp(x, out=m[0, ...])
+        else:
+            m = np.exp(x).reshape((1,) + shape)
+        I = per_m * m[0, ...]
+        I += I0
+        sub = Solution._adopt(names, charges, m, T, P)
+        if not present:
+            # E0 + slope (log10 m + log10 γ) with log10 m = x / ln 10: no logarithm per step
+            E = x * (1.0 / LN10)
+            E += model.compute_log10_gamma(sub, bound, I)[0]
+            E *= slope
+            return E + E0
+        g = CoefficientResult(names, model.compute_log10_gamma(sub, bound, I), I, model.name)
+        return electrode.evaluate_in(sub, g).potential
+
+    return potential
+
+
 def _solve(
     forward: Callable[[Solution], Any],
     target: Any,
@@ -207,6 +262,7 @@ def _solve(
     rtol: float,
     max_iter: int,
     warn: bool,
+    electrode: Any = None,
 ) -> InverseResult:
     if not isinstance(matrix, Solution):
         raise InputError(
@@ -222,9 +278,11 @@ def _solve(
     target = _checks.finite_array(target, "potential")
     shape = np.broadcast_shapes(matrix.shape, target.shape)
     build = _builder(matrix, species, counter, ratio, base_c, shape)
+    rows = _ise_rows(electrode, model, matrix, species, counter, ratio, shape) if electrode is not None else None
 
     def f(x: np.ndarray) -> np.ndarray:
-        return np.broadcast_to(np.asarray(forward(build(x)), float), shape) - target
+        E = rows(x) if rows is not None else forward(build(x))
+        return np.broadcast_to(np.asarray(E, float), shape) - target
 
     # two starting points in the usual analytical range; steps capped at e^5 ≈ 150-fold (design choices)
     x0 = np.full(shape, np.log(1e-3))
@@ -361,7 +419,18 @@ def molality_from_potential(
         g = CoefficientResult(s.species, lg, s.ionic_strength, model.name)
         return electrode.evaluate_in(s, g, pressures=pressures).potential
 
-    res = _solve(forward, E, matrix, name, counter_ion, model, rtol, max_iter, warn and speciation is None)
+    res = _solve(
+        forward,
+        E,
+        matrix,
+        name,
+        counter_ion,
+        model,
+        rtol,
+        max_iter,
+        warn and speciation is None,
+        electrode if speciation is None else None,
+    )
     return _free_result(res, model, speciation, warn)
 
 
