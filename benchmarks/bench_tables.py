@@ -28,6 +28,7 @@ Nothing here asserts a time; the targets of issue 13 are printed beside the figu
 from __future__ import annotations
 
 import argparse
+import contextlib
 import json
 import os
 import statistics
@@ -168,10 +169,8 @@ def cli(argv: list[str]) -> float:
     from activity.cli.main import main
 
     for name in ("activity.cli.batch", "activity.cli.solution", "activity.cli.electrode", "activity.io.tables"):
-        try:
+        with contextlib.suppress(ImportError):  # an older checkout without the module
             importlib.import_module(name)
-        except ImportError:  # an older checkout without the module
-            pass
 
     start = time.perf_counter()
     code = main(argv)

@@ -20,7 +20,7 @@ import os
 import stat
 import tempfile
 from collections.abc import Iterator
-from contextlib import contextmanager
+from contextlib import contextmanager, suppress
 from pathlib import Path
 from typing import TextIO
 
@@ -102,10 +102,8 @@ def write_bytes(path: str | Path, data: bytes) -> None:
         os.chmod(tmp, mode)
         os.replace(tmp, target)
     except BaseException as exc:
-        try:
+        with suppress(FileNotFoundError):
             os.unlink(tmp)
-        except FileNotFoundError:
-            pass
         if isinstance(exc, OSError):
             raise _fail(exc, user_path) from None
         raise
@@ -169,10 +167,8 @@ def atomic_output(path: str | Path | None) -> Iterator[TextIO]:
         os.chmod(tmp, mode)
         os.replace(tmp, target)
     except BaseException as exc:
-        try:
+        with suppress(FileNotFoundError):
             os.unlink(tmp)
-        except FileNotFoundError:
-            pass
         if isinstance(exc, OSError) and exc.filename in (None, tmp):
             raise _fail(exc, user_path) from None
         raise
