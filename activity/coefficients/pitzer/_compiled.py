@@ -33,6 +33,8 @@ from ._unsym import _U_MAX, _U_MIN, _X_MAX, _X_MIN, _pieces
 
 __all__ = ["run", "BLOCK"]
 
+INV_LN10 = 1.0 / LN10
+
 #: Rows per block: the per-row sums and the coefficient rows of a block stay in cache.
 BLOCK = 128
 
@@ -75,7 +77,7 @@ class _Plan:
             for j in range(na):
                 if (i, j) not in b0 and (i, j) not in C and (i, j) not in Bk:
                     continue
-                qb = q_of("b0", b0[i, j]) if (i, j) in b0 else -1
+                qb = q_of("b0", b0[i, j]) if (i, j) in b0 else -1  # -1: the row of zeros after the last
                 pairs.append((cat[i], an[j], qb, q_of("C", C[i, j]) if (i, j) in C else -1))
                 bk += [(al, q_of("Bk", k)) for al, k in Bk.get((i, j), [])]
                 bk_ptr.append(len(bk))
@@ -113,16 +115,19 @@ class _Plan:
             return prods.index(p)
 
         z = bound.z.tolist()
-        et, zz = [], []
+        et, combos = [], []
         for ions in (cat, an):
             for x in range(len(ions)):
                 for y in range(x + 1, len(ions)):
                     zi, zj = z[ions[x]], z[ions[y]]
-                    if zi != zj:
-                        et.append((ions[x], ions[y], k_of(zi * zj), k_of(zi * zi), k_of(zj * zj)))
-                        zz.append(zi * zj)
-        self.et = np.array(et, dtype=np.int64).reshape(-1, 5)
-        self.zz = np.array(zz, dtype=float)
+                    if zi != zj:  # Eθ depends on the charges only: one value per combination
+                        cb = (k_of(zi * zj), k_of(zi * zi), k_of(zj * zj))
+                        if cb not in combos:
+                            combos.append(cb)
+                        et.append((ions[x], ions[y], combos.index(cb)))
+        self.et = np.array(et, dtype=np.int64).reshape(-1, 3)
+        self.combos = np.array(combos, dtype=np.int64).reshape(-1, 3)
+        self.zz = np.array([prods[k] for k, _, _ in combos], dtype=float)
         self.ln_prods = np.log(np.array(prods, dtype=float))
         self.absz = np.abs(bound.z).astype(float)
         self.alphas = np.asarray(bound.alphas, dtype=float)
@@ -161,12 +166,12 @@ def run(bound, m: np.ndarray, I: np.ndarray, T, Aphi, want: set) -> dict:
     n, N = m.shape
     T = np.asarray(T, dtype=float)
     nq = len(plan.sources)
-    cfr = np.empty((nq, BLOCK))
+    cfr = np.zeros((nq + 1, BLOCK))  # a coefficient per row of a block; the last row stays 0
     if T.ndim == 0:
-        cfr[:] = plan.values(bound.at(T))[:, None]
+        cfr[:nq] = plan.values(bound.at(T))[:, None]
         T_rows, dep = np.zeros(1), plan.dep[:0]
     else:
-        cfr[:] = plan.W[:, :1]
+        cfr[:nq] = plan.W[:, :1]
         T_rows, dep = T, plan.dep
     m, I, T_rows, A = (_frozen(x) for x in (m, I, T_rows, np.asarray(Aphi, dtype=float).reshape(-1)))
     lng = np.empty((n, N) if "lng" in want else (n, 0))
@@ -175,7 +180,7 @@ def run(bound, m: np.ndarray, I: np.ndarray, T, Aphi, want: set) -> dict:
     p = plan
     _blocks(
         m, I, A, T_rows, cfr, p.W, dep, p.absz, p.alphas,
-        p.ca, p.bk_ptr, p.bk, p.th, p.ps, p.lam, p.ze, p.et, p.zz, p.ln_prods,
+        p.ca, p.bk_ptr, p.bk, p.th, p.ps, p.lam, p.ze, p.et, p.combos, p.zz, p.ln_prods,
         *_pieces(), lng, phi, gex,
     )  # fmt: skip
     return {k: v for k, v in (("lng", lng), ("phi", phi), ("gex", gex)) if k in want}
@@ -222,17 +227,20 @@ def _j_xdj(lnx, u0, inv_h, knots, c0, c1, c2, c3, last):
 
 @njit(cache=True, fastmath=False)
 def _blocks(
-    m, I, A, T, cfr, W, dep, absz, alphas, ca, bk_ptr, bk, th, ps, lam, ze, et, zz, ln_prods,
+    m, I, A, T, cfr, W, dep, absz, alphas, ca, bk_ptr, bk, th, ps, lam, ze, et, combos, zz, ln_prods,
     u0, inv_h, knots, c0, c1, c2, c3, last, lng, phi, gex,
 ):  # fmt: skip
     ns, N = m.shape
     K, BR, NP = len(alphas), cfr.shape[1], len(ln_prods)
     want_lng, want_phi, want_gex = lng.shape[1] > 0, phi.shape[0] > 0, gex.shape[0] > 0
     a_step = 1 if A.shape[0] > 1 else 0
-    mb = np.empty((ns, BR))
     out = np.empty((ns, BR))
+    mb = np.empty((ns, BR))
     g, gp, ek, Pk = np.empty((K, BR)), np.empty((K, BR)), np.empty((K, BR)), np.empty((K, BR))
     Jv, xJv = np.empty((NP, BR)), np.empty((NP, BR))
+    NC = len(combos)
+    Et, Etp = np.empty((NC, BR)), np.empty((NC, BR))
+    Fr = np.empty(BR)
     rowsums = np.empty((16, BR))  # per-row quantities of a block, one row each
     Ib, a, Z, tot = rowsums[0], rowsums[1], rowsums[2], rowsums[3]
     sI, opb, ln1, Bv = rowsums[4], rowsums[5], rowsums[6], rowsums[7]
@@ -283,52 +291,44 @@ def _blocks(
         for i in range(ns):
             for r in range(L):
                 out[i, r] = 0.0
+        # Rows are indexed in place (out[i, r], not a row view out[i]): a view in these loops
+        # costs a reference count each time it is formed.
         # cation–anion pairs: 2 B_ca and Z C_ca into ln γ; Σ m m β0, Σ m m Bk, Σ m m C
         for p in range(len(ca)):
             c, an, qb, qc = ca[p, 0], ca[p, 1], ca[p, 2], ca[p, 3]
-            mc, ma, oc, oa = mb[c], mb[an], out[c], out[an]
-            if qb >= 0:
-                wb = cfr[qb]
-                for r in range(L):
-                    Bv[r] = wb[r]
-                    SB0[r] += wb[r] * mc[r] * ma[r]
-            else:
-                Bv[:L] = 0.0
-            for e in range(bk_ptr[p], bk_ptr[p + 1]):
-                k, w = bk[e, 0], cfr[bk[e, 1]]
-                gk, Pkk = g[k], Pk[k]
-                for r in range(L):
-                    Bv[r] += w[r] * gk[r]
-                    Pkk[r] += w[r] * mc[r] * ma[r]
             for r in range(L):
-                oc[r] += 2.0 * Bv[r] * ma[r]
-                oa[r] += 2.0 * Bv[r] * mc[r]
-            if qc >= 0:
-                w = cfr[qc]
+                Bv[r] = cfr[qb, r]
+            for e in range(bk_ptr[p], bk_ptr[p + 1]):
+                k, q = bk[e, 0], bk[e, 1]
                 for r in range(L):
-                    zc = Z[r] * w[r]
-                    oc[r] += zc * ma[r]
-                    oa[r] += zc * mc[r]
-                    SC[r] += w[r] * mc[r] * ma[r]
+                    Bv[r] += cfr[q, r] * g[k, r]
+                    Pk[k, r] += cfr[q, r] * mb[c, r] * mb[an, r]
+            for r in range(L):
+                mc, ma, wb, wc = mb[c, r], mb[an, r], cfr[qb, r], cfr[qc, r]
+                t = 2.0 * Bv[r] + Z[r] * wc
+                out[c, r] += t * ma
+                out[an, r] += t * mc
+                SB0[r] += wb * mc * ma
+                SC[r] += wc * mc * ma
         # θ: 2 θ_ij m_j into ln γ_i; Σ_{i<j} 2 m_i m_j θ_ij
         for p in range(len(th)):
-            i, j, w = th[p, 0], th[p, 1], cfr[th[p, 2]]
-            mi, mj, oi, oj = mb[i], mb[j], out[i], out[j]
+            i, j, q = th[p, 0], th[p, 1], th[p, 2]
             for r in range(L):
-                oi[r] += 2.0 * w[r] * mj[r]
-                oj[r] += 2.0 * w[r] * mi[r]
-                sPhi[r] += 2.0 * w[r] * mi[r] * mj[r]
+                w2 = 2.0 * cfr[q, r]
+                out[i, r] += w2 * mb[j, r]
+                out[j, r] += w2 * mb[i, r]
+                sPhi[r] += w2 * mb[i, r] * mb[j, r]
         # ψ_ijk: into ln γ of each of the three; Σ_c m_c PsiC_c + Σ_a m_a PsiA_a = 2 Σ triples
         for p in range(len(ps)):
-            i, j, k, w = ps[p, 0], ps[p, 1], ps[p, 2], cfr[ps[p, 3]]
-            mi, mj, mk = mb[i], mb[j], mb[k]
-            oi, oj, ok = out[i], out[j], out[k]
+            i, j, k, q = ps[p, 0], ps[p, 1], ps[p, 2], ps[p, 3]
             for r in range(L):
-                wk = w[r] * mk[r]
-                oi[r] += wk * mj[r]
-                oj[r] += wk * mi[r]
-                ok[r] += w[r] * mi[r] * mj[r]
-                sPsi[r] += 2.0 * wk * mi[r] * mj[r]
+                w, mi, mj, mk = cfr[q, r], mb[i, r], mb[j, r], mb[k, r]
+                wk = w * mk
+                out[i, r] += wk * mj
+                out[j, r] += wk * mi
+                t = w * mi * mj
+                out[k, r] += t
+                sPsi[r] += 2.0 * t * mk
         # Eθ, Eθ′ (0 where I ≤ 1e-20 mol/kg, as e_theta)
         if len(et):
             for r in range(L):
@@ -336,36 +336,40 @@ def _blocks(
                     lb = math.log(6.0 * a[r] * sI[r])
                     for kp in range(NP):
                         Jv[kp, r], xJv[kp, r] = _j_xdj(lb + ln_prods[kp], u0, inv_h, knots, c0, c1, c2, c3, last)
-            for p in range(len(et)):
-                i, j, kij, kii, kjj = et[p, 0], et[p, 1], et[p, 2], et[p, 3], et[p, 4]
-                zp = zz[p]
-                mi, mj, oi, oj = mb[i], mb[j], out[i], out[j]
+            for cb in range(NC):  # Eθ and Eθ′ of each charge combination, per row
+                kij, kii, kjj, zp = combos[cb, 0], combos[cb, 1], combos[cb, 2], zz[cb]
                 for r in range(L):
                     Ir = Ib[r]
                     if Ir > 1e-20:
-                        e1 = zp / (4.0 * Ir) * (Jv[kij, r] - 0.5 * Jv[kii, r] - 0.5 * Jv[kjj, r])
-                        e2 = -e1 / Ir + zp / (8.0 * Ir * Ir) * (xJv[kij, r] - 0.5 * xJv[kii, r] - 0.5 * xJv[kjj, r])
-                        oi[r] += 2.0 * e1 * mj[r]
-                        oj[r] += 2.0 * e1 * mi[r]
-                        mm = mi[r] * mj[r]
-                        sp[r] += e2 * mm
-                        sE[r] += e1 * mm
+                        q = zp * (0.25 / Ir)  # z_i z_j / (4 I)
+                        e1 = q * (Jv[kij, r] - 0.5 * Jv[kii, r] - 0.5 * Jv[kjj, r])
+                        Et[cb, r] = e1
+                        Etp[cb, r] = (0.5 * q * (xJv[kij, r] - 0.5 * xJv[kii, r] - 0.5 * xJv[kjj, r]) - e1) / Ir
+                    else:
+                        Et[cb, r] = 0.0
+                        Etp[cb, r] = 0.0
+            for p in range(len(et)):
+                i, j, cb = et[p, 0], et[p, 1], et[p, 2]
+                for r in range(L):
+                    e1, mi, mj = Et[cb, r], mb[i, r], mb[j, r]
+                    out[i, r] += 2.0 * e1 * mj
+                    out[j, r] += 2.0 * e1 * mi
+                    sp[r] += Etp[cb, r] * mi * mj
+                    sE[r] += e1 * mi * mj
         # λ (ordered pairs) and ζ
         for p in range(len(lam)):
-            i, j, w = lam[p, 0], lam[p, 1], cfr[lam[p, 2]]
-            mi, mj, oi = mb[i], mb[j], out[i]
+            i, j, q = lam[p, 0], lam[p, 1], lam[p, 2]
             for r in range(L):
-                oi[r] += 2.0 * w[r] * mj[r]
-                lq[r] += mi[r] * w[r] * mj[r]
+                out[i, r] += 2.0 * cfr[q, r] * mb[j, r]
+                lq[r] += mb[i, r] * cfr[q, r] * mb[j, r]
         for p in range(len(ze)):
-            nn, c, an, w = ze[p, 0], ze[p, 1], ze[p, 2], cfr[ze[p, 3]]
-            mn, mc, ma = mb[nn], mb[c], mb[an]
-            on, oc, oa = out[nn], out[c], out[an]
+            nn, c, an, q = ze[p, 0], ze[p, 1], ze[p, 2], ze[p, 3]
             for r in range(L):
-                on[r] += w[r] * mc[r] * ma[r]
-                oc[r] += w[r] * mn[r] * ma[r]
-                oa[r] += w[r] * mn[r] * mc[r]
-                zq[r] += w[r] * mn[r] * mc[r] * ma[r]
+                w, mn, mc, ma = cfr[q, r], mb[nn, r], mb[c, r], mb[an, r]
+                out[nn, r] += w * mc * ma
+                out[c, r] += w * mn * ma
+                out[an, r] += w * mn * mc
+                zq[r] += w * mn * mc * ma
         # the per-row closing terms
         for r in range(L):
             Ir = Ib[r]
@@ -377,11 +381,7 @@ def _blocks(
                 Sp += gp[k, r] * inv_I * Pk[k, r]
                 Sg += g[k, r] * Pk[k, r]
                 Sphi += ek[k, r] * Pk[k, r]
-            if want_lng:
-                F = -a[r] * (sI[r] / opb[r] + (2.0 / B_CONST) * ln1[r]) + Sp + sp[r]
-                for i in range(ns):
-                    zi = absz[i]
-                    lng[i, r0 + r] = (out[i, r] + ((zi * zi) * F + zi * SC[r])) / LN10
+            Fr[r] = -a[r] * (sI[r] / opb[r] + (2.0 / B_CONST) * ln1[r]) + Sp + sp[r]
             sPh = 2.0 * sE[r] + sPhi[r]
             if want_phi:
                 acc = 2.0 * (-a[r] * Ir * sI[r] / opb[r] + Sphi + Z[r] * SC[r] + 0.5 * (sPh + sPsi[r]) + Ir * sp[r])
@@ -392,3 +392,8 @@ def _blocks(
                     -a[r] * (4.0 * Ir / B_CONST) * ln1[r]
                     + 2.0 * (SB0[r] + Sg) + Z[r] * SC[r] + sPh + 0.5 * sPsi[r] + lq[r] + zq[r]
                 )  # fmt: skip
+        if want_lng:
+            for i in range(ns):
+                zi = absz[i]
+                for r in range(L):
+                    lng[i, r0 + r] = (out[i, r] + ((zi * zi) * Fr[r] + zi * SC[r])) * INV_LN10

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import functools
 import os
+import sys
 import warnings
 from typing import Any
 
@@ -33,11 +34,17 @@ KERNELS = ("auto", "numpy", "compiled")
 #: Environment variable read when ``kernel="auto"``: "numpy" forces the numpy kernel
 #: (e.g. to compare, or where numba misbehaves), "compiled" forces the compiled one.
 KERNEL_ENV = "ACTIVITY_PITZER_KERNEL"
-#: "auto" compiles (or loads from numba's on-disk cache) only for batches of at least this
-#: many rows: the first call in a process costs numba's import and the loading of the
-#: compiled code (measured in benchmarks/bench_speed.py, row pitzer-compile), which small
-#: calls and the command line on one composition never pay.
-COMPILED_MIN_ROWS = 50_000
+#: "auto" loads the compiled kernel (numba's import, then the compiled code from numba's
+#: on-disk cache: 1.7 s measured on a loaded 2-core machine; the first compilation after an
+#: install, 20 s, once) only for a batch of at least this many rows, so that small calls and
+#: the command line (tables go in chunks of 10⁵ rows) never pay it ...
+COMPILED_MIN_ROWS = 200_000
+#: ... and, once it is loaded in the process, uses it for batches of at least this many.
+COMPILED_MIN_ROWS_LOADED = 5_000
+
+
+def _compiled_loaded() -> bool:
+    return f"{__package__}._compiled" in sys.modules
 
 
 @functools.lru_cache(maxsize=1)
@@ -71,7 +78,9 @@ class PitzerModel(ActivityModel):
         Which implementation evaluates the equations. "numpy" is the pure-numpy kernel;
         "compiled" a numba kernel (install the extra ``activity[fast]``), several times
         faster on large batches; "auto" uses the compiled kernel when numba is installed
-        and the batch has at least :data:`COMPILED_MIN_ROWS` rows, else numpy. With
+        and the batch has at least :data:`COMPILED_MIN_ROWS` rows (the first use in a
+        process costs about a second), or :data:`COMPILED_MIN_ROWS_LOADED` once it is
+        loaded, else numpy. With
         "auto" the environment variable ``ACTIVITY_PITZER_KERNEL`` (one of the three
         values) overrides the choice. Both kernels give the same results to rounding
         (about 1e-15 relative).
@@ -145,7 +154,9 @@ class PitzerModel(ActivityModel):
             choice, field = os.environ[KERNEL_ENV].strip().lower(), KERNEL_ENV
         if choice not in KERNELS:
             raise InputError(f"unknown Pitzer kernel; choose one of {', '.join(KERNELS)}", field=field, value=choice)
-        if choice == "numpy" or (choice == "auto" and N < COMPILED_MIN_ROWS):
+        if choice == "numpy":
+            return None
+        if choice == "auto" and N < (COMPILED_MIN_ROWS_LOADED if _compiled_loaded() else COMPILED_MIN_ROWS):
             return None
         mod = _compiled_kernel()
         if isinstance(mod, ImportError):

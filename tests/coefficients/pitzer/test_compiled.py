@@ -104,11 +104,14 @@ def test_compiled_handles_a_2d_batch_and_an_empty_one():
 
 
 # ---- the rule ------------------------------------------------------------------------------
-def test_auto_uses_the_compiled_kernel_for_large_batches_only(monkeypatch):
+@pytest.mark.parametrize("loaded", [False, True])
+def test_auto_uses_the_compiled_kernel_for_large_batches_only(monkeypatch, loaded):
     monkeypatch.delenv(pitzer_model.KERNEL_ENV, raising=False)
+    monkeypatch.setattr(pitzer_model, "_compiled_loaded", lambda: loaded)
+    least = pitzer_model.COMPILED_MIN_ROWS_LOADED if loaded else pitzer_model.COMPILED_MIN_ROWS
     model = PitzerModel()
-    assert model._compiled_for(pitzer_model.COMPILED_MIN_ROWS - 1) is None
-    assert model._compiled_for(pitzer_model.COMPILED_MIN_ROWS) is not None
+    assert model._compiled_for(least - 1) is None
+    assert model._compiled_for(least) is not None
     assert PitzerModel(kernel="numpy")._compiled_for(10**7) is None
     assert PitzerModel(kernel="compiled")._compiled_for(1) is not None
 
@@ -137,6 +140,11 @@ def test_without_numba_auto_falls_back_and_compiled_says_what_to_install(monkeyp
     assert PitzerModel()._compiled_for(10**7) is None
     with pytest.raises(InputError, match=r"activity\[fast\]"):
         PitzerModel(kernel="compiled")._compiled_for(1)
+
+
+def test_loaded_means_the_module_is_imported():
+    PitzerModel(kernel="compiled")._compiled_for(1)
+    assert pitzer_model._compiled_loaded()
 
 
 def test_import_and_small_calls_do_not_import_numba():
