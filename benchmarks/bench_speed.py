@@ -41,9 +41,19 @@ HERE = Path(__file__).resolve().parent
 ROWS = {
     "davies": ("Davies incl. building the Solution / bare fused numpy, 10⁶ rows", "x", "≤ 1.5"),
     "extended-dh": ("extended DH incl. building the Solution / bare fused numpy, 10⁶ rows", "x", "≤ 1.5"),
-    "pitzer-one-T": ("Pitzer 8-ion seawater, one T, γ+φ+checks, 10⁶ rows", "rows/s", "≥ 2.5e6"),
-    "pitzer-T-per-row": ("Pitzer 8-ion seawater, T per row, γ+φ+checks, 10⁶ rows", "rows/s", "≥ 1e6"),
-    "pitzer-memory": ("Pitzer peak memory above the output (γ, φ, in_range), 10⁶ rows", "MB", "≤ 150"),
+    "pitzer-one-T": ("Pitzer 8-ion seawater, one T, γ+φ+checks, 10⁶ rows, auto", "rows/s", "≥ 2.5e6"),
+    "pitzer-one-T-numpy": ("  the same, numpy kernel", "rows/s", ""),
+    "pitzer-one-T-compiled": ("  the same, compiled kernel", "rows/s", ""),
+    "pitzer-one-T-x": ("  speed compiled / numpy kernel, one child, interleaved", "x", ""),
+    "pitzer-T-per-row": ("Pitzer 8-ion seawater, T/row, γ+φ+checks, 10⁶ rows, auto", "rows/s", "≥ 1e6"),
+    "pitzer-T-per-row-numpy": ("  the same, numpy kernel", "rows/s", ""),
+    "pitzer-T-per-row-compiled": ("  the same, compiled kernel", "rows/s", ""),
+    "pitzer-T-per-row-x": ("  speed compiled / numpy kernel, one child, interleaved", "x", ""),
+    "pitzer-compile": ("  compiled: 1st call, numba import + JIT, empty cache", "s", ""),
+    "pitzer-compile-cached": ("  compiled: 1st call, numba import + on-disk cache", "s", ""),
+    "pitzer-memory": ("Pitzer peak memory above output (γ, φ, in_range), auto", "MB", "≤ 150"),
+    "pitzer-memory-numpy": ("  the same, numpy kernel", "MB", "≤ 150"),
+    "pitzer-memory-compiled": ("  the same, compiled kernel", "MB", "≤ 150"),
     "pitzer-checks": ("  of which the per-interaction range checks alone (see report)", "MB", ""),
     "ise": ("ISE potential / the model alone, 10⁶ rows", "x", "≤ 1.3"),
     "ise-floor": ("  floor: the model + one np.log per row / the model alone", "x", ""),
@@ -127,23 +137,66 @@ def _seawater(n, T_per_row):
     return act.Solution({s: v * k for s, v in SEAWATER.items()}, T=T, neutrality="ignore")
 
 
+def _pitzer_model(name):
+    """The model a Pitzer row measures: the kernel named by the row's suffix (numpy or compiled),
+    else the default. A checkout without the ``kernel`` option has the numpy kernel only."""
+    import activity as act
+
+    kernel = "compiled" if name.endswith("-compiled") else "numpy" if name.endswith("-numpy") else None
+    if kernel is None:
+        return act.get_model("pitzer")
+    try:
+        return act.get_model("pitzer", kernel=kernel)
+    except TypeError:
+        if kernel == "compiled":
+            raise
+        return act.get_model("pitzer")
+
+
 def row_pitzer(name, quick):
     from _common import interleaved
 
     import activity as act
 
     n = 100_000 if quick else 1_000_000
-    sol = _seawater(n, name == "pitzer-T-per-row")
-    model = act.get_model("pitzer")
+    sol = _seawater(n, name.startswith("pitzer-T-per-row"))
+    if name.endswith("-x"):  # both kernels in this child, interleaved: the ratio of speeds
+        models = {k: act.get_model("pitzer", kernel=k) for k in ("numpy", "compiled")}
+    else:
+        models = {"run": _pitzer_model(name)}
 
-    def run():
-        r = model.activity_coefficients(
-            act.Solution._from_arrays(sol.species, sol.charges, sol.m, sol.T_compact, sol.P_compact), warn=False
+    def runner(model):
+        def run():
+            fresh = act.Solution._from_arrays(sol.species, sol.charges, sol.m, sol.T_compact, sol.P_compact)
+            r = model.activity_coefficients(fresh, warn=False)
+            return r.log10_gamma, r.osmotic_coefficient, r.in_range
+
+        return run
+
+    t = interleaved({k: runner(m) for k, m in models.items()}, repeat=3 if quick else 5)
+    return t["numpy"] / t["compiled"] if name.endswith("-x") else n / t["run"]
+
+
+def row_pitzer_compile(name, quick):
+    """Wall time of the first compiled call in a process (numba's import, then compiling or
+    loading from the on-disk cache), on 1000 rows. "pitzer-compile" points numba's cache
+    at an empty directory; "-cached" first fills one in a child, then measures another."""
+    import tempfile
+
+    with tempfile.TemporaryDirectory() as tmp:
+        env = dict(os.environ, NUMBA_CACHE_DIR=tmp)
+        code = (
+            f"import sys, time, warnings; warnings.simplefilter('ignore'); sys.path.insert(0, {str(HERE)!r});"
+            "import _common;"
+            "import activity as act; from bench_speed import _seawater; s = _seawater(1000, False);"
+            "m = act.get_model('pitzer', kernel='compiled'); m.bind(s.species, s.charges);"
+            "t = time.perf_counter(); m.activity_coefficients(s, warn=False); print(time.perf_counter() - t)"
         )
-        return r.log10_gamma, r.osmotic_coefficient, r.in_range
-
-    t = interleaved({"run": run}, repeat=3 if quick else 5)
-    return n / t["run"]
+        args = dict(env=env, capture_output=True, text=True, check=True, cwd=str(HERE))
+        if name.endswith("-cached"):
+            subprocess.run([sys.executable, "-c", code], **args)
+        out = subprocess.run([sys.executable, "-c", code], **args)
+        return float(out.stdout.strip().splitlines()[-1])
 
 
 def row_pitzer_memory(name, quick):
@@ -155,8 +208,8 @@ def row_pitzer_memory(name, quick):
 
     n = 100_000 if quick else 1_000_000
     sol = _seawater(n, False)
-    model = act.get_model("pitzer")
-    model.activity_coefficients(sol[:10], warn=False)  # bind, load parameters
+    model = _pitzer_model(name)
+    model.activity_coefficients(sol, warn=False)  # bind, load parameters (and numba, if used)
     fresh = act.Solution._from_arrays(sol.species, sol.charges, sol.m, sol.T_compact, sol.P_compact)
     tracemalloc.start()
     r = model.activity_coefficients(fresh, warn=False)
@@ -377,9 +430,10 @@ def row_cli(name, quick):
 RUNNERS = {
     "davies": row_dh,
     "extended-dh": row_dh,
-    "pitzer-one-T": row_pitzer,
-    "pitzer-T-per-row": row_pitzer,
-    "pitzer-memory": row_pitzer_memory,
+    **{f"pitzer-{c}{k}": row_pitzer for c in ("one-T", "T-per-row") for k in ("", "-numpy", "-compiled", "-x")},
+    "pitzer-compile": row_pitzer_compile,
+    "pitzer-compile-cached": row_pitzer_compile,
+    **{f"pitzer-memory{k}": row_pitzer_memory for k in ("", "-numpy", "-compiled")},
     "pitzer-checks": row_pitzer_checks,
     "ise": row_ise,
     "ise-floor": row_ise,
@@ -439,6 +493,8 @@ def main():
         for e in errors:
             print(f"    {e}")
     print("x = time of the package path / time of its bare-numpy reference, medians of interleaved calls")
+    if any(r.startswith("pitzer-") and r.endswith("-x") for r in rows):
+        print("speed compiled / numpy kernel = median time of the numpy kernel / of the compiled one, same child")
 
 
 if __name__ == "__main__":

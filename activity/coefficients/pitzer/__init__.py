@@ -2,7 +2,8 @@
 
 Modules: ``_params`` (file layout, validation, temperature functions), ``_binding``
 (species-set binding), ``_kernel`` (the equations), ``_unsym`` (J, Eθ), ``_model``
-(the :class:`PitzerModel` class).
+(the :class:`PitzerModel` class), ``_compiled`` (the equations compiled with numba, an
+optional extra; imported only when a model uses it).
 """
 
 from ._model import PitzerModel
