@@ -35,6 +35,14 @@ __all__ = ["run", "BLOCK"]
 
 INV_LN10 = 1.0 / LN10
 
+# numba freezes the module-level constants the compiled functions read into the code it
+# caches on disk, and keys that cache on this file alone. So their values are written out
+# here too: a change in their home modules stops this import (and editing the line below
+# renews the cache) instead of leaving stale constants in cached code.
+_WRITTEN_OUT = (2.302585092994046, 298.15, 1.2, 1e-5, 1e4)  # LN10, T_REF, B_CONST, J table range
+if (LN10, T_REF, B_CONST, _X_MIN, _X_MAX) != _WRITTEN_OUT:
+    raise ImportError("a constant of the compiled Pitzer kernel changed: update _WRITTEN_OUT in " + __name__)
+
 #: Rows per block: the per-row sums and the coefficient rows of a block stay in cache.
 BLOCK = 128
 
