@@ -250,23 +250,30 @@ class ActivityModel:
         bound = self.bind(sol.species, sol.charges)
         I = np.asarray(sol.ionic_strength, dtype=float)
         lg, phi = self.compute(sol, bound, I)
-        ok, notes = self.check_range(sol, I)
-        bnotes, missing = self.binding_notes(bound)
+        in_range, notes, missing, alerts = self._range_record(sol, bound, I)
         if warn:
-            for note in notes:
+            for note in alerts:
                 warnings.warn(note, ValidityWarning, stacklevel=2)
         return CoefficientResult(
             species=sol.species,
             log10_gamma=lg,
             ionic_strength=scalar_or_array(I),
             model=self.name,
-            in_range=bool(ok) if ok.ndim == 0 else ok,
-            notes=notes + bnotes,
+            in_range=in_range,
+            notes=notes,
             missing=missing,
-            alerts=notes,
+            alerts=alerts,
             _phi=phi,
             _total_molality=sol.total_molality,
         )
+
+    def _range_record(self, sol: Solution, bound: Any, I: np.ndarray) -> tuple[Any, tuple, tuple, tuple]:
+        """(in_range, notes, missing, alerts) of a result for ``sol``: the validity checks
+        (:meth:`check_range`) and the binding's notes, as :meth:`activity_coefficients` records
+        them (internal; also used by callers that evaluate a few species' rows alone)."""
+        ok, notes = self.check_range(sol, I)
+        bnotes, missing = self.binding_notes(bound)
+        return (bool(ok) if ok.ndim == 0 else ok), notes + bnotes, missing, notes
 
     def log10_gamma(self, sol: Solution) -> np.ndarray:
         """log10 γ of every species, shape ``(n_species,) + sol.shape`` (no validity checks)."""
