@@ -117,6 +117,8 @@ class DebyeHuckelForm(ActivityModel):
         ok, notes = super().check_range(sol, I)
         notes = notes + tuple(f"{self.name}: {n}" for n in pressure_notes(sol.P_compact))  # A, B from 1-atm density
         z = sol.charges
+        if not np.any(z <= -2):
+            return ok, notes  # neither limit below applies without a multivalent anion
         m = sol.m.reshape(len(z), -1)
         n_rows = m.shape[1]
         multi_cat = (m[z >= 2] > 0).any(axis=0) if np.any(z >= 2) else np.zeros(n_rows, bool)
