@@ -22,6 +22,14 @@ def finite_array(value: Any, field: str, *, nonnegative: bool = False, positive:
         arr = np.asarray(value, dtype=float)
     except (TypeError, ValueError):
         raise InputError("not a number", field=field, value=value) from None
+    if arr.size > 1:
+        # two reductions instead of three elementwise tests with their boolean temporaries:
+        # min and max are NaN when any value is, so both finite means every value is; the
+        # sign conditions follow from the least value. Only a failure takes the tests below,
+        # which name the first offending value as before.
+        lo, hi = arr.min(), arr.max()
+        if np.isfinite(lo) and np.isfinite(hi) and not (positive and lo <= 0) and not (nonnegative and lo < 0):
+            return arr
     if not np.all(np.isfinite(arr)):
         bad = arr if arr.ndim == 0 else arr[~np.isfinite(arr)][0]
         raise InputError("must be finite (no NaN or infinity)", field=field, value=float(bad))
@@ -39,9 +47,17 @@ def temperature(T: ArrayLike, field: str = "T", t_min: float = T_MIN, t_max: flo
 
     A value below 273.15 K that would be a plausible Celsius temperature gets a hint.
     """
-    arr = finite_array(T, field)
-    lo = float(arr.min()) if arr.size else t_min
-    hi = float(arr.max()) if arr.size else t_max
+    try:
+        arr = np.asarray(T, dtype=float)
+    except (TypeError, ValueError):
+        arr = None
+    if arr is not None and arr.size:  # min and max serve both checks (NaN makes them NaN)
+        lo, hi = float(arr.min()), float(arr.max())
+        if not (np.isfinite(lo) and np.isfinite(hi)):
+            finite_array(T, field)  # raises, naming the first bad value
+    else:
+        arr = finite_array(T, field)
+        lo, hi = t_min, t_max
     if lo < t_min:
         if t_min <= lo + ZERO_CELSIUS <= t_max:  # a plausible Celsius number given as kelvin
             raise InputError(

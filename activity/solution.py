@@ -157,14 +157,17 @@ class Solution:
         # value is NaN, so "min ≥ 0 and max finite" holds exactly when every value is finite
         # and non-negative. Only when it fails are the species checked one by one, which
         # names the first offending species and value as before.
-        if m.size == 0 or not (m.min() >= 0.0 and np.isfinite(m.max())):
+        lo = m.min() if m.size else 0.0
+        if m.size == 0 or not (lo >= 0.0 and np.isfinite(m.max())):
             _check_each(names, raw_values)
         self._init(tuple(names), np.array(charges, dtype=int), m, T_arr, P_arr, shape)
         if balance_with is not None:
             balanced = self.balance(balance_with)
             self._init(balanced._species, balanced._charges, balanced._m, T_arr, P_arr, shape)
-        elif neutrality != "ignore":
-            self._check_neutrality(neutrality, neutrality_tol)
+        else:
+            self._cache["min"] = float(lo)  # the least molality, known from the check above
+            if neutrality != "ignore":
+                self._check_neutrality(neutrality, neutrality_tol)
 
     def _init(self, species, charges, m, T, P, shape) -> None:
         m.setflags(write=False)
@@ -205,6 +208,11 @@ class Solution:
         obj = cls.__new__(cls)
         obj._init(species, charges, m, T, P, m.shape[1:])
         return obj
+
+    def _known_positive(self) -> bool:
+        """Whether every molality is known to be > 0 without a pass over them (the least
+        molality was found by the checks at construction); False when unknown."""
+        return self._cache.get("min", 0.0) > 0.0
 
     # ------------------------------------------------------------------ views
     @property
@@ -329,10 +337,16 @@ class Solution:
     # -------------------------------------------------------------- changes
     def _check_neutrality(self, mode: str, tol: float) -> None:
         sums = self._sums()
+        # |Σ z m| > tol · ½ Σ |z| m is "relative imbalance above tol" without a division; rows
+        # with no ions (scale 0) have no imbalance and pass. When the largest imbalance is
+        # within tol times the least scale no row fails (tol ≥ 0, and rounding of a product
+        # is monotonic): three reductions decide it, without elementwise temporaries.
+        if sums[0].size and np.ndim(tol) == 0 and tol >= 0:
+            worst = max(-float(sums[0].min()), float(sums[0].max()))
+            if worst <= tol * float(sums[1].min()):
+                return
         imbalance = np.abs(sums[0])
         scale = sums[1]
-        # |Σ z m| > tol · ½ Σ |z| m is "relative imbalance above tol" without a division; rows
-        # with no ions (scale 0) have no imbalance and pass.
         bad = imbalance > tol * scale
         if np.any(bad):
             rel = np.divide(imbalance, scale, out=np.zeros_like(imbalance), where=scale > 0)

@@ -117,6 +117,8 @@ class DebyeHuckelForm(ActivityModel):
         ok, notes = super().check_range(sol, I)
         notes = notes + tuple(f"{self.name}: {n}" for n in pressure_notes(sol.P_compact))  # A, B from 1-atm density
         z = sol.charges
+        if not np.any(z <= -2):
+            return ok, notes  # neither limit below applies without a multivalent anion
         m = sol.m.reshape(len(z), -1)
         n_rows = m.shape[1]
         multi_cat = (m[z >= 2] > 0).any(axis=0) if np.any(z >= 2) else np.zeros(n_rows, bool)
@@ -151,33 +153,54 @@ class DebyeHuckelForm(ActivityModel):
         T, P = sol.T_compact, sol.P_compact
         return np.asarray(debye_huckel_A(T, P)), np.asarray(debye_huckel_B(T, P))
 
-    def compute_log10_gamma(self, sol, bound, I):
-        # Per group of ions sharing a denominator: h = −A √I/(1 + K √I) + c A I, then
-        # log10 γ_i = z_i² h + b_i I, one pass per ion (the row arrays are formed once per
-        # group, not once per ion). B(T) is evaluated only when an ion size multiplies it
-        # (not for Davies or the limiting law: it costs a second pass of the water model).
-        if any(size for (size, _), _ in bound.groups):
+    def _group_rows(self, sol, bound, I, groups):
+        """Yield (indices, h) for each group of ``groups`` (pairs of the binding's ``groups``):
+        h = −A √I/(1 + K √I) + c A I, the row that log10 γ_i = z_i² h + b_i I scales, formed
+        once per group (not once per ion). B(T) is evaluated only when an ion size multiplies
+        it (not for Davies or the limiting law: it costs a second pass of the water model)."""
+        if not groups:
+            return
+        if any(size for (size, _), _ in groups):
             A, B = self._AB(sol)
         else:
             A, B = np.asarray(debye_huckel_A(sol.T_compact, sol.P_compact)), 0.0
         s = np.sqrt(I)
-        k = len(bound.z2)
         t = bound.terms
-        out = np.empty((k,) + I.shape)
         As = A * s
-        for (size, d), idx in bound.groups:
+        last = len(groups) - 1
+        for g, ((size, d), idx) in enumerate(groups):
+            K = B * size + d
+            # the last group may write into √I and A√I (no longer needed): two row arrays for
+            # the whole kernel instead of four (each new array costs page faults on a shared
+            # machine); the same operations, so the same values
+            own = g == last and np.ndim(s) > 0 and np.shape(As) == s.shape == np.broadcast_shapes(np.shape(K), s.shape)
             if size or d:
                 # q = A√I / (1 + K√I), formed in place; K = 1 (Davies) needs no product
-                K = B * size + d
-                q = np.add(s, 1.0) if (not size and d == 1.0) else np.add(np.multiply(K, s), 1.0)
-                q = np.divide(As, q, out=q) if np.ndim(q) and np.shape(q) == np.shape(As) else As / q
+                if not size and d == 1.0:
+                    q = np.add(s, 1.0, out=s if own else None)
+                else:
+                    q = np.add(np.multiply(K, s, out=s if own else None), 1.0, out=s if own else None)
+                if own:
+                    q = np.divide(As, q, out=As)
+                else:
+                    q = np.divide(As, q, out=q) if np.ndim(q) and np.shape(q) == np.shape(As) else As / q
             else:
                 q = As
             if t.c:
-                h = np.asarray((t.c * A) * I)
-                h = h - q if h.ndim == 0 or h.shape != np.shape(q) else np.subtract(h, q, out=h)
+                if own:
+                    h = np.subtract(np.multiply(t.c * A, I, out=s), q, out=s)
+                else:
+                    h = np.asarray((t.c * A) * I)
+                    h = h - q if h.ndim == 0 or h.shape != np.shape(q) else np.subtract(h, q, out=h)
             else:
-                h = np.negative(q)
+                h = np.negative(q, out=q) if own else np.negative(q)
+            yield idx, h
+
+    def compute_log10_gamma(self, sol, bound, I):
+        k = len(bound.z2)
+        t = bound.terms
+        out = np.empty((k,) + I.shape)
+        for idx, h in self._group_rows(sol, bound, I, bound.groups):
             for i in idx:
                 np.multiply(h, bound.z2[i], out=out[i, ...])
                 if t.b[i]:
@@ -186,6 +209,28 @@ class DebyeHuckelForm(ActivityModel):
             if bound.z2[i] == 0:
                 out[i] = t.b[i] * I
         return out
+
+    def log10_gamma_rows(self, sol, bound, I, wanted):
+        """log10 γ of the species at the positions ``wanted`` alone, as {position: row}: the
+        same arithmetic as :meth:`compute_log10_gamma` (bit for bit), but the groups no
+        wanted ion belongs to are skipped and an ion with z² = 1 and no linear term gets the
+        group's row itself (z² h is h), not a copy. Rows may be shared: do not write to them."""
+        t = bound.terms
+        want = np.asarray(wanted, dtype=int)
+        groups = tuple((key, idx[np.isin(idx, want)]) for key, idx in bound.groups)
+        rows = {}
+        for idx, h in self._group_rows(sol, bound, I, tuple(g for g in groups if g[1].size)):
+            for i in idx.tolist():
+                if bound.z2[i] == 1.0 and not t.b[i]:
+                    rows[i] = np.asarray(h)
+                else:
+                    r = rows[i] = np.asarray(np.multiply(h, bound.z2[i]))
+                    if t.b[i]:
+                        r += t.b[i] * I
+        for i in want.tolist():
+            if bound.z2[i] == 0:
+                rows[i] = np.asarray(t.b[i] * I)
+        return rows
 
     def compute_osmotic(self, sol, bound, I):
         A, B = self._AB(sol)

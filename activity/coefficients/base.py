@@ -36,6 +36,14 @@ def _water_activity(phi: ArrayLike, total_molality: Any) -> Any:
     return scalar_or_array(np.exp(-np.asarray(phi) * M_WATER * np.asarray(total_molality)))
 
 
+def _exp10(lg: Any) -> Any:
+    """10**lg as exp(ln10 · lg), in place in the product: about half the time of the power
+    function, within a few units of 1e-16 relative of it for |lg| of order one (the rounding
+    of ln10 · lg, |lg| ln10 · 1.1e-16, plus that of exp)."""
+    x = np.multiply(lg, LN10)
+    return np.exp(x, out=x) if isinstance(x, np.ndarray) else np.exp(x)
+
+
 @dataclass(frozen=True)
 class Validity:
     """Where a model holds.
@@ -131,7 +139,7 @@ class CoefficientResult(Mapping):
         key = name if name in self._index else parse_species(name).name
         if key not in self._index:
             raise KeyError(name)
-        return scalar_or_array(10.0 ** self.log10_gamma[self._index[key]])
+        return scalar_or_array(_exp10(self.log10_gamma[self._index[key]]))
 
     def __iter__(self) -> Iterator[str]:
         return iter(self.species)
@@ -142,7 +150,7 @@ class CoefficientResult(Mapping):
     @property
     def gamma(self) -> np.ndarray:
         """All activity coefficients as an array shaped like :attr:`log10_gamma`."""
-        return 10.0**self.log10_gamma
+        return _exp10(self.log10_gamma)
 
     def __repr__(self) -> str:
         body = ", ".join(
@@ -216,7 +224,9 @@ class ActivityModel:
         v = self.validity
         notes = []
         ok = np.ones(np.shape(I), dtype=bool)
-        if np.isfinite(v.max_ionic_strength):
+        # each elementwise mask is formed only when a reduction says some row fails (for
+        # finite values the same decision; NaN compares False either way)
+        if np.isfinite(v.max_ionic_strength) and np.size(I) and np.max(I) > v.max_ionic_strength:
             high = I > v.max_ionic_strength
             if np.any(high):
                 ok &= ~high
@@ -226,8 +236,8 @@ class ActivityModel:
                     "outside the model's validity"
                 )
         T = sol.T_compact
-        t_bad = (T < v.T_min) | (T > v.T_max)
-        if np.any(t_bad):
+        if np.size(T) and (np.min(T) < v.T_min or np.max(T) > v.T_max):
+            t_bad = (T < v.T_min) | (T > v.T_max)
             ok &= ~np.broadcast_to(t_bad, ok.shape)
             notes.append(
                 f"{self.name}: temperature outside {v.T_min - ZERO_CELSIUS:g}–{v.T_max - ZERO_CELSIUS:g} °C, "
@@ -250,23 +260,30 @@ class ActivityModel:
         bound = self.bind(sol.species, sol.charges)
         I = np.asarray(sol.ionic_strength, dtype=float)
         lg, phi = self.compute(sol, bound, I)
-        ok, notes = self.check_range(sol, I)
-        bnotes, missing = self.binding_notes(bound)
+        in_range, notes, missing, alerts = self._range_record(sol, bound, I)
         if warn:
-            for note in notes:
+            for note in alerts:
                 warnings.warn(note, ValidityWarning, stacklevel=2)
         return CoefficientResult(
             species=sol.species,
             log10_gamma=lg,
             ionic_strength=scalar_or_array(I),
             model=self.name,
-            in_range=bool(ok) if ok.ndim == 0 else ok,
-            notes=notes + bnotes,
+            in_range=in_range,
+            notes=notes,
             missing=missing,
-            alerts=notes,
+            alerts=alerts,
             _phi=phi,
             _total_molality=sol.total_molality,
         )
+
+    def _range_record(self, sol: Solution, bound: Any, I: np.ndarray) -> tuple[Any, tuple, tuple, tuple]:
+        """(in_range, notes, missing, alerts) of a result for ``sol``: the validity checks
+        (:meth:`check_range`) and the binding's notes, as :meth:`activity_coefficients` records
+        them (internal; also used by callers that evaluate a few species' rows alone)."""
+        ok, notes = self.check_range(sol, I)
+        bnotes, missing = self.binding_notes(bound)
+        return (bool(ok) if ok.ndim == 0 else ok), notes + bnotes, missing, notes
 
     def log10_gamma(self, sol: Solution) -> np.ndarray:
         """log10 γ of every species, shape ``(n_species,) + sol.shape`` (no validity checks)."""

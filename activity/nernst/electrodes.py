@@ -231,6 +231,11 @@ def _own_row_model(model: Any) -> bool:
     )
 
 
+def _record(g: Any) -> tuple:
+    """(model name, notes, in_range, alerts) of a model's result, what an electrode passes on."""
+    return g.model, g.notes, g.in_range, g.alerts
+
+
 def free_solution(sol: Solution, model: Any, speciation: Mapping[str, Any] | None) -> tuple[Solution, tuple[str, ...]]:
     """``sol`` itself, or — when ``speciation`` is given — its free species after speciation
     (:func:`activity.speciation.speciate` with those keyword arguments), with a note."""
@@ -375,8 +380,8 @@ class IonSelectiveElectrode(Electrode):
             return None
         shape = np.broadcast_shapes(sol.shape, *(np.shape(self.selectivity[j]) for j, _ in present))
         # mᵢ + Σ Kᵢⱼ mⱼ written into one new array (no copy of mᵢ first; without interferents
-        # mᵢ itself, the logarithm being the new array); "min > 0" is False for NaN as well,
-        # without a boolean temporary
+        # mᵢ itself, the logarithm being the new array); it is > 0 when every molality is
+        # (Kᵢⱼ ≥ 0), else "min > 0" is checked, False for NaN as well, without a boolean temporary
         if present:
             total = np.empty(shape)
             (j0, k0), rest = present[0], present[1:]
@@ -386,7 +391,7 @@ class IonSelectiveElectrode(Electrode):
             total += sol.m[i]
         else:
             total = sol.m[i]
-        if not (total.size == 0 or total.min() > 0):
+        if not (total.size == 0 or sol._known_positive() or total.min() > 0):
             return None  # the general path raises the error naming the field
         # (k s/z)(log10 total + log10 γᵢ), in place: no temporary for ln10·log10 γ
         E = np.log(total, out=total) if present else np.log(total)
@@ -427,42 +432,68 @@ class IonSelectiveElectrode(Electrode):
         """
         model = resolve_model(model)
         sol, free_notes = free_solution(sol, model, speciation)
-        g = model.activity_coefficients(sol, warn=False)
-        res = self._evaluate(sol, g, self._rows_equal_by_binding(sol, model))
+        own = self._own_rows(sol, model)
+        if own is None:
+            g = model.activity_coefficients(sol, warn=False)
+            res = self._evaluate(sol, g.log10_gamma, _record(g), False)
+        else:
+            res = self._evaluate(sol, *own)
         if free_notes:
             res = dataclasses.replace(res, notes=res.notes + free_notes)
         if warn:
             warn_alerts(res.alerts)
         return res
 
+    def _own_rows(self, sol: Solution, model: Any) -> tuple[dict, tuple, bool] | None:
+        """For a model whose γ of an ion needs only I and the ion's own parameters: the rows
+        of log10 γ this electrode reads, and nothing else, as (rows by species position, the
+        model's record, rows known equal). γ of the other species (the counter-ions) is not
+        formed; the record (validity flags and notes) is the one the whole result would carry.
+        None where this does not apply."""
+        if not (isinstance(sol, Solution) and self.ion in sol.species and _own_row_model(model)):
+            return None
+        bound = model.bind(sol.species, sol.charges)
+        I = np.asarray(sol.ionic_strength, dtype=float)
+        i = sol.index(self.ion)
+        present = [sol.index(j) for j in self.selectivity if j in sol.species]
+        same = self._rows_equal_by_binding(sol, model)
+        rows = model.log10_gamma_rows(sol, bound, I, [i] if same else [i] + present)
+        if same:  # the interferents' rows are the primary ion's, bit for bit
+            rows.update(dict.fromkeys(present, rows[i]))
+        in_range, notes, _, alerts = model._range_record(sol, bound, I)
+        return rows, (model.name, notes, in_range, alerts), same
+
     def evaluate_in(self, sol: Solution, g: Any, *, pressures: Mapping[str, Any] | None = None) -> ElectrodeResult:
         """:meth:`evaluate` with the model's result ``g`` for ``sol`` already computed."""
-        return self._evaluate(sol, g, False)
+        return self._evaluate(sol, g.log10_gamma, _record(g), False)
 
-    def _evaluate(self, sol: Solution, g: Any, same: bool) -> ElectrodeResult:
+    def _evaluate(self, sol: Solution, lg: Any, record: tuple, same: bool) -> ElectrodeResult:
+        """The potential from the log10 γ rows ``lg`` (indexed by species position) and the
+        model's ``record`` (name, notes, in_range, alerts)."""
         T = sol.T_compact
         E0 = self.e0_at(T)
-        shared = self._shared_gamma(sol, g.log10_gamma, same)
+        shared = self._shared_gamma(sol, lg, same)
         if shared is not None:
-            E, lg = shared
+            E, lga = shared
             E += E0
         else:
-            ai, present, zj, aj = self.activity_terms(sol, g.log10_gamma)
+            ai, present, zj, aj = self.activity_terms(sol, lg)
             K = [self.selectivity[j] for j in present]
             E = nikolsky_eisenman_core(E0, ai, self.z, aj, [self.z / z for z in zj], K, T, self.slope_factor)
-            lg = LazyMapping({j: (lambda a=a: _log10_or_nan(a)) for j, a in zip([self.ion] + present, [ai, *aj])})
+            lga = LazyMapping({j: (lambda a=a: _log10_or_nan(a)) for j, a in zip([self.ion] + present, [ai, *aj])})
         absent = tuple(
             f"interferent {j} absent from the solution (activity 0)" for j in self.selectivity if j not in sol.species
         )
+        name, notes, in_range, alerts = record
         return ElectrodeResult(
             _checks.scalar_or_array(E),
             _checks.scalar_or_array(E0),
-            lg,
+            lga,
             _checks.scalar_or_array(T),
-            g.model,
-            tuple(g.notes) + absent,
-            g.in_range,
-            g.alerts,
+            name,
+            tuple(notes) + absent,
+            in_range,
+            alerts,
         )
 
     def potential(self, sol: Solution, model: ModelLike = "davies") -> Any:

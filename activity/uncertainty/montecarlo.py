@@ -84,10 +84,19 @@ class _Moments:
         return math.sqrt(self.m2 / (self.n - 1)) if self.n > 1 else 0.0
 
 
-def _simulate(model, rng, n):
-    """Draw ``n`` rows and evaluate the model; reject non-finite outputs."""
+def _simulate(model, rng, n, mean=None):
+    """Draw ``n`` rows and evaluate the model; reject non-finite outputs.
+
+    ``mean``, a function of the outputs computed anyway (their mean), saves the pass of the
+    finiteness test: a sum is finite only when every term is, so the elementwise test runs
+    only when the mean is not finite (then some value is, or the sum overflowed).
+    """
     columns = model.draw(rng, n)
     y = model.evaluate(columns, n)
+    if mean is not None:
+        center = mean(y)
+        if np.all(np.isfinite(center)):
+            return y, center
     if not np.all(np.isfinite(y)):
         bad = int(np.count_nonzero(~np.isfinite(y)))
         raise InputError(
@@ -97,7 +106,7 @@ def _simulate(model, rng, n):
             field="f",
             value=bad,
         )
-    return y
+    return y if mean is None else (y, mean(y))
 
 
 def run_fixed(model, rng, trials, chunk):
@@ -114,12 +123,13 @@ def run_fixed(model, rng, trials, chunk):
     done = 0
     while done < trials:
         n = min(chunk, trials - done)
-        y = _simulate(model, rng, n)
-        mean = float(y.mean())
+        y, mean = _simulate(model, rng, n, np.mean)
+        mean = float(mean)
         if reference is None:
             reference = mean
         moments.add(n, mean, float(np.sum((y - mean) ** 2)))
-        store[done : done + n] = y - reference
+        # y − reference rounded to float32 straight into the store (no float64 temporary)
+        np.subtract(y, reference, out=store[done : done + n], casting="same_kind")
         done += n
     store.sort()
     return moments.mean, moments.sd, SortedSample(reference, store)
@@ -175,8 +185,8 @@ def run_adaptive(model, rng, p, kind, tolerance, digits, chunk, max_trials):
         batch = min(batch, (max_trials - len(history["mean"]) * m) // m)
         if batch < 1:
             break
-        blocks = _simulate(model, rng, batch * m).reshape(batch, m)
-        means = blocks.mean(axis=1)
+        y, means = _simulate(model, rng, batch * m, lambda y, k=batch: y.reshape(k, m).mean(axis=1))
+        blocks = y.reshape(batch, m)
         m2s = np.sum((blocks - means[:, None]) ** 2, axis=1)
         lows, highs = _block_endpoints(blocks, p, kind)
         if reference is None:
