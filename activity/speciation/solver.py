@@ -75,6 +75,9 @@ EPS_I = 1e-4
 LN_ABSENT = -690.0
 #: With γ a function of I (quadratic convergence) rows stop at this fraction of ``tol``.
 TIGHTEN = 1e-2
+#: Sweeps of the start at γ = 1, then with γ(I) (models of I alone; see :func:`start`).
+START_SWEEPS = 4
+START_GAMMA_SWEEPS = 4
 
 
 @dataclass(frozen=True, eq=False)
@@ -199,6 +202,10 @@ class _Gamma:
         out *= LN10
         return out
 
+    def lnk_shift(self, I: np.ndarray, T: Any, P: Any) -> np.ndarray:
+        """The change of ln m at fixed free components that γ at I brings, (n_species, rows)."""
+        return self.numM[:, self.system.n :] @ self.of_I(I, T, P)
+
     def lnm_of_I(self, lnk: np.ndarray, u: np.ndarray, Gr: np.ndarray) -> np.ndarray:
         out = self.numM @ np.vstack([u, Gr])
         out += lnk
@@ -230,34 +237,60 @@ def start(
     totals: np.ndarray,
     cols: np.ndarray,
     u0: np.ndarray,
-    sweeps: int = 4,
-) -> np.ndarray:
+    sweeps: int = START_SWEEPS,
+    *,
+    charge_col: int | None = None,
+    lnk_shift: Any = None,
+    gamma_sweeps: int = START_GAMMA_SWEEPS,
+) -> tuple[np.ndarray, np.ndarray | None]:
     """A starting point: rescale each free component so its computed total matches the given one.
 
-    Successive substitution at fixed H⁺ and γ = 1 (all ``cols`` at once, ``sweeps``
-    times): u_c ← u_c + ½ ln(total_c / computed_c) / max_s ν_sc. Keeps the first Newton
-    steps away from the huge overshoots a start at "free = total" gives when most of a
-    component is bound (phosphate at pH 7, calcium in EDTA). Arrays rows first:
-    ``lnk`` (N, n_species), ``totals`` and ``u0`` (N, n); returns (N, n).
+    Successive substitution (all ``cols`` at once, ``sweeps`` times): u_c ← u_c +
+    ½ ln(total_c / computed_c) / max_s ν_sc. Keeps the first Newton steps away from the
+    huge overshoots a start at "free = total" gives when most of a component is bound
+    (phosphate at pH 7, calcium in EDTA). Two optional refinements:
+
+    * ``charge_col``: the component closed by charge balance (every other one by its
+      total) takes a Newton step per sweep on its own balance, Σ_s ν_sq m_s = −Σ_c z_c
+      total_c / z_q (the charge balance once the other totals hold), at most ``3`` in ln m;
+    * ``lnk_shift``: a function of I (rows,) giving the change of ln m at fixed free
+      components, (n_species, rows), that γ(I) brings (models of I alone): ``gamma_sweeps``
+      more sweeps with γ evaluated at the I of each sweep (clipped to
+      [1e-12, ½ Σ_c z_c² |total_c|]).
+
+    Arrays rows first: ``lnk`` (N, n_species), ``totals`` and ``u0`` (N, n). Returns
+    u (N, n) and, with ``lnk_shift``, the ionic strength (N,) of the last sweep (else None).
     """
     u = np.array(u0, dtype=float)
     if not np.any(cols):
-        return u
+        return u, None
     cidx = np.flatnonzero(cols)
     numax = np.maximum(np.max(system.nu[:, cidx], axis=0), 1.0)[:, None]
     # single precision is plenty for a starting point and halves the cost of the sweeps
     # (ln m kept within ±80, where float32 exp neither overflows nor loses the molality)
     f4 = np.float32
     uT = np.ascontiguousarray(u.T)
-    lkT = np.ascontiguousarray(lnk.T, dtype=f4)
+    lk0 = lkT = np.ascontiguousarray(lnk.T, dtype=f4)
     tot = np.ascontiguousarray(totals[:, cidx].T)
     ok = tot > 0
     log_tot = np.log(np.where(ok, np.maximum(tot, 1e-30), 1.0)).astype(f4)
     nu4 = system.nu.astype(f4)
     nuT_c = np.ascontiguousarray(system.nuT[cidx], dtype=f4)
     half = (np.where(ok, 0.5, 0.0) / numax).astype(f4)  # damped: coupled pairs (Ca with EDTA) oscillate otherwise
+    q = charge_col
+    if q is not None:
+        others = [c for c in range(system.n) if c != q]
+        target_q = (-(totals[:, others] @ system.zc[others]) / system.zc[q]).astype(f4)
+        nu_q = system.nu[:, q].astype(f4)
+        nu_q2 = nu_q * nu_q
+    z2 = system.z2.astype(f4)
+    I_max = 0.5 * (np.abs(totals) @ system.z2[: system.n]) + 1e-6
+    I = None
     m = np.empty_like(lkT)
-    for _ in range(sweeps):
+    for k in range(sweeps + (gamma_sweeps if lnk_shift is not None else 0)):
+        if k >= sweeps:  # γ at the ionic strength of the previous sweep
+            I = np.clip((z2 @ m).astype(float) * 0.5, 1e-12, I_max)
+            lkT = lk0 + lnk_shift(I).astype(f4)
         np.matmul(nu4, uT.astype(f4), out=m)
         m += lkT
         np.clip(m, -80.0, 80.0, out=m)
@@ -267,8 +300,16 @@ def start(
         np.log(calc, out=calc)
         np.subtract(log_tot, calc, out=calc)
         calc *= half
+        if q is not None:
+            step = nu_q @ m
+            step -= target_q
+            step /= np.maximum(nu_q2 @ m, 1e-30)
+            np.clip(step, -3.0, 3.0, out=step)
+            uT[q] -= step
         uT[cidx] += calc
-    return uT.T.copy()
+    if I is not None:
+        I = np.clip((z2 @ m).astype(float) * 0.5, 1e-12, I_max)
+    return uT.T.copy(), I
 
 
 class _Rows(SimpleNamespace):
@@ -320,6 +361,9 @@ def solve(
     max_iter: int = 200,
     coupled: bool = True,
     park: int = 0,
+    I0: np.ndarray | None = None,
+    gam: _Gamma | None = None,
+    out: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None,
 ) -> SolveOutput:
     """Solve all rows; arrays in and out are rows first.
 
@@ -343,10 +387,16 @@ def solve(
         Once no more than this many rows are left (after the third step), stop and return
         them unfinished (``parked``, with their ``u_parked``), so that the slow rows of many
         blocks can be finished together (:func:`solve_blocks`); 0: finish every row.
+    I0 : (N,), optional
+        Starting ionic strength (models of I alone; else from the start at γ = 1).
+    gam : the γ of ``model`` bound to ``system`` (:class:`_Gamma`), if already made.
+    out : three arrays (n_species, N), optional
+        Where to write ln m, ln γ and m (rows last; e.g. column slices of a bigger batch's
+        arrays); the returned arrays are their transposes.
     """
     N, n = totals.shape
     ns = len(system.species)
-    gam = _Gamma(model, system)
+    gam = _Gamma(model, system) if gam is None else gam
     by_I = gam.by_I and coupled
     lnkT = np.ascontiguousarray(lnk.T)
     st = _Rows(
@@ -361,7 +411,9 @@ def solve(
         P=np.broadcast_to(P, (N,)) if np.ndim(P) else P,
         met=np.zeros(N, dtype=bool),
     )
-    if by_I:  # ln I at the start: from γ = 1
+    if by_I and I0 is not None:
+        st.w = np.log(I0)
+    elif by_I:  # ln I at the start: from γ = 1
         st.w = np.log(np.maximum(0.5 * (system.z2 @ _exp(lnkT + system.nu @ st.u)), 1e-12))
     else:
         st.g = np.zeros((ns, N))
@@ -372,9 +424,7 @@ def solve(
     # and keeps the charge-balanced H⁺ (whose residual is scaled by all the charge put in)
     # well inside 1e-10 relative; a row at tol that does not get there takes one more step
     tol_in = tol * TIGHTEN if by_I else tol
-    lnm_out = np.empty((ns, N))
-    lng_out = np.zeros((ns, N))
-    m_out = np.empty((ns, N))
+    lnm_out, lng_out, m_out = (np.empty((ns, N)), np.zeros((ns, N)), np.empty((ns, N))) if out is None else out
     converged = np.zeros(N, dtype=bool)
     iterations = np.zeros(N, dtype=int)
     resid = np.full(N, np.inf)
@@ -727,14 +777,42 @@ def solve_blocks(
     given, is called with the number of rows finished after each block and after the joint
     finish (e.g. the ``update`` of a progress bar); it sums to the number of rows.
     """
-    N = totals.shape[0]
-    parts = []
+    N, ns = totals.shape[0], len(system.species)
+    gam = _Gamma(model, system)
+    shift = gam.by_I and kw.get("coupled", True)
+    # the charge-balanced component joins the start when every other one has a total
+    others_by_mass = charge_col is not None and not act_cols and all(pin_cols[np.arange(system.n) != charge_col])
+    lnm, lng, m = np.empty((ns, N)), np.zeros((ns, N)), np.empty((ns, N))  # rows last, filled in place
+    full = SolveOutput(lnm.T, lng.T, np.zeros(N, dtype=bool), np.zeros(N, dtype=int), np.full(N, np.inf), m.T)
+
+    def rows_of(rows, u_rows, I_rows=None, **more):
+        T_r = T[rows] if np.ndim(T) else T
+        P_r = P[rows] if np.ndim(P) else P
+        targets = [np.broadcast_to(t, (N,))[rows] for t in act_targets]
+        return solve(system, lnk[rows], totals[rows], scale[rows], pin_cols, charge_col, act_cols, act_species,
+                     targets, model, T_r, P_r, u_rows, I0=I_rows, gam=gam, **more, **kw)
+
+    def put(rows, part, add_iterations=0):
+        full.lnm[rows], full.lng[rows], full.m[rows] = part.lnm, part.lng, part.m
+        full.converged[rows], full.residual[rows] = part.converged, part.residual
+        full.iterations[rows] = part.iterations + add_iterations
+
     parked, u_parked = [], []
     blocks = range(0, N, CHUNK)
     for lo in blocks:
         sl = slice(lo, min(N, lo + CHUNK))
-        u_start = start(system, lnk[sl], totals[sl], pin_cols, u0[sl])
-        out = solve(
+        T_b = T[sl] if np.ndim(T) else T
+        P_b = P[sl] if np.ndim(P) else P
+        u_start, I_start = start(
+            system,
+            lnk[sl],
+            totals[sl],
+            pin_cols,
+            u0[sl],
+            charge_col=charge_col if others_by_mass else None,
+            lnk_shift=(lambda I, T_b=T_b, P_b=P_b: gam.lnk_shift(I, T_b, P_b)) if shift else None,
+        )
+        part = solve(
             system,
             lnk[sl],
             totals[sl],
@@ -745,48 +823,36 @@ def solve_blocks(
             act_species,
             [t[sl] for t in act_targets],
             model,
-            T[sl] if np.ndim(T) else T,
-            P[sl] if np.ndim(P) else P,
+            T_b,
+            P_b,
             u_start,
             park=min(PARK, int((sl.stop - sl.start) * PARK_SHARE)) if len(blocks) > 1 else 0,
+            I0=I_start,
+            gam=gam,
+            out=(lnm[:, sl], lng[:, sl], m[:, sl]),
             **kw,
         )
-        parts.append(out)
-        if out.parked is not None:
-            parked.append(out.parked + lo)
-            u_parked.append(out.u_parked)
+        full.converged[sl], full.iterations[sl], full.residual[sl] = part.converged, part.iterations, part.residual
+        if part.parked is not None:
+            parked.append(part.parked + lo)
+            u_parked.append(part.u_parked)
         if progress is not None:
-            progress(sl.stop - sl.start - (0 if out.parked is None else out.parked.size))
-    if len(parts) == 1:
-        return parts[0]
-    full = SolveOutput(
-        *(
-            np.concatenate([getattr(p, f) for p in parts])
-            for f in ("lnm", "lng", "converged", "iterations", "residual", "m")
-        )
-    )
+            progress(sl.stop - sl.start - (0 if part.parked is None else part.parked.size))
     if parked:
         rows = np.concatenate(parked)
-        rest = solve(
-            system,
-            lnk[rows],
-            totals[rows],
-            scale[rows],
-            pin_cols,
-            charge_col,
-            act_cols,
-            act_species,
-            [np.broadcast_to(t, (N,))[rows] for t in act_targets],
-            model,
-            T[rows] if np.ndim(T) else T,
-            P[rows] if np.ndim(P) else P,
-            np.concatenate(u_parked),
-            **kw,
-        )
-        full.lnm[rows], full.lng[rows], full.converged[rows] = rest.lnm, rest.lng, rest.converged
-        full.m[rows] = rest.m
-        full.iterations[rows] += rest.iterations - 1  # the first re-evaluates where they stopped
-        full.residual[rows] = rest.residual
+        put(rows, rows_of(rows, np.concatenate(u_parked)), full.iterations[rows] - 1)  # the first re-evaluates
         if progress is not None:
             progress(rows.size)
+    if (charge_col is not None and others_by_mass) or shift:
+        # rows the refined start did not bring to convergence get a second chance from the plain one
+        rows = np.flatnonzero(~full.converged)
+        if rows.size:
+            u_plain, _ = start(system, lnk[rows], totals[rows], pin_cols, u0[rows])
+            again = rows_of(rows, u_plain)
+            ok = again.converged
+            if np.any(ok):
+                put(rows[ok], SolveOutput(*(getattr(again, f)[ok] for f in _FIELDS)), full.iterations[rows[ok]])
     return full
+
+
+_FIELDS = ("lnm", "lng", "converged", "iterations", "residual", "m")
