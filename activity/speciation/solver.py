@@ -76,7 +76,7 @@ LN_ABSENT = -690.0
 #: With γ a function of I (quadratic convergence) rows stop at this fraction of ``tol``.
 TIGHTEN = 1e-2
 #: Sweeps of the start at γ = 1, then with γ(I) (models of I alone; see :func:`start`).
-START_SWEEPS = 4
+START_SWEEPS = 3
 START_GAMMA_SWEEPS = 4
 
 
@@ -112,6 +112,8 @@ class System:
         put(self, "zf", z)
         put(self, "z2", z * z)
         put(self, "h2T", np.ascontiguousarray((0.5 * (z * z)[:, None] * nu).T))  # ∂I/∂u = h2T @ m
+        # the sums over species of one pass: component totals, charge and ionic strength
+        put(self, "lin", np.ascontiguousarray(np.vstack([nu.T, z, 0.5 * (z * z)])))
         # the charge row is a combination of the mass rows when every species' charge is the
         # sum of its components' charges (true of balanced reactions)
         put(self, "zc", z[:n].copy())
@@ -194,6 +196,7 @@ class _Gamma:
         E[np.arange(len(sy.species)), grp] = 1.0
         M = sy.nu @ E[: sy.n] - E
         self.numM = np.ascontiguousarray(np.hstack([sy.nu, M]))  # ln m = lnk + [ν | M] @ [u; Gr]
+        self.numM_formed = np.ascontiguousarray(self.numM[sy.n :])
         self.grp_c = grp[: sy.n]
 
     def of_I(self, I: np.ndarray, T: Any, P: Any) -> np.ndarray:
@@ -207,8 +210,11 @@ class _Gamma:
         return self.numM[:, self.system.n :] @ self.of_I(I, T, P)
 
     def lnm_of_I(self, lnk: np.ndarray, u: np.ndarray, Gr: np.ndarray) -> np.ndarray:
-        out = self.numM @ np.vstack([u, Gr])
-        out += lnk
+        n = self.system.n
+        out = np.empty((len(self.numM), u.shape[1]))
+        out[:n] = u  # components: ln m = u (their rows of [ν | M] are [1 | 0], ln β = 0)
+        np.matmul(self.numM_formed, np.vstack([u, Gr]), out=out[n:])
+        out[n:] += lnk[n:]
         return out
 
     def of_m(self, m: np.ndarray, T: Any, P: Any) -> np.ndarray:
@@ -226,8 +232,9 @@ def _lnm(system: System, lnk: np.ndarray, u: np.ndarray, g: np.ndarray) -> np.nd
     return out
 
 
-def _exp(lnm: np.ndarray) -> np.ndarray:
-    out = np.minimum(lnm, 230.0)
+def _exp(lnm: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
+    """exp of ln m capped at e^230 (``out=lnm`` to work in place)."""
+    out = np.minimum(lnm, 230.0, out=out)
     return np.exp(out, out=out)
 
 
@@ -275,40 +282,42 @@ def start(
     ok = tot > 0
     log_tot = np.log(np.where(ok, np.maximum(tot, 1e-30), 1.0)).astype(f4)
     nu4 = system.nu.astype(f4)
-    nuT_c = np.ascontiguousarray(system.nuT[cidx], dtype=f4)
     half = (np.where(ok, 0.5, 0.0) / numax).astype(f4)  # damped: coupled pairs (Ca with EDTA) oscillate otherwise
     q = charge_col
+    nc = len(cidx)
+    # one product per sweep: the totals of ``cols``, then (with q) Σ ν_q m and Σ ν_q² m, then ½ Σ z² m
+    rows = [system.nuT[cidx]]
     if q is not None:
         others = [c for c in range(system.n) if c != q]
         target_q = (-(totals[:, others] @ system.zc[others]) / system.zc[q]).astype(f4)
-        nu_q = system.nu[:, q].astype(f4)
-        nu_q2 = nu_q * nu_q
-    z2 = system.z2.astype(f4)
+        rows += [system.nu[:, q], system.nu[:, q] ** 2]
+    W = np.ascontiguousarray(np.vstack(rows + [0.5 * system.z2]), dtype=f4)
     I_max = 0.5 * (np.abs(totals) @ system.z2[: system.n]) + 1e-6
     I = None
     m = np.empty_like(lkT)
+    sums = np.empty((len(W), m.shape[1]), dtype=f4)
     for k in range(sweeps + (gamma_sweeps if lnk_shift is not None else 0)):
         if k >= sweeps:  # γ at the ionic strength of the previous sweep
-            I = np.clip((z2 @ m).astype(float) * 0.5, 1e-12, I_max)
+            I = np.clip(sums[-1].astype(float), 1e-12, I_max)
             lkT = lk0 + lnk_shift(I).astype(f4)
         np.matmul(nu4, uT.astype(f4), out=m)
         m += lkT
         np.clip(m, -80.0, 80.0, out=m)
         np.exp(m, out=m)
-        calc = nuT_c @ m
+        np.matmul(W, m, out=sums)
+        calc = sums[:nc]
         np.maximum(calc, 1e-34, out=calc)
         np.log(calc, out=calc)
         np.subtract(log_tot, calc, out=calc)
         calc *= half
         if q is not None:
-            step = nu_q @ m
-            step -= target_q
-            step /= np.maximum(nu_q2 @ m, 1e-30)
+            step = sums[nc] - target_q
+            step /= np.maximum(sums[nc + 1], 1e-30)
             np.clip(step, -3.0, 3.0, out=step)
             uT[q] -= step
         uT[cidx] += calc
     if I is not None:
-        I = np.clip((z2 @ m).astype(float) * 0.5, 1e-12, I_max)
+        I = np.clip(sums[-1].astype(float), 1e-12, I_max)
     return uT.T.copy(), I
 
 
@@ -318,7 +327,7 @@ class _Rows(SimpleNamespace):
     def keep(self, sel: np.ndarray) -> None:
         for name, a in list(self.__dict__.items()):
             if isinstance(a, np.ndarray) and a.ndim:
-                self.__dict__[name] = a[..., sel]
+                self.__dict__[name] = np.take(a, sel, axis=-1)
 
     def subset(self, sel: np.ndarray) -> _Rows:
         out = _Rows(**self.__dict__)
@@ -567,9 +576,9 @@ def _evaluate(pb: _Problem, st: _Rows, cache: _Eval | None) -> _Eval:
     if pb.by_I:
         I = np.exp(st.w)
         Gr = pb.gam.of_I(I, st.T, st.P)
-        m = _exp(pb.gam.lnm_of_I(st.lk, st.u, Gr))
+        lnm = pb.gam.lnm_of_I(st.lk, st.u, Gr)
+        m = _exp(lnm, out=lnm)
         ev.I, ev.Gr = I, Gr
-        ev.Ic = 0.5 * (system.z2 @ m)
     else:
         g = st.g
         lnm = _lnm(system, st.lk, st.u, g)
@@ -582,12 +591,14 @@ def _evaluate(pb: _Problem, st: _Rows, cache: _Eval | None) -> _Eval:
                 m = _exp(lnm)
         ev.dg = np.max(np.abs(g - g_prev), axis=0)
         ev.lnm, ev.g = lnm, g
-    res = np.empty((n + 1 if pb.by_I else n, m.shape[1]))
-    np.matmul(system.nuT, m, out=res[:n])
+    sums = system.lin @ m  # totals (n), charge, ionic strength
+    res = sums[: n + 1] if pb.by_I else sums[:n]  # row n (the charge) is overwritten last
     res[:n] -= st.tot
     res[:n] /= st.sc
     if pb.charge_col is not None:
-        res[pb.charge_col] = (system.zf @ m) / st.sc[pb.charge_col]
+        res[pb.charge_col] = sums[n] / st.sc[pb.charge_col]
+    if pb.by_I:
+        ev.Ic = sums[n + 1]
     for col, sp, tgt in zip(pb.act_cols, pb.act_species, st.tg):
         res[col] = _lna(pb, st, ev, sp) - tgt
     if pb.any_pin:
@@ -651,8 +662,9 @@ def _step_spd(pb: _Problem, st: _Rows, ev: _Eval):
     np.multiply(ev.res[:n], st.sc, out=Y[0])  # unscaled residuals
     if pb.coupled:
         _, D, dI = _coupling(pb, st, ev)
-        mD = m * D
-        np.matmul(system.nuT, mD, out=Y[1])
+        mD = np.multiply(D, m, out=D)
+        sums = system.lin @ mD  # Σ ν m D, Σ z m D, ½ Σ z² m D
+        Y[1] = sums[:n]
     else:
         Y[1] = 0.0
     pins = [(c, st.pin[c]) for c in np.flatnonzero(np.any(st.pin, axis=1))] if pb.any_pin else []
@@ -665,7 +677,7 @@ def _step_spd(pb: _Problem, st: _Rows, ev: _Eval):
         Q = ev.res[q] * st.sc[q]  # Σ z m (unscaled)
         Y[0, q] = (Q - (zc @ Y[0] - zc[q] * Y[0, q])) / zc[q]
         if pb.coupled:
-            Y[1, q] = (system.zf @ mD - (zc @ Y[1] - zc[q] * Y[1, q])) / zc[q]
+            Y[1, q] = (sums[n] - (zc @ Y[1] - zc[q] * Y[1, q])) / zc[q]
     for c, p in pins:  # pinned: row and column of the identity, u_c → LN_ABSENT
         for slot in system.off_slots[c]:
             A[slot, p] = 0.0
@@ -680,7 +692,7 @@ def _step_spd(pb: _Problem, st: _Rows, ev: _Eval):
         I = ev.I
         x1 *= I
         b = dI / I
-        c = 0.5 * (system.z2 @ mD) - ev.Ic / I
+        c = sums[n + 1] - ev.Ic / I
         eps = (np.einsum("kn,kn->n", b, x0) - ev.res[n]) / (c - np.einsum("kn,kn->n", b, x1))
         step = np.empty((n + 1, rows))
         np.multiply(x1, eps, out=step[:n])
