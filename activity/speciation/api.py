@@ -329,12 +329,13 @@ def speciate(
     P_flat = (
         np.broadcast_to(sol.P_compact, shape).reshape(N) if np.ndim(sol.P_compact) else np.asarray(sol.P_compact, float)
     )
-    lnk = np.zeros((N, len(species)))
+    lnk_T = np.zeros((len(species), N))  # rows last, as the solver works; lnk is its (N, ns) view
     if prods:
         if np.ndim(T_flat) == 0:
-            lnk[:, n:] = LN10 * net.lg_beta(T_flat, prods)[:, None].T
+            lnk_T[n:] = LN10 * net.lg_beta(T_flat, prods)[:, None]
         else:
-            lnk[:, n:] = LN10 * net.lg_beta(T_flat, prods).T
+            lnk_T[n:] = LN10 * net.lg_beta(T_flat, prods)
+    lnk = lnk_T.T
     k_ok = np.ones(N, dtype=bool)  # rows where every constant used holds at the row's T
     for j in prods:
         lo, hi = net.T_range(j)

@@ -197,6 +197,7 @@ class _Gamma:
         M = sy.nu @ E[: sy.n] - E
         self.numM = np.ascontiguousarray(np.hstack([sy.nu, M]))  # ln m = lnk + [ν | M] @ [u; Gr]
         self.numM_formed = np.ascontiguousarray(self.numM[sy.n :])
+        self.M32 = np.ascontiguousarray(M, dtype=np.float32)
         self.grp_c = grp[: sy.n]
 
     def of_I(self, I: np.ndarray, T: Any, P: Any) -> np.ndarray:
@@ -206,8 +207,9 @@ class _Gamma:
         return out
 
     def lnk_shift(self, I: np.ndarray, T: Any, P: Any) -> np.ndarray:
-        """The change of ln m at fixed free components that γ at I brings, (n_species, rows)."""
-        return self.numM[:, self.system.n :] @ self.of_I(I, T, P)
+        """The change of ln m at fixed free components that γ at I brings, (n_species, rows),
+        in single precision (for :func:`start`)."""
+        return self.M32 @ self.of_I(I, T, P).astype(np.float32)
 
     def lnm_of_I(self, lnk: np.ndarray, u: np.ndarray, Gr: np.ndarray) -> np.ndarray:
         n = self.system.n
@@ -276,7 +278,8 @@ def start(
     # single precision is plenty for a starting point and halves the cost of the sweeps
     # (ln m kept within ±80, where float32 exp neither overflows nor loses the molality)
     f4 = np.float32
-    uT = np.ascontiguousarray(u.T)
+    u4 = np.ascontiguousarray(u.T, dtype=f4)
+    moved = slice(cidx[0], cidx[-1] + 1) if cidx[-1] - cidx[0] + 1 == cidx.size else cidx  # a slice if it can
     lk0 = lkT = np.ascontiguousarray(lnk.T, dtype=f4)
     tot = np.ascontiguousarray(totals[:, cidx].T)
     ok = tot > 0
@@ -299,8 +302,8 @@ def start(
     for k in range(sweeps + (gamma_sweeps if lnk_shift is not None else 0)):
         if k >= sweeps:  # γ at the ionic strength of the previous sweep
             I = np.clip(sums[-1].astype(float), 1e-12, I_max)
-            lkT = lk0 + lnk_shift(I).astype(f4)
-        np.matmul(nu4, uT.astype(f4), out=m)
+            lkT = lk0 + lnk_shift(I)
+        np.matmul(nu4, u4, out=m)
         m += lkT
         np.clip(m, -80.0, 80.0, out=m)
         np.exp(m, out=m)
@@ -314,11 +317,14 @@ def start(
             step = sums[nc] - target_q
             step /= np.maximum(sums[nc + 1], 1e-30)
             np.clip(step, -3.0, 3.0, out=step)
-            uT[q] -= step
-        uT[cidx] += calc
+            u4[q] -= step
+        u4[moved] += calc
     if I is not None:
         I = np.clip(sums[-1].astype(float), 1e-12, I_max)
-    return uT.T.copy(), I
+    u[:, cidx] = u4[cidx].T  # the other columns keep their u0 exactly
+    if q is not None:
+        u[:, q] = u4[q]
+    return u, I
 
 
 class _Rows(SimpleNamespace):
