@@ -259,9 +259,12 @@ def start(
     huge overshoots a start at "free = total" gives when most of a component is bound
     (phosphate at pH 7, calcium in EDTA). Two optional refinements:
 
-    * ``charge_col``: the component closed by charge balance (every other one by its
+    * ``charge_col``: the component q closed by charge balance (every other one by its
       total) takes a Newton step per sweep on its own balance, Σ_s ν_sq m_s = −Σ_c z_c
-      total_c / z_q (the charge balance once the other totals hold), at most ``3`` in ln m;
+      total_c / z_q (the charge balance once the other totals hold), with each other
+      component following it so as to hold its own total (the Schur complement of the
+      diagonal of the others; at most ``3`` in ln m): without that, a buffer (carbonate,
+      phosphate) takes up each step of H⁺ and the sweeps leave pH half a unit off;
     * ``lnk_shift``: a function of I (rows,) giving the change of ln m at fixed free
       components, (n_species, rows), that γ(I) brings (models of I alone): ``gamma_sweeps``
       more sweeps with γ evaluated at the I of each sweep (clipped to
@@ -288,12 +291,14 @@ def start(
     half = (np.where(ok, 0.5, 0.0) / numax).astype(f4)  # damped: coupled pairs (Ca with EDTA) oscillate otherwise
     q = charge_col
     nc = len(cidx)
-    # one product per sweep: the totals of ``cols``, then (with q) Σ ν_q m and Σ ν_q² m, then ½ Σ z² m
+    # one product per sweep: the totals of ``cols``; with q, Σ ν_q m, S_qq = Σ ν_q² m,
+    # S_cq = Σ ν_c ν_q m and S_cc = Σ ν_c² m of the columns; last ½ Σ z² m
     rows = [system.nuT[cidx]]
     if q is not None:
         others = [c for c in range(system.n) if c != q]
         target_q = (-(totals[:, others] @ system.zc[others]) / system.zc[q]).astype(f4)
-        rows += [system.nu[:, q], system.nu[:, q] ** 2]
+        nq = system.nu[:, q]
+        rows += [nq, nq**2, (nq[:, None] * system.nu[:, cidx]).T, (system.nu[:, cidx] ** 2).T]
     W = np.ascontiguousarray(np.vstack(rows + [0.5 * system.z2]), dtype=f4)
     I_max = 0.5 * (np.abs(totals) @ system.z2[: system.n]) + 1e-6
     I = None
@@ -309,15 +314,27 @@ def start(
         np.exp(m, out=m)
         np.matmul(W, m, out=sums)
         calc = sums[:nc]
+        if q is not None:
+            # Newton on q's balance with every other component holding its total (each
+            # alone: S_cc δ_c = −f_c − S_cq δ_q), i.e. the Schur complement of the
+            # diagonal of the others: δ_q = −(f_q − Σ r_c f_c) / (S_qq − Σ r_c S_cq),
+            # r_c = S_cq / S_cc; the others then follow q by −r_c δ_q
+            S_cq = sums[nc + 2 : 2 * nc + 2]
+            ratio = S_cq / np.maximum(sums[2 * nc + 2 : 3 * nc + 2], 1e-30)
+            ratio *= ok
+            f_q = sums[nc] - target_q
+            f_q -= np.einsum("cr,cr->r", ratio, calc - tot)
+            S_qq = sums[nc + 1]
+            schur = np.maximum(S_qq - np.einsum("cr,cr->r", ratio, S_cq), 0.05 * S_qq)
+            step = np.clip(f_q / np.maximum(schur, 1e-30), -3.0, 3.0)  # −δ_q
         np.maximum(calc, 1e-34, out=calc)
         np.log(calc, out=calc)
         np.subtract(log_tot, calc, out=calc)
         calc *= half
         if q is not None:
-            step = sums[nc] - target_q
-            step /= np.maximum(sums[nc + 1], 1e-30)
-            np.clip(step, -3.0, 3.0, out=step)
             u4[q] -= step
+            ratio *= step
+            calc += ratio
         u4[moved] += calc
     if I is not None:
         I = np.clip(sums[-1].astype(float), 1e-12, I_max)
