@@ -820,12 +820,12 @@ def solve_blocks(
     lnm, lng, m = np.empty((ns, N)), np.zeros((ns, N)), np.empty((ns, N))  # rows last, filled in place
     full = SolveOutput(lnm.T, lng.T, np.zeros(N, dtype=bool), np.zeros(N, dtype=int), np.full(N, np.inf), m.T)
 
-    def rows_of(rows, u_rows, I_rows=None, **more):
+    def rows_of(rows, u_rows):  # solve the rows ``rows`` (indices) from ``u_rows``
         T_r = T[rows] if np.ndim(T) else T
         P_r = P[rows] if np.ndim(P) else P
         targets = [np.broadcast_to(t, (N,))[rows] for t in act_targets]
         return solve(system, lnk[rows], totals[rows], scale[rows], pin_cols, charge_col, act_cols, act_species,
-                     targets, model, T_r, P_r, u_rows, I0=I_rows, gam=gam, **more, **kw)
+                     targets, model, T_r, P_r, u_rows, gam=gam, **kw)
 
     def put(rows, part, add_iterations=0):
         full.lnm[rows], full.lng[rows], full.m[rows] = part.lnm, part.lng, part.m
