@@ -85,6 +85,8 @@ class SparseCholesky:
                 [(slot[(i, l)], slot[(i, j)], slot[(l, j)]) for a, l in enumerate(below) for i in below[a:]]
             )
         self._pos = np.array([pos[v] for v in range(k)], dtype=int)
+        self._scale_a = np.array([pos[a] for a, _ in pairs], dtype=int)
+        self._scale_b = np.array([pos[b] for _, b in pairs], dtype=int)
 
     def solve(self, A: NDArray[np.float64], Y: NDArray[np.float64]) -> tuple[NDArray[np.float64], NDArray[np.bool_]]:
         """Solve S X = Y for every row; ``A`` (n_entries, N) packed as :attr:`pairs`, overwritten.
@@ -98,8 +100,7 @@ class SparseCholesky:
         diag = A[self._diag]  # (k, N) in elimination order
         ok = np.all(diag > 0, axis=0) & np.all(np.isfinite(diag), axis=0)
         d = 1.0 / np.sqrt(np.where(diag > 0, diag, 1.0))
-        for p, (a, b) in enumerate(self.pairs):
-            A[p] *= d[self._pos[a]] * d[self._pos[b]] if a != b else d[self._pos[a]] ** 2
+        A *= d[self._scale_a] * d[self._scale_b]  # entry (a, b) times d_a d_b, all at once
         tmp = np.empty(A.shape[1])
         for j in range(k):
             piv = A[self._diag[j]]

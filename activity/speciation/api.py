@@ -187,14 +187,16 @@ def speciate(
     cidx = {c: i for i, c in enumerate(comps)}
     nc_all = len(comps)
     # ---- what was dissolved → component totals (rows first)
-    totals_all = np.zeros((N, nc_all))
+    by_component = np.zeros((nc_all, N))  # filled a component at a time, the same sums
     for i, name in enumerate(sol.species):
         if name in inert_names:
             st = np.zeros(nc_all)
             st[cidx[name]] = 1.0
         else:
             st = np.concatenate([net.stoichiometry(name), np.zeros(len(inert_names))])
-        totals_all += sol.m[i].reshape(N, 1) * st
+        for c in np.flatnonzero(st):
+            by_component[c] += sol.m[i].reshape(N) * st[c]
+    totals_all = by_component.T
     # ---- closures
     notes: list[str] = []
     if ph is not None:
@@ -228,7 +230,9 @@ def speciate(
             )
         bal = cidx[bsp.name]
     # component totals: negative ones are refused (H+ may be negative: a base was dissolved)
-    neg = totals_all[:, 1:] < -1e-15 * np.maximum(1.0, np.abs(totals_all[:, 1:]))
+    neg = totals_all[:, 1:] < -1e-15  # necessary for the test below, and cheaper
+    if np.any(neg):
+        neg = totals_all[:, 1:] < -1e-15 * np.maximum(1.0, np.abs(totals_all[:, 1:]))
     if np.any(neg):
         r, c = np.argwhere(neg)[0]
         raise InputError(
@@ -325,12 +329,13 @@ def speciate(
     P_flat = (
         np.broadcast_to(sol.P_compact, shape).reshape(N) if np.ndim(sol.P_compact) else np.asarray(sol.P_compact, float)
     )
-    lnk = np.zeros((N, len(species)))
+    lnk_T = np.zeros((len(species), N))  # rows last, as the solver works; lnk is its (N, ns) view
     if prods:
         if np.ndim(T_flat) == 0:
-            lnk[:, n:] = LN10 * net.lg_beta(T_flat, prods)[:, None].T
+            lnk_T[n:] = LN10 * net.lg_beta(T_flat, prods)[:, None]
         else:
-            lnk[:, n:] = LN10 * net.lg_beta(T_flat, prods).T
+            lnk_T[n:] = LN10 * net.lg_beta(T_flat, prods)
+    lnk = lnk_T.T
     k_ok = np.ones(N, dtype=bool)  # rows where every constant used holds at the row's T
     for j in prods:
         lo, hi = net.T_range(j)
@@ -444,7 +449,9 @@ def speciate(
         )
     m = getattr(out, "m", None)  # (N, ns), as the solver evaluated it
     m = np.exp(out.lnm) if m is None else m
-    lg = out.lng / LN10
+    lna_h = (out.lnm[:, h] + out.lng[:, h]) / LN10
+    lg = out.lng  # the solver's own array: turned into log10 γ in place
+    lg /= LN10
     final_sol = SpeciatedSolution.of(
         species, charges, m.T.reshape((len(species),) + shape), sol.T_compact, sol.P_compact, nu
     )
@@ -471,7 +478,6 @@ def speciate(
             )
     calc_totals = m @ nu  # (N, n)
     totals_out = {comps[k]: _checks.scalar_or_array(calc_totals[:, pos[int(k)]].reshape(shape)) for k in comp_idx}
-    lna_h = (out.lnm[:, h] + out.lng[:, h]) / LN10
     if h_alone and mass_cols[h]:
         lna_h = np.where(totals[:, h] > 0, lna_h, np.nan)
         if np.any(totals[:, h] <= 0):

@@ -75,6 +75,9 @@ EPS_I = 1e-4
 LN_ABSENT = -690.0
 #: With γ a function of I (quadratic convergence) rows stop at this fraction of ``tol``.
 TIGHTEN = 1e-2
+#: Sweeps of the start at γ = 1, then with γ(I) (models of I alone; see :func:`start`).
+START_SWEEPS = 3
+START_GAMMA_SWEEPS = 4
 
 
 @dataclass(frozen=True, eq=False)
@@ -109,6 +112,8 @@ class System:
         put(self, "zf", z)
         put(self, "z2", z * z)
         put(self, "h2T", np.ascontiguousarray((0.5 * (z * z)[:, None] * nu).T))  # ∂I/∂u = h2T @ m
+        # the sums over species of one pass: component totals, charge and ionic strength
+        put(self, "lin", np.ascontiguousarray(np.vstack([nu.T, z, 0.5 * (z * z)])))
         # the charge row is a combination of the mass rows when every species' charge is the
         # sum of its components' charges (true of balanced reactions)
         put(self, "zc", z[:n].copy())
@@ -191,6 +196,8 @@ class _Gamma:
         E[np.arange(len(sy.species)), grp] = 1.0
         M = sy.nu @ E[: sy.n] - E
         self.numM = np.ascontiguousarray(np.hstack([sy.nu, M]))  # ln m = lnk + [ν | M] @ [u; Gr]
+        self.numM_formed = np.ascontiguousarray(self.numM[sy.n :])
+        self.M32 = np.ascontiguousarray(M, dtype=np.float32)
         self.grp_c = grp[: sy.n]
 
     def of_I(self, I: np.ndarray, T: Any, P: Any) -> np.ndarray:
@@ -199,9 +206,17 @@ class _Gamma:
         out *= LN10
         return out
 
+    def lnk_shift(self, I: np.ndarray, T: Any, P: Any) -> np.ndarray:
+        """The change of ln m at fixed free components that γ at I brings, (n_species, rows),
+        in single precision (for :func:`start`)."""
+        return self.M32 @ self.of_I(I, T, P).astype(np.float32)
+
     def lnm_of_I(self, lnk: np.ndarray, u: np.ndarray, Gr: np.ndarray) -> np.ndarray:
-        out = self.numM @ np.vstack([u, Gr])
-        out += lnk
+        n = self.system.n
+        out = np.empty((len(self.numM), u.shape[1]))
+        out[:n] = u  # components: ln m = u (their rows of [ν | M] are [1 | 0], ln β = 0)
+        np.matmul(self.numM_formed, np.vstack([u, Gr]), out=out[n:])
+        out[n:] += lnk[n:]
         return out
 
     def of_m(self, m: np.ndarray, T: Any, P: Any) -> np.ndarray:
@@ -219,8 +234,9 @@ def _lnm(system: System, lnk: np.ndarray, u: np.ndarray, g: np.ndarray) -> np.nd
     return out
 
 
-def _exp(lnm: np.ndarray) -> np.ndarray:
-    out = np.minimum(lnm, 230.0)
+def _exp(lnm: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
+    """exp of ln m capped at e^230 (``out=lnm`` to work in place)."""
+    out = np.minimum(lnm, 230.0, out=out)
     return np.exp(out, out=out)
 
 
@@ -230,45 +246,102 @@ def start(
     totals: np.ndarray,
     cols: np.ndarray,
     u0: np.ndarray,
-    sweeps: int = 4,
-) -> np.ndarray:
+    sweeps: int = START_SWEEPS,
+    *,
+    charge_col: int | None = None,
+    lnk_shift: Any = None,
+    gamma_sweeps: int = START_GAMMA_SWEEPS,
+) -> tuple[np.ndarray, np.ndarray | None]:
     """A starting point: rescale each free component so its computed total matches the given one.
 
-    Successive substitution at fixed H⁺ and γ = 1 (all ``cols`` at once, ``sweeps``
-    times): u_c ← u_c + ½ ln(total_c / computed_c) / max_s ν_sc. Keeps the first Newton
-    steps away from the huge overshoots a start at "free = total" gives when most of a
-    component is bound (phosphate at pH 7, calcium in EDTA). Arrays rows first:
-    ``lnk`` (N, n_species), ``totals`` and ``u0`` (N, n); returns (N, n).
+    Successive substitution (all ``cols`` at once, ``sweeps`` times): u_c ← u_c +
+    ½ ln(total_c / computed_c) / max_s ν_sc. Keeps the first Newton steps away from the
+    huge overshoots a start at "free = total" gives when most of a component is bound
+    (phosphate at pH 7, calcium in EDTA). Two optional refinements:
+
+    * ``charge_col``: the component q closed by charge balance (every other one by its
+      total) takes a Newton step per sweep on its own balance, Σ_s ν_sq m_s = −Σ_c z_c
+      total_c / z_q (the charge balance once the other totals hold), with each other
+      component following it so as to hold its own total (the Schur complement of the
+      diagonal of the others; at most ``3`` in ln m): without that, a buffer (carbonate,
+      phosphate) takes up each step of H⁺ and the sweeps leave pH half a unit off;
+    * ``lnk_shift``: a function of I (rows,) giving the change of ln m at fixed free
+      components, (n_species, rows), that γ(I) brings (models of I alone): ``gamma_sweeps``
+      more sweeps with γ evaluated at the I of each sweep (clipped to
+      [1e-12, ½ Σ_c z_c² |total_c|]).
+
+    Arrays rows first: ``lnk`` (N, n_species), ``totals`` and ``u0`` (N, n). Returns
+    u (N, n) and, with ``lnk_shift``, the ionic strength (N,) of the last sweep (else None).
     """
     u = np.array(u0, dtype=float)
     if not np.any(cols):
-        return u
+        return u, None
     cidx = np.flatnonzero(cols)
     numax = np.maximum(np.max(system.nu[:, cidx], axis=0), 1.0)[:, None]
     # single precision is plenty for a starting point and halves the cost of the sweeps
     # (ln m kept within ±80, where float32 exp neither overflows nor loses the molality)
     f4 = np.float32
-    uT = np.ascontiguousarray(u.T)
-    lkT = np.ascontiguousarray(lnk.T, dtype=f4)
+    u4 = np.ascontiguousarray(u.T, dtype=f4)
+    moved = slice(cidx[0], cidx[-1] + 1) if cidx[-1] - cidx[0] + 1 == cidx.size else cidx  # a slice if it can
+    lk0 = lkT = np.ascontiguousarray(lnk.T, dtype=f4)
     tot = np.ascontiguousarray(totals[:, cidx].T)
     ok = tot > 0
     log_tot = np.log(np.where(ok, np.maximum(tot, 1e-30), 1.0)).astype(f4)
     nu4 = system.nu.astype(f4)
-    nuT_c = np.ascontiguousarray(system.nuT[cidx], dtype=f4)
     half = (np.where(ok, 0.5, 0.0) / numax).astype(f4)  # damped: coupled pairs (Ca with EDTA) oscillate otherwise
+    q = charge_col
+    nc = len(cidx)
+    # one product per sweep: the totals of ``cols``; with q, Σ ν_q m, S_qq = Σ ν_q² m,
+    # S_cq = Σ ν_c ν_q m and S_cc = Σ ν_c² m of the columns; last ½ Σ z² m
+    rows = [system.nuT[cidx]]
+    if q is not None:
+        others = [c for c in range(system.n) if c != q]
+        target_q = (-(totals[:, others] @ system.zc[others]) / system.zc[q]).astype(f4)
+        nq = system.nu[:, q]
+        rows += [nq, nq**2, (nq[:, None] * system.nu[:, cidx]).T, (system.nu[:, cidx] ** 2).T]
+    W = np.ascontiguousarray(np.vstack(rows + [0.5 * system.z2]), dtype=f4)
+    I_max = 0.5 * (np.abs(totals) @ system.z2[: system.n]) + 1e-6
+    I = None
     m = np.empty_like(lkT)
-    for _ in range(sweeps):
-        np.matmul(nu4, uT.astype(f4), out=m)
+    sums = np.empty((len(W), m.shape[1]), dtype=f4)
+    for k in range(sweeps + (gamma_sweeps if lnk_shift is not None else 0)):
+        if k >= sweeps:  # γ at the ionic strength of the previous sweep
+            I = np.clip(sums[-1].astype(float), 1e-12, I_max)
+            lkT = lk0 + lnk_shift(I)
+        np.matmul(nu4, u4, out=m)
         m += lkT
         np.clip(m, -80.0, 80.0, out=m)
         np.exp(m, out=m)
-        calc = nuT_c @ m
+        np.matmul(W, m, out=sums)
+        calc = sums[:nc]
+        if q is not None:
+            # Newton on q's balance with every other component holding its total (each
+            # alone: S_cc δ_c = −f_c − S_cq δ_q), i.e. the Schur complement of the
+            # diagonal of the others: δ_q = −(f_q − Σ r_c f_c) / (S_qq − Σ r_c S_cq),
+            # r_c = S_cq / S_cc; the others then follow q by −r_c δ_q
+            S_cq = sums[nc + 2 : 2 * nc + 2]
+            ratio = S_cq / np.maximum(sums[2 * nc + 2 : 3 * nc + 2], 1e-30)
+            ratio *= ok
+            f_q = sums[nc] - target_q
+            f_q -= np.einsum("cr,cr->r", ratio, calc - tot)
+            S_qq = sums[nc + 1]
+            schur = np.maximum(S_qq - np.einsum("cr,cr->r", ratio, S_cq), 0.05 * S_qq)
+            step = np.clip(f_q / np.maximum(schur, 1e-30), -3.0, 3.0)  # −δ_q
         np.maximum(calc, 1e-34, out=calc)
         np.log(calc, out=calc)
         np.subtract(log_tot, calc, out=calc)
         calc *= half
-        uT[cidx] += calc
-    return uT.T.copy()
+        if q is not None:
+            u4[q] -= step
+            ratio *= step
+            calc += ratio
+        u4[moved] += calc
+    if I is not None:
+        I = np.clip(sums[-1].astype(float), 1e-12, I_max)
+    u[:, cidx] = u4[cidx].T  # the other columns keep their u0 exactly
+    if q is not None:
+        u[:, q] = u4[q]
+    return u, I
 
 
 class _Rows(SimpleNamespace):
@@ -277,7 +350,7 @@ class _Rows(SimpleNamespace):
     def keep(self, sel: np.ndarray) -> None:
         for name, a in list(self.__dict__.items()):
             if isinstance(a, np.ndarray) and a.ndim:
-                self.__dict__[name] = a[..., sel]
+                self.__dict__[name] = np.take(a, sel, axis=-1)
 
     def subset(self, sel: np.ndarray) -> _Rows:
         out = _Rows(**self.__dict__)
@@ -320,6 +393,9 @@ def solve(
     max_iter: int = 200,
     coupled: bool = True,
     park: int = 0,
+    I0: np.ndarray | None = None,
+    gam: _Gamma | None = None,
+    out: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None,
 ) -> SolveOutput:
     """Solve all rows; arrays in and out are rows first.
 
@@ -343,10 +419,16 @@ def solve(
         Once no more than this many rows are left (after the third step), stop and return
         them unfinished (``parked``, with their ``u_parked``), so that the slow rows of many
         blocks can be finished together (:func:`solve_blocks`); 0: finish every row.
+    I0 : (N,), optional
+        Starting ionic strength (models of I alone; else from the start at γ = 1).
+    gam : the γ of ``model`` bound to ``system`` (:class:`_Gamma`), if already made.
+    out : three arrays (n_species, N), optional
+        Where to write ln m, ln γ and m (rows last; e.g. column slices of a bigger batch's
+        arrays); the returned arrays are their transposes.
     """
     N, n = totals.shape
     ns = len(system.species)
-    gam = _Gamma(model, system)
+    gam = _Gamma(model, system) if gam is None else gam
     by_I = gam.by_I and coupled
     lnkT = np.ascontiguousarray(lnk.T)
     st = _Rows(
@@ -361,7 +443,9 @@ def solve(
         P=np.broadcast_to(P, (N,)) if np.ndim(P) else P,
         met=np.zeros(N, dtype=bool),
     )
-    if by_I:  # ln I at the start: from γ = 1
+    if by_I and I0 is not None:
+        st.w = np.log(I0)
+    elif by_I:  # ln I at the start: from γ = 1
         st.w = np.log(np.maximum(0.5 * (system.z2 @ _exp(lnkT + system.nu @ st.u)), 1e-12))
     else:
         st.g = np.zeros((ns, N))
@@ -372,9 +456,7 @@ def solve(
     # and keeps the charge-balanced H⁺ (whose residual is scaled by all the charge put in)
     # well inside 1e-10 relative; a row at tol that does not get there takes one more step
     tol_in = tol * TIGHTEN if by_I else tol
-    lnm_out = np.empty((ns, N))
-    lng_out = np.zeros((ns, N))
-    m_out = np.empty((ns, N))
+    lnm_out, lng_out, m_out = (np.empty((ns, N)), np.zeros((ns, N)), np.empty((ns, N))) if out is None else out
     converged = np.zeros(N, dtype=bool)
     iterations = np.zeros(N, dtype=int)
     resid = np.full(N, np.inf)
@@ -517,9 +599,9 @@ def _evaluate(pb: _Problem, st: _Rows, cache: _Eval | None) -> _Eval:
     if pb.by_I:
         I = np.exp(st.w)
         Gr = pb.gam.of_I(I, st.T, st.P)
-        m = _exp(pb.gam.lnm_of_I(st.lk, st.u, Gr))
+        lnm = pb.gam.lnm_of_I(st.lk, st.u, Gr)
+        m = _exp(lnm, out=lnm)
         ev.I, ev.Gr = I, Gr
-        ev.Ic = 0.5 * (system.z2 @ m)
     else:
         g = st.g
         lnm = _lnm(system, st.lk, st.u, g)
@@ -532,12 +614,14 @@ def _evaluate(pb: _Problem, st: _Rows, cache: _Eval | None) -> _Eval:
                 m = _exp(lnm)
         ev.dg = np.max(np.abs(g - g_prev), axis=0)
         ev.lnm, ev.g = lnm, g
-    res = np.empty((n + 1 if pb.by_I else n, m.shape[1]))
-    np.matmul(system.nuT, m, out=res[:n])
+    sums = system.lin @ m  # totals (n), charge, ionic strength
+    res = sums[: n + 1] if pb.by_I else sums[:n]  # row n (the charge) is overwritten last
     res[:n] -= st.tot
     res[:n] /= st.sc
     if pb.charge_col is not None:
-        res[pb.charge_col] = (system.zf @ m) / st.sc[pb.charge_col]
+        res[pb.charge_col] = sums[n] / st.sc[pb.charge_col]
+    if pb.by_I:
+        ev.Ic = sums[n + 1]
     for col, sp, tgt in zip(pb.act_cols, pb.act_species, st.tg):
         res[col] = _lna(pb, st, ev, sp) - tgt
     if pb.any_pin:
@@ -601,8 +685,9 @@ def _step_spd(pb: _Problem, st: _Rows, ev: _Eval):
     np.multiply(ev.res[:n], st.sc, out=Y[0])  # unscaled residuals
     if pb.coupled:
         _, D, dI = _coupling(pb, st, ev)
-        mD = m * D
-        np.matmul(system.nuT, mD, out=Y[1])
+        mD = np.multiply(D, m, out=D)
+        sums = system.lin @ mD  # Σ ν m D, Σ z m D, ½ Σ z² m D
+        Y[1] = sums[:n]
     else:
         Y[1] = 0.0
     pins = [(c, st.pin[c]) for c in np.flatnonzero(np.any(st.pin, axis=1))] if pb.any_pin else []
@@ -615,7 +700,7 @@ def _step_spd(pb: _Problem, st: _Rows, ev: _Eval):
         Q = ev.res[q] * st.sc[q]  # Σ z m (unscaled)
         Y[0, q] = (Q - (zc @ Y[0] - zc[q] * Y[0, q])) / zc[q]
         if pb.coupled:
-            Y[1, q] = (system.zf @ mD - (zc @ Y[1] - zc[q] * Y[1, q])) / zc[q]
+            Y[1, q] = (sums[n] - (zc @ Y[1] - zc[q] * Y[1, q])) / zc[q]
     for c, p in pins:  # pinned: row and column of the identity, u_c → LN_ABSENT
         for slot in system.off_slots[c]:
             A[slot, p] = 0.0
@@ -630,7 +715,7 @@ def _step_spd(pb: _Problem, st: _Rows, ev: _Eval):
         I = ev.I
         x1 *= I
         b = dI / I
-        c = 0.5 * (system.z2 @ mD) - ev.Ic / I
+        c = sums[n + 1] - ev.Ic / I
         eps = (np.einsum("kn,kn->n", b, x0) - ev.res[n]) / (c - np.einsum("kn,kn->n", b, x1))
         step = np.empty((n + 1, rows))
         np.multiply(x1, eps, out=step[:n])
@@ -727,14 +812,42 @@ def solve_blocks(
     given, is called with the number of rows finished after each block and after the joint
     finish (e.g. the ``update`` of a progress bar); it sums to the number of rows.
     """
-    N = totals.shape[0]
-    parts = []
+    N, ns = totals.shape[0], len(system.species)
+    gam = _Gamma(model, system)
+    shift = gam.by_I and kw.get("coupled", True)
+    # the charge-balanced component joins the start when every other one has a total
+    others_by_mass = charge_col is not None and not act_cols and all(pin_cols[np.arange(system.n) != charge_col])
+    lnm, lng, m = np.empty((ns, N)), np.zeros((ns, N)), np.empty((ns, N))  # rows last, filled in place
+    full = SolveOutput(lnm.T, lng.T, np.zeros(N, dtype=bool), np.zeros(N, dtype=int), np.full(N, np.inf), m.T)
+
+    def rows_of(rows, u_rows):  # solve the rows ``rows`` (indices) from ``u_rows``
+        T_r = T[rows] if np.ndim(T) else T
+        P_r = P[rows] if np.ndim(P) else P
+        targets = [np.broadcast_to(t, (N,))[rows] for t in act_targets]
+        return solve(system, lnk[rows], totals[rows], scale[rows], pin_cols, charge_col, act_cols, act_species,
+                     targets, model, T_r, P_r, u_rows, gam=gam, **kw)
+
+    def put(rows, part, add_iterations=0):
+        full.lnm[rows], full.lng[rows], full.m[rows] = part.lnm, part.lng, part.m
+        full.converged[rows], full.residual[rows] = part.converged, part.residual
+        full.iterations[rows] = part.iterations + add_iterations
+
     parked, u_parked = [], []
     blocks = range(0, N, CHUNK)
     for lo in blocks:
         sl = slice(lo, min(N, lo + CHUNK))
-        u_start = start(system, lnk[sl], totals[sl], pin_cols, u0[sl])
-        out = solve(
+        T_b = T[sl] if np.ndim(T) else T
+        P_b = P[sl] if np.ndim(P) else P
+        u_start, I_start = start(
+            system,
+            lnk[sl],
+            totals[sl],
+            pin_cols,
+            u0[sl],
+            charge_col=charge_col if others_by_mass else None,
+            lnk_shift=(lambda I, T_b=T_b, P_b=P_b: gam.lnk_shift(I, T_b, P_b)) if shift else None,
+        )
+        part = solve(
             system,
             lnk[sl],
             totals[sl],
@@ -745,48 +858,36 @@ def solve_blocks(
             act_species,
             [t[sl] for t in act_targets],
             model,
-            T[sl] if np.ndim(T) else T,
-            P[sl] if np.ndim(P) else P,
+            T_b,
+            P_b,
             u_start,
             park=min(PARK, int((sl.stop - sl.start) * PARK_SHARE)) if len(blocks) > 1 else 0,
+            I0=I_start,
+            gam=gam,
+            out=(lnm[:, sl], lng[:, sl], m[:, sl]),
             **kw,
         )
-        parts.append(out)
-        if out.parked is not None:
-            parked.append(out.parked + lo)
-            u_parked.append(out.u_parked)
+        full.converged[sl], full.iterations[sl], full.residual[sl] = part.converged, part.iterations, part.residual
+        if part.parked is not None:
+            parked.append(part.parked + lo)
+            u_parked.append(part.u_parked)
         if progress is not None:
-            progress(sl.stop - sl.start - (0 if out.parked is None else out.parked.size))
-    if len(parts) == 1:
-        return parts[0]
-    full = SolveOutput(
-        *(
-            np.concatenate([getattr(p, f) for p in parts])
-            for f in ("lnm", "lng", "converged", "iterations", "residual", "m")
-        )
-    )
+            progress(sl.stop - sl.start - (0 if part.parked is None else part.parked.size))
     if parked:
         rows = np.concatenate(parked)
-        rest = solve(
-            system,
-            lnk[rows],
-            totals[rows],
-            scale[rows],
-            pin_cols,
-            charge_col,
-            act_cols,
-            act_species,
-            [np.broadcast_to(t, (N,))[rows] for t in act_targets],
-            model,
-            T[rows] if np.ndim(T) else T,
-            P[rows] if np.ndim(P) else P,
-            np.concatenate(u_parked),
-            **kw,
-        )
-        full.lnm[rows], full.lng[rows], full.converged[rows] = rest.lnm, rest.lng, rest.converged
-        full.m[rows] = rest.m
-        full.iterations[rows] += rest.iterations - 1  # the first re-evaluates where they stopped
-        full.residual[rows] = rest.residual
+        put(rows, rows_of(rows, np.concatenate(u_parked)), full.iterations[rows] - 1)  # the first re-evaluates
         if progress is not None:
             progress(rows.size)
+    if (charge_col is not None and others_by_mass) or shift:
+        # rows the refined start did not bring to convergence get a second chance from the plain one
+        rows = np.flatnonzero(~full.converged)
+        if rows.size:
+            u_plain, _ = start(system, lnk[rows], totals[rows], pin_cols, u0[rows])
+            again = rows_of(rows, u_plain)
+            ok = again.converged
+            if np.any(ok):
+                put(rows[ok], SolveOutput(*(getattr(again, f)[ok] for f in _FIELDS)), full.iterations[rows[ok]])
     return full
+
+
+_FIELDS = ("lnm", "lng", "converged", "iterations", "residual", "m")
