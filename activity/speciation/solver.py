@@ -561,7 +561,7 @@ def _backtrack(pb: _Problem, st: _Rows, far, res, lam, step, trial) -> _Eval | N
                 ok = np.flatnonzero(~worse)
                 cols = pend[ok]
                 cache.have[cols] = True
-                for name in ("res", "Gr", "m", "I", "Ic"):
+                for name in _cached(pb):
                     getattr(cache, name)[..., cols] = getattr(ev, name)[..., ok]
         if not np.any(worse):
             break
@@ -578,6 +578,11 @@ class _Eval(_Rows):
     """Species, γ and residuals at one point of the working set (rows last)."""
 
 
+def _cached(pb: _Problem) -> tuple:
+    """What a cached evaluation holds per row (models of I alone)."""
+    return ("res", "Gr", "m", "I", "Ic") + (("qs",) if pb.charge_col is not None else ())
+
+
 def _evaluate(pb: _Problem, st: _Rows, cache: _Eval | None) -> _Eval:
     """Species, γ and scaled residuals (k, rows) at the working set's unknowns.
 
@@ -589,7 +594,7 @@ def _evaluate(pb: _Problem, st: _Rows, cache: _Eval | None) -> _Eval:
         todo = np.flatnonzero(~cache.have)
         if todo.size:
             ev = _evaluate(pb, st.subset(todo), None)
-            for name in ("res", "Gr", "m", "I", "Ic"):
+            for name in _cached(pb):
                 getattr(cache, name)[..., todo] = getattr(ev, name)
         del cache.have
         return cache
@@ -619,7 +624,11 @@ def _evaluate(pb: _Problem, st: _Rows, cache: _Eval | None) -> _Eval:
     res[:n] -= st.tot
     res[:n] /= st.sc
     if pb.charge_col is not None:
-        res[pb.charge_col] = sums[n] / st.sc[pb.charge_col]
+        # Σ z m scaled by the gross charge put in, or by Σ z² m of the species where that is
+        # larger: an acid or base dissolved as a neutral species puts in no charge but forms
+        # ions (0.01 mol/kg H3PO4 alone could not meet the tolerance against a floor of 1e-7)
+        ev.qs = np.maximum(st.sc[pb.charge_col], 2.0 * sums[n + 1])
+        res[pb.charge_col] = sums[n] / ev.qs
     if pb.by_I:
         ev.Ic = sums[n + 1]
     for col, sp, tgt in zip(pb.act_cols, pb.act_species, st.tg):
@@ -697,7 +706,7 @@ def _step_spd(pb: _Problem, st: _Rows, ev: _Eval):
     if q is not None:
         # the charge row is Σ_c z_c (mass row c): take the other mass rows out of it
         zc = system.zc
-        Q = ev.res[q] * st.sc[q]  # Σ z m (unscaled)
+        Q = ev.res[q] * ev.qs  # Σ z m (unscaled)
         Y[0, q] = (Q - (zc @ Y[0] - zc[q] * Y[0, q])) / zc[q]
         if pb.coupled:
             Y[1, q] = (sums[n] - (zc @ Y[1] - zc[q] * Y[1, q])) / zc[q]
@@ -741,7 +750,7 @@ def _step_general(pb: _Problem, st: _Rows, ev: _Eval) -> np.ndarray:
     J = np.zeros((k, k, rows))
     J[:n, :n] = (system.W2 @ m).reshape(n, n, rows) / st.sc[:, None, :]
     if pb.charge_col is not None:
-        J[pb.charge_col, :n] = (system.zf * system.nu.T) @ m / st.sc[pb.charge_col]
+        J[pb.charge_col, :n] = (system.zf * system.nu.T) @ m / ev.qs
     for col, sp in zip(pb.act_cols, pb.act_species):
         J[col, :n] = system.nu[sp][:, None]
     if pb.coupled:
@@ -749,7 +758,7 @@ def _step_general(pb: _Problem, st: _Rows, ev: _Eval) -> np.ndarray:
         mD = m * D
         a = (system.nuT @ mD) / st.sc
         if pb.charge_col is not None:
-            a[pb.charge_col] = (system.zf @ mD) / st.sc[pb.charge_col]
+            a[pb.charge_col] = (system.zf @ mD) / ev.qs
         for col, sp in zip(pb.act_cols, pb.act_species):
             a[col] = system.nu[sp] @ Gc
         a[st.pin] = 0.0
