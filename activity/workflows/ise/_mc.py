@@ -25,6 +25,7 @@ Nothing here loops in Python over trials or samples.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import Any
 
@@ -172,6 +173,157 @@ def _water_AB(T: NDArray, P: NDArray, need_B: bool) -> tuple[NDArray, Any]:
     return out[0], (out[1] if need_B else 0.0)
 
 
+def _exp_taylor_degree(amax: float) -> int:
+    """Smallest Taylor degree n ≤ 7 for e^(−δ) with |δ| ≤ amax whose remainder amax^(n+1)/(n+1)! is
+    at most 2⁻⁵³ (half an ulp at 1); 0 when no such n (then e^x is taken: it costs about as
+    much as 14 arithmetic passes over the block)."""
+    term = amax
+    for n in range(1, 8):
+        term *= amax / (n + 1)
+        if term <= 2.0**-53:
+            return n
+    return 0
+
+
+#: Taylor coefficients of e^(−δ): (−1)ʲ/j!
+_EXP_MINUS = tuple((-1.0) ** j / math.factorial(j) for j in range(9))
+
+
+def _times_exp_minus(m: NDArray, step: NDArray, n: int, buf: NDArray) -> None:
+    """m ← m·e^(−step) in place by the Taylor polynomial of degree ``n`` (Horner, 2n operations)."""
+    coef = _EXP_MINUS
+    e = np.multiply(step, coef[n], out=buf)
+    for j in range(n - 1, 0, -1):
+        e += coef[j]
+        e *= step
+    e += 1.0
+    m *= e
+
+
+class _Buffers:
+    """Block-sized work arrays, allocated once per run (views of the first ``n`` rows per block)."""
+
+    NAMES = ("E", "I", "s", "q", "F", "F2", "u", "Y", "m", "d")
+
+    def __init__(self, shape: tuple):
+        self.full = {name: np.empty(shape) for name in self.NAMES}
+
+    def take(self, n: int) -> dict:
+        return {name: arr[:n] for name, arr in self.full.items()}
+
+
+def _abs_max(x: NDArray) -> float:
+    """max |x| from two reductions (no array written; NaN if x holds one)."""
+    return max(float(x.max()), -float(x.min()))
+
+
+def _newton_primary(
+    prim: _DHTerms,
+    tot: NDArray,
+    w: float,
+    Ib: NDArray,
+    A: Any,
+    B: Any,
+    r0: NDArray,
+    Y0: NDArray,
+    rtol: float,
+    buf: dict,
+) -> NDArray | None:
+    """Molality of every element of a block without interferents (NaN below detection); None if
+    some element did not settle or γ rises too steeply with m for Newton (the general reader then).
+
+    Unknown Y = ln(m/tot) (m = tot·e^Y): F(Y) = Y + ln10·lg γᵢ(I) = 0 with I = w·m + Ib, and
+    F′(Y) = 1 + w·m·ln10·dlg γᵢ/dI, so no logarithm is taken; started from Y0 = ln r0, r0 = m0/tot0
+    the sample's estimate (γ as at the estimate). With K = B·size + d and α = ln10·z²·A:
+    ln10·lg γᵢ = α(c·I − √I/(1 + K√I)) + ln10·b·I, and its I-derivative is
+    α(c − 1/(2√I(1 + K√I)²)) + ln10·b. Each pass moves m by e^(−δ) as a Taylor polynomial whose
+    remainder is below 2⁻⁵³ (e^Y itself after a large step). Stopping rule as in :func:`_newton`
+    (every element at once, the block iterating as a whole): a step within ``rtol``, or from the
+    second pass |δₖ|³ ≤ rtol·|δₖ₋₁|²; max|δₖ|·max|δₖ/δₖ₋₁|² ≤ rtol is tried first (it implies it).
+    """
+    below = tot <= 0
+    any_below = bool(below.any())
+    t = np.where(below, 1.0, tot) if any_below else tot
+    alpha = np.multiply(LN10 * prim.z2, A)
+    alpha_w = alpha * w
+    if prim.size:
+        K = np.multiply(B, prim.size) + prim.d
+    else:
+        K = float(prim.d) if prim.d else None
+    c, beta = prim.c, LN10 * prim.b
+    neg_alpha = None if c else -alpha
+    m = np.multiply(t, r0, out=buf["m"])
+    I, s, q, u, Y = (buf[k] for k in ("I", "s", "q", "u", "Y"))
+    prev = None
+    for it in range(MAX_NEWTON):
+        F = buf["F" if it % 2 == 0 else "F2"]  # the previous step stays in the other one
+        np.multiply(m, w, out=I)
+        I += Ib
+        np.sqrt(I, out=s)
+        if K is None:  # limiting law: 1 + K√I = 1
+            frac = s
+            np.divide(-0.5, s, out=u)
+        else:
+            if isinstance(K, float) and K == 1.0:
+                den = np.add(s, 1.0, out=q)
+            else:
+                den = np.multiply(s, K, out=q)
+                den += 1.0
+            frac = np.divide(s, den, out=F)  # √I/(1 + K√I)
+            np.multiply(den, den, out=u)
+            u *= s
+            np.divide(-0.5, u, out=u)  # −1/(2√I(1 + K√I)²)
+        if c:
+            np.subtract(np.multiply(I, c, out=q), frac, out=F)
+            F *= alpha
+        else:
+            np.multiply(frac, neg_alpha, out=F)
+        if beta:
+            F += np.multiply(I, beta, out=q)
+        F += Y0 if it == 0 else Y
+        # F′ = 1 + m·(α·w·(c − 1/(2√I(1 + K√I)²)) + ln10·b·w)
+        if c:
+            u += c
+        u *= alpha_w
+        if beta:
+            u += beta * w
+        u *= m
+        u += 1.0
+        if it == 0 and float(u.min()) < 0.05:
+            if not any_below or np.any((u < 0.05) & ~below):  # γ rises too steeply with m: the general reader
+                return None
+        step = np.divide(F, u, out=F)
+        amax = _abs_max(step)
+        if amax > 5.0:
+            np.clip(step, -5.0, 5.0, out=step)
+            amax = 5.0
+        if it == 0:
+            np.subtract(Y0, step, out=Y)
+        else:
+            Y -= step
+        n = _exp_taylor_degree(amax)
+        if n:
+            _times_exp_minus(m, step, n, u)
+        else:
+            np.exp(Y, out=m)
+            m *= t
+        if amax <= rtol:
+            break
+        if prev is not None:
+            with np.errstate(divide="ignore", invalid="ignore"):
+                ratio = _abs_max(np.divide(step, prev, out=u))
+            if amax * ratio * ratio <= rtol:  # (NaN, inf: not settled by this test)
+                break
+            # element by element: the next step, by the quadratic convergence, |δₖ|³/|δₖ₋₁|², within rtol
+            a = np.abs(step)
+            if np.all((a <= rtol) | (a * a * a <= rtol * prev * prev)):
+                break
+        prev = step
+    else:
+        return None
+    return np.where(below, np.nan, m) if any_below else m
+
+
 def _newton(
     reader: Any,
     terms: dict,
@@ -184,7 +336,8 @@ def _newton(
     tot0: NDArray,
     rtol: float,
 ) -> NDArray | None:
-    """Molality of every element of a block (NaN below detection); None if some did not settle.
+    """Molality of every element of a block with interferents (NaN below detection); None if some
+    did not settle.
 
     ``tot`` is the reading's total less a₀ (aᵢ + Σ Kᵢⱼ·aⱼ^(zᵢ/zⱼ)), ``m0`` and ``tot0`` the
     sample's estimate and its total. Newton on F(x) = x + ln10·lg γᵢ(I(eˣ)) − ln aᵢ(x) = 0, x = ln m
@@ -195,21 +348,16 @@ def _newton(
     """
     shape = tot.shape
     sq = reader.charges.astype(float) ** 2
-    I_mat = 0.5 * np.tensordot(sq, reader.base, axes=(0, 0))  # per sample
     w = 0.5 * sq[reader.i] + (0.5 * sq[reader.c] * reader.ratio if reader.c is not None else 0.0)
-    Ib = scale * I_mat
+    Ib = scale * (0.5 * np.tensordot(sq, reader.base, axes=(0, 0)))
     inter = [(terms[idx], r, K, scale * reader.base[idx]) for (_, idx, r, _), K in zip(reader.inter, Kvals)]
     prim = terms[reader.i]
     below = tot <= 0
-    any_below = bool(below.any())
-    t = np.where(below, 1.0, tot) if any_below else tot
-    ln_tot = np.log(t)
-    if terms["ideal"] and not inter:
-        return np.where(below, np.nan, t)
+    t = np.where(below, 1.0, tot)
     r0 = m0 / tot0
     m = t * r0
-    x = ln_tot + np.log(r0)
-    done = below.copy() if any_below else np.zeros(shape, bool)
+    x = np.log(t) + np.log(r0)
+    done = below.copy()
     gone = done.copy()
     prev = None
     for _ in range(MAX_NEWTON):
@@ -220,43 +368,29 @@ def _newton(
         dlg *= LN10 * w
         dlg *= m
         dF = np.add(dlg, 1.0, out=dlg)
-        if inter:
-            ai = np.array(t)
-            dai = np.zeros(shape)
-            for tj, r, K, mj in inter:
-                lgj, dlgj = tj.lg(A, B, I, s)
-                aj = mj * np.exp(LN10 * lgj)
-                term = K * (aj if r == 1 else aj**r)
-                ai -= term
-                dai -= term * r * LN10 * dlgj * w * m
-            g = ai <= 0
-            gone |= g
-            done |= g
-            ai = np.where(g, 1.0, ai)
-            F = x + LN10 * lg - np.log(ai)
-            dF = dF - dai / ai
-        else:
-            lg *= LN10
-            F = np.add(x, lg, out=lg)
-            F -= ln_tot
-        if prev is None or inter:
-            if np.any((dF < 0.05) & ~done):  # γ rises too steeply with m here: the general reader takes it
-                return None
+        ai = np.array(t)
+        dai = np.zeros(shape)
+        for tj, r, K, mj in inter:
+            lgj, dlgj = tj.lg(A, B, I, s)
+            aj = mj * np.exp(LN10 * lgj)
+            term = K * (aj if r == 1 else aj**r)
+            ai -= term
+            dai -= term * r * LN10 * dlgj * w * m
+        g = ai <= 0
+        gone |= g
+        done |= g
+        ai = np.where(g, 1.0, ai)
+        F = x + LN10 * lg - np.log(ai)
+        dF = dF - dai / ai
+        if np.any((dF < 0.05) & ~done):  # γ rises too steeply with m here: the general reader takes it
+            return None
         step = np.divide(F, dF, out=F)
         np.clip(step, -5.0, 5.0, out=step)
-        if prev is not None or any_below or inter:
-            step[done] = 0.0
+        step[done] = 0.0
         x -= step
         a = np.abs(step)
         if prev is not None and float(a.max()) < 1e-4:
-            # m·e^(−δ) = m·(1 − δ + δ²/2 − δ³/6): for |δ| < 1e-4 the rest is below 5e-18 relative
-            e = step * (-1.0 / 6.0)
-            e += 0.5
-            e *= step
-            e -= 1.0
-            e *= step
-            e += 1.0
-            m *= e
+            _times_exp_minus(m, step, 3, dai)  # for |δ| < 1e-4 the rest is below 5e-18 relative
         else:
             m = np.exp(x, out=m)
         if prev is None:
@@ -267,7 +401,7 @@ def _newton(
             # but only once it is within rtol itself)
             done |= (a <= rtol) | (a * a * a <= rtol * prev * prev)
         if done.all():
-            return np.where(gone, np.nan, m) if (any_below or inter) else m
+            return np.where(gone, np.nan, m)
         prev = a
     return None
 
@@ -321,21 +455,32 @@ def run_monte_carlo(
         )
     store = np.empty((k_s, trials), np.float32)
     reference = None
-    sums = np.zeros(k_s)
-    m2 = np.zeros(k_s)
-    count = 0
+    s1 = np.zeros(k_s)  # running sums of the offsets from the reference and of their squares
+    s2 = np.zeros(k_s)
     with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
         tot0 = 10.0 ** ((E - cal.E0) / (cal.slope_factor * nernst_slope_z(T0, cal.z))) - cal.a0
     tot0 = np.where(np.isfinite(tot0) & (tot0 > 0), tot0, m0)
+    r0 = m0 / tot0  # 1/γ at the estimate: the start of the Newton iteration
+    lnr0 = np.log(r0)
     c_s = nernst_slope_z(1.0, cal.z)  # s(T) = c_s·T
+    if terms is not None:
+        sq = reader.charges.astype(float) ** 2
+        w = 0.5 * sq[reader.i] + (0.5 * sq[reader.c] * reader.ratio if reader.c is not None else 0.0)
+        I_mat = 0.5 * np.tensordot(sq, reader.base, axes=(0, 0))  # per sample
+    work = _Buffers((tb, k_s))
     for start in range(0, trials, tb):
         n = min(tb, trials - start)
         shape = (n, k_s)
+        buf = work.take(n)
         c = rng.standard_normal((n, n_cal)) @ L.T  # the calibration, one call
         c += draws.cal_mean
         q = {key: c[:, j : j + 1] for j, key in enumerate(draws.cal_keys)}
-        Eb = rng.standard_normal(shape) if draws.u_emf > 0 else np.zeros(shape)
-        Eb *= draws.u_emf
+        Eb = buf["E"]
+        if draws.u_emf > 0:
+            rng.standard_normal(out=Eb)
+            Eb *= draws.u_emf
+        else:
+            Eb.fill(0.0)
         Eb += E
         # temperature, matrix and model choice: one draw per trial, shared by the samples (each
         # sample's distribution is the same as with draws of its own; see the module notes)
@@ -358,7 +503,13 @@ def run_monte_carlo(
             tot -= a0
             if draws.u_T > 0 or not start:  # else A, B as in the first block
                 A, B = _water_AB(T, np.broadcast_to(P0[:1] if T_uniform else P0, np.shape(T)), need_B)
-            m = _newton(reader, terms, tot, Kvals, A, B, scale, m0, tot0, rtol)
+            if reader.inter:
+                m = _newton(reader, terms, tot, Kvals, A, B, scale, m0, tot0, rtol)
+            elif terms["ideal"]:
+                m = np.where(tot <= 0, np.nan, tot)
+            else:
+                Ib = np.multiply(scale, I_mat, out=buf["d"]) if np.ndim(I_mat) else scale * I_mat
+                m = _newton_primary(terms[reader.i], tot, w, Ib, A, B, r0, lnr0, rtol, buf)
             if m is None:  # the general reader on this block
                 Eb = E0 + np.log10(tot + a0) * (kf * c_s * T)  # the drawn readings again
         if m is None:
@@ -374,8 +525,12 @@ def run_monte_carlo(
                 details=False,
             )
         y = m if dmodel is None else m + dmodel * spread_scale
-        bad = ~np.isfinite(y)
-        if np.any(bad):
+        if reference is None:
+            reference = y.mean(axis=0)
+        d = np.subtract(y, reference, out=buf["d"])  # offsets from the reference: the moments are taken on them
+        b1 = d.sum(axis=0)
+        if not np.all(np.isfinite(b1)):
+            bad = ~np.isfinite(y)
             cols = np.flatnonzero(bad.any(axis=0))
             raise InputError(
                 f"{int(np.count_nonzero(bad))} of {n * k_s} Monte Carlo trials fall below detection (the drawn "
@@ -384,23 +539,12 @@ def run_monte_carlo(
                 field="emf",
                 value=float(E[cols[0]]),
             )
-        if reference is None:
-            reference = y.mean(axis=0)
-        d = y - reference  # offsets from the reference: also the float64 moments are taken on them
-        bm = d.mean(axis=0)
-        d2 = d - bm
-        bm2 = np.einsum("ij,ij->j", d2, d2)
-        if count:
-            delta = bm - sums
-            tot_n = count + n
-            sums = sums + delta * n / tot_n
-            m2 = m2 + bm2 + delta * delta * count * n / tot_n
-        else:
-            sums, m2 = bm, bm2
-        count += n
+        s1 += b1
+        s2 += np.einsum("ij,ij->j", d, d)
         store[:, start : start + n] = d.T
         if bar is not None:
             bar.update(n * k_s)
     store.sort(axis=1)
-    sd = np.sqrt(m2 / (count - 1)) if count > 1 else np.zeros(k_s)
-    return reference + sums, sd, reference, store
+    mean_offset = s1 / trials
+    sd = np.sqrt(np.maximum(s2 - s1 * mean_offset, 0.0) / (trials - 1)) if trials > 1 else np.zeros(k_s)
+    return reference + mean_offset, sd, reference, store
