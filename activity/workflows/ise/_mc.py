@@ -34,9 +34,10 @@ from numpy.typing import NDArray
 
 from ...constants import LN10
 from ...errors import InputError
+from ...uncertainty.result import SortedSample
 from ._model import nernst_slope_z
 
-__all__ = ["MCDraws", "run_monte_carlo"]
+__all__ = ["DrawOrderSample", "MCDraws", "run_monte_carlo"]
 
 #: Values per block (trials × samples): 2¹⁶ float64 = 512 kB an array, which stays in the
 #: L2 cache: an elementwise operation ran 4–5× faster per value than on blocks of 2²⁰ in
@@ -63,6 +64,19 @@ class MCDraws:
     u_scale: float
     model_half: float  # half-width of the rectangular model-choice input (0: none)
     spread_scale: NDArray[np.float64]  # per sample
+
+
+@dataclass(frozen=True)
+class DrawOrderSample(SortedSample):
+    """A sample's Monte Carlo offsets kept in draw order, sorted in place the first time a coverage
+    interval is asked for (sorting every sample's values up front cost about a tenth of a run of
+    10⁵ trials × 100 samples, and a reading of unknowns often needs no interval)."""
+
+    def interval(self, p, kind):
+        if not self.__dict__.get("_sorted", False):
+            self.offsets.sort()
+            object.__setattr__(self, "_sorted", True)
+        return super().interval(p, kind)
 
 
 # ----------------------------------------------------------------- fast γ(I) kernel
@@ -427,7 +441,8 @@ def run_monte_carlo(
     reference : ndarray
         Per sample: the mean of its first block (the float32 store holds offsets from it).
     offsets : ndarray, float32, shape (samples, trials)
-        Sorted values minus the reference, per sample (for coverage intervals).
+        Values minus the reference, per sample, in draw order (for coverage intervals: wrap
+        each row in a :class:`DrawOrderSample`, which sorts it when first asked).
     """
     cal = reader.cal
     E = np.ravel(np.asarray(E, float))
@@ -544,7 +559,6 @@ def run_monte_carlo(
         store[:, start : start + n] = d.T
         if bar is not None:
             bar.update(n * k_s)
-    store.sort(axis=1)
     mean_offset = s1 / trials
     sd = np.sqrt(np.maximum(s2 - s1 * mean_offset, 0.0) / (trials - 1)) if trials > 1 else np.zeros(k_s)
     return reference + mean_offset, sd, reference, store
