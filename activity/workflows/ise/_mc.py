@@ -155,36 +155,81 @@ def _fast_terms(reader: Any) -> dict | None:
     return out
 
 
+class _WaterAB:
+    """A(T, P) and B(T, P) for temperatures in [lo, hi] at one pressure: a Chebyshev polynomial in T
+    per parameter, fitted once and accepted where it meets the water model to POLY_RTOL at 41
+    points of the range; the water model itself for a parameter no degree ≤ 12 fits, for
+    temperatures outside the range and for pressures other than P0."""
+
+    def __init__(self, lo: float, hi: float, P0: float, need_B: bool):
+        from ...water import debye_huckel_A, debye_huckel_B
+
+        self.funcs = [debye_huckel_A] + ([debye_huckel_B] if need_B else [])
+        self.lo, self.hi, self.P0 = lo, hi, P0
+        self.mid, self.half = 0.5 * (lo + hi), 0.5 * (hi - lo)
+        self.coef: list = []
+        for f in self.funcs:
+            if self.half < 1e-9:
+                self.coef.append(float(f(lo, P0)))
+                continue
+            check = np.linspace(lo, hi, 41)
+            exact = np.asarray(f(check, P0), float)
+            for deg in (4, 6, 8, 10, 12):
+                nodes = self.mid + self.half * np.cos(np.pi * (np.arange(deg + 1) + 0.5) / (deg + 1))
+                coef = np.polynomial.chebyshev.chebfit(self._x(nodes), np.asarray(f(nodes, P0), float), deg)
+                approx = np.polynomial.chebyshev.chebval(self._x(check), coef)
+                if np.max(np.abs(approx / exact - 1.0)) <= POLY_RTOL:
+                    self.coef.append(coef)
+                    break
+            else:
+                self.coef.append(None)
+
+    def _x(self, T: Any) -> Any:
+        return (T - self.mid) / self.half
+
+    def __call__(self, T: NDArray, P: NDArray) -> tuple[NDArray, Any]:
+        T = np.asarray(T, float)
+        P = np.asarray(P, float)
+        inside = np.all(P == self.P0) and float(np.min(T)) >= self.lo and float(np.max(T)) <= self.hi
+        out = []
+        for f, coef in zip(self.funcs, self.coef):
+            if not inside or coef is None:
+                out.append(np.asarray(f(T, P), float))
+            elif isinstance(coef, float):
+                out.append(np.full(T.shape, coef))
+            else:
+                out.append(np.polynomial.chebyshev.chebval(self._x(T), coef))
+        return out[0], (out[1] if len(out) > 1 else 0.0)
+
+
 def _water_AB(T: NDArray, P: NDArray, need_B: bool) -> tuple[NDArray, Any]:
     """A(T, P) and B(T, P) at many temperatures: a polynomial in T checked against the water model."""
     from ...water import debye_huckel_A, debye_huckel_B
 
     T = np.asarray(T, float)
     P = np.asarray(P, float)
-    funcs = [debye_huckel_A] + ([debye_huckel_B] if need_B else [])
     if T.size < 2000 or np.ptp(P) > 0:
-        vals = [np.asarray(f(T, P), float) for f in funcs]
+        vals = [np.asarray(f(T, P), float) for f in [debye_huckel_A] + ([debye_huckel_B] if need_B else [])]
         return vals[0], (vals[1] if need_B else 0.0)
-    lo, hi = float(np.min(T)), float(np.max(T))
-    P0 = float(np.ravel(P)[0])
-    if hi - lo < 1e-9:
-        vals = [np.full(T.shape, float(f(lo, P0))) for f in funcs]
-        return vals[0], (vals[1] if need_B else 0.0)
-    mid, half = 0.5 * (lo + hi), 0.5 * (hi - lo)
-    out = []
-    for f in funcs:
-        for deg in (4, 6, 8, 10, 12):
-            nodes = mid + half * np.cos(np.pi * (np.arange(deg + 1) + 0.5) / (deg + 1))
-            coef = np.polynomial.chebyshev.chebfit((nodes - mid) / half, np.asarray(f(nodes, P0), float), deg)
-            check = np.linspace(lo, hi, 41)
-            exact = np.asarray(f(check, P0), float)
-            approx = np.polynomial.chebyshev.chebval((check - mid) / half, coef)
-            if np.max(np.abs(approx / exact - 1.0)) <= POLY_RTOL:
-                out.append(np.polynomial.chebyshev.chebval((T - mid) / half, coef))
-                break
-        else:
-            out.append(np.asarray(f(T, P), float))
-    return out[0], (out[1] if need_B else 0.0)
+    return _WaterAB(float(np.min(T)), float(np.max(T)), float(np.ravel(P)[0]), need_B)(T, P)
+
+
+#: Half-width of the temperature range over which A(T), B(T) are fitted once per run, in
+#: standard uncertainties of the temperature about the samples' temperatures (a normal draw
+#: beyond it, p < 2e-23 per trial, is evaluated by the water model directly).
+T_SPAN = 10.0
+
+
+def _run_water_AB(T0: NDArray, P0: NDArray, u_T: float, need_B: bool) -> Any:
+    """The A(T), B(T) evaluator of a run with drawn temperatures (the water model's range at most)."""
+    from ...water import T_MAX, T_MIN
+
+    lo = max(float(np.min(T0)) - T_SPAN * u_T, T_MIN)
+    hi = min(float(np.max(T0)) + T_SPAN * u_T, T_MAX)
+    if np.ptp(P0) > 0 or lo >= hi:
+        return _water_AB
+    ab = _WaterAB(lo, hi, float(P0[0]), need_B)
+    return lambda T, P, need_B: ab(T, P)
 
 
 def _exp_taylor_degree(amax: float) -> int:
@@ -483,6 +528,7 @@ def run_monte_carlo(
         w = 0.5 * sq[reader.i] + (0.5 * sq[reader.c] * reader.ratio if reader.c is not None else 0.0)
         I_mat = 0.5 * np.tensordot(sq, reader.base, axes=(0, 0))  # per sample
     work = _Buffers((tb, k_s))
+    water_AB = _run_water_AB(T0, P0, draws.u_T, need_B) if terms is not None and draws.u_T > 0 else _water_AB
     for start in range(0, trials, tb):
         n = min(tb, trials - start)
         shape = (n, k_s)
@@ -517,7 +563,7 @@ def run_monte_carlo(
                 tot = np.exp(Eb, out=Eb)
             tot -= a0
             if draws.u_T > 0 or not start:  # else A, B as in the first block
-                A, B = _water_AB(T, np.broadcast_to(P0[:1] if T_uniform else P0, np.shape(T)), need_B)
+                A, B = water_AB(T, np.broadcast_to(P0[:1] if T_uniform else P0, np.shape(T)), need_B)
             if reader.inter:
                 m = _newton(reader, terms, tot, Kvals, A, B, scale, m0, tot0, rtol)
             elif terms["ideal"]:

@@ -166,3 +166,28 @@ def test_draw_order_sample_gives_the_intervals_of_the_sorted_values():
             assert drawn.interval(p, kind) == ordered.interval(p, kind)
     np.testing.assert_array_equal(drawn.offsets, ordered.offsets)  # sorted in place, nothing lost
     assert drawn.interval(0.95, "shortest") != drawn.interval(0.95, "symmetric")
+
+
+def test_temperature_polynomial_fitted_once_per_run():
+    from activity.water import debye_huckel_A, debye_huckel_B
+
+    T0 = np.array([293.15, 298.15, 310.15])
+    P0 = np.full(3, 101325.0)
+    ab = mc._run_water_AB(T0, P0, 0.3, True)
+    rng = np.random.default_rng(6)
+    T = T0 + rng.normal(0.0, 0.3, (2000, 1))
+    P = np.full(T.shape, 101325.0)
+    A, B = ab(T, P, True)
+    # accepted only where it meets POLY_RTOL = 1e-13 at 41 points of the range; at the draws
+    # themselves 1e-12 relative (rounding of the Chebyshev sum) is the stated bound
+    np.testing.assert_allclose(A, debye_huckel_A(T, P), rtol=1e-12)
+    np.testing.assert_allclose(B, debye_huckel_B(T, P), rtol=1e-12)
+    # beyond the fitted range (T0 ± 10 u_T) and at another pressure: the water model itself
+    far = np.array([[T0[2] + 5.0]])
+    np.testing.assert_array_equal(ab(far, np.full((1, 1), 101325.0), True)[0], debye_huckel_A(far, 101325.0))
+    np.testing.assert_array_equal(ab(T[:5], np.full((5, 3), 2e5), True)[0], debye_huckel_A(T[:5], 2e5))
+    # the range stops at the water model's own limits (no evaluation outside them)
+    cold = mc._run_water_AB(np.array([274.15]), np.array([101325.0]), 0.5, False)
+    assert cold(np.array([[274.0]]), np.array([[101325.0]]), False)[0] == pytest.approx(
+        debye_huckel_A(274.0, 101325.0), rel=1e-12
+    )
