@@ -10,15 +10,22 @@ are evaluated in blocks of 2¹⁶ values (trials × samples) so the arrays stay 
   calibration; the reading, temperature, matrix and model-choice inputs one per trial and
   sample);
 * for the Debye–Hückel family (ideal, limiting law, extended, Truesdell–Jones, Davies —
-  models that keep the shared form) γ is a function of I alone: a Newton iteration on
-  ln m with the analytic derivative, started from the sample's estimate, stops per element
-  on the same tolerance as :class:`~activity.workflows.ise.unknowns._Reader` (usually 2–4
-  passes, the background dominating I). A(T) and B(T) at the drawn temperatures come from
-  a polynomial in T fitted at Chebyshev nodes of the drawn range, checked against the water
-  model to 1e-13 relative (else evaluated directly);
+  models that keep the shared form) γ is a function of I alone: a Newton iteration with the
+  analytic derivative, started from the sample's estimate, on the same tolerance as
+  :class:`~activity.workflows.ise.unknowns._Reader` (2 passes as a rule, the background
+  dominating I). Without interferents (:func:`_newton_primary`) the unknown is ln(m/total),
+  so a pass takes one square root and no logarithm or exponential (m moves by a Taylor
+  polynomial of e^(−step)), in place on block buffers allocated once; with interferents
+  (:func:`_newton`) it is ln m, element by element. A(T) and B(T) at the drawn temperatures
+  come from a polynomial in T fitted once per run at Chebyshev nodes of T0 ± 10 u(T), checked
+  against the water model to 1e-13 relative (else evaluated directly);
 * any other model (Pitzer, plug-ins), or a block where the Newton iteration does not
   settle, goes through the general reader on the whole block (the activity model on a
   Solution batch): slower, the same answer.
+
+Mean and standard deviation come from running sums of the offsets from the first block's mean
+(and of their squares); the offsets themselves are kept as float32 in draw order, and a
+sample's are sorted only when a coverage interval is asked for (:class:`DrawOrderSample`).
 
 Nothing here loops in Python over trials or samples.
 """
