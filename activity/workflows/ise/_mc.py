@@ -307,8 +307,8 @@ def _newton_primary(
     (every element at once, the block iterating as a whole): a step within ``rtol``, or from the
     second pass |δₖ|³ ≤ rtol·|δₖ₋₁|²; max|δₖ|·max|δₖ/δₖ₋₁|² ≤ rtol is tried first (it implies it).
     """
-    below = tot <= 0
-    any_below = bool(below.any())
+    any_below = not float(tot.min()) > 0  # (a reduction; the mask only when needed)
+    below = tot <= 0 if any_below else None
     t = np.where(below, 1.0, tot) if any_below else tot
     alpha = np.multiply(LN10 * prim.z2, A)
     alpha_w = alpha * w
