@@ -473,6 +473,134 @@ def _newton(
 
 
 # ----------------------------------------------------------------------- the run
+@dataclass(frozen=True)
+class _Setup:
+    """What a run fixes before its first block (flattened per sample)."""
+
+    E: NDArray
+    k_s: int
+    m0: NDArray  # the estimates (start of the iteration)
+    tot0: NDArray  # the totals at the estimates
+    spread_scale: NDArray
+    T0: NDArray
+    P0: NDArray
+    T_uniform: bool
+    terms: dict | None
+    need_B: bool
+    L: NDArray  # calibration covariance = L Lᵀ
+    lgk_keys: list
+    rng: Any
+    tb: int  # trials per block
+
+
+def _setup(reader: Any, draws: MCDraws, E: Any, m_start: Any, trials: int, seed: Any, block: int | None) -> _Setup:
+    """Check the size of the store and fix what every block shares."""
+    cal = reader.cal
+    E = np.ravel(np.asarray(E, float))
+    k_s = E.size
+    m0 = np.ravel(np.broadcast_to(m_start, (k_s,)))
+    m0 = np.where(np.isfinite(m0) & (m0 > 0), m0, 1e-3)
+    T0 = np.ravel(np.broadcast_to(reader.T0, reader.matrix.shape)) * np.ones(k_s)
+    terms = _fast_terms(reader)
+    wv, V = np.linalg.eigh(draws.cal_cov)
+    if k_s * trials * 4 > MAX_STORE_BYTES:
+        raise InputError(
+            f"{k_s} samples × {trials} trials need {k_s * trials * 4 / 1e9:.1f} GB for the values behind the "
+            f"coverage intervals (limit {MAX_STORE_BYTES / 1e9:g} GB): read the samples in groups, or use fewer trials",
+            field="trials",
+            value=trials,
+        )
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        tot0 = 10.0 ** ((E - cal.E0) / (cal.slope_factor * nernst_slope_z(T0, cal.z))) - cal.a0
+    return _Setup(
+        E=E,
+        k_s=k_s,
+        m0=m0,
+        tot0=np.where(np.isfinite(tot0) & (tot0 > 0), tot0, m0),
+        spread_scale=np.ravel(np.broadcast_to(draws.spread_scale, (k_s,))),
+        T0=T0,
+        P0=np.ravel(np.broadcast_to(reader.P0, reader.matrix.shape)) * np.ones(k_s),
+        T_uniform=bool(np.ptp(T0) == 0),
+        terms=terms,
+        need_B=terms is not None
+        and any(isinstance(v, _DHTerms) and v.size for key, v in terms.items() if key != "ideal"),
+        L=V * np.sqrt(np.clip(wv, 0.0, None)),  # also when a parameter has no uncertainty
+        lgk_keys=[key for key in draws.cal_keys if key.startswith("lgK_")],
+        rng=np.random.default_rng(seed),
+        tb=max(1, min(trials, (block or BLOCK) // max(k_s, 1))),
+    )
+
+
+def _draw_block(su: _Setup, reader: Any, draws: MCDraws, n: int, Eb: NDArray) -> tuple:
+    """The draws of a block of ``n`` trials, in the generator's order of every run: the calibration
+    (one call, by its covariance), the readings (into ``Eb``, shape (n, samples)), then the
+    temperature offset, matrix factor and model choice, one per trial shared by the samples (each
+    sample's distribution is the same as with draws of its own; see the module notes).
+
+    Returns T, scale, dmodel (or None), E0, k, a0, K by interferent, and the K values in order.
+    """
+    cal, rng = reader.cal, su.rng
+    c = rng.standard_normal((n, len(draws.cal_keys))) @ su.L.T
+    c += draws.cal_mean
+    q = {key: c[:, j : j + 1] for j, key in enumerate(draws.cal_keys)}
+    if draws.u_emf > 0:
+        rng.standard_normal(out=Eb)
+        Eb *= draws.u_emf
+    else:
+        Eb.fill(0.0)
+    Eb += su.E
+    dT = rng.standard_normal((n, 1)) * draws.u_T if draws.u_T > 0 else np.zeros((1, 1))
+    T = su.T0 + dT if not su.T_uniform else su.T0[:1] + dT  # (n, k) or (n, 1)
+    scale = 1.0 + rng.standard_normal((n, 1)) * draws.u_scale if draws.u_scale > 0 else np.ones((1, 1))
+    dmodel = rng.uniform(-1.0, 1.0, (n, 1)) * draws.model_half if draws.model_half > 0 else None
+    E0 = 1e-3 * q["E0"] if "E0" in q else cal.E0  # the E0 input is in mV
+    kf = q.get("k", cal.slope_factor)
+    a0 = np.exp(LN10 * q["lga0"]) if "lga0" in q else cal.a0
+    Kd = {j: 10.0 ** q[key] for (j, _, _, _), key in zip(reader.inter, su.lgk_keys)} if su.lgk_keys else {}
+    Kvals = [Kd.get(j, Kj) for j, _, _, Kj in reader.inter]
+    return T, scale, dmodel, E0, kf, a0, Kd, Kvals
+
+
+def _totals(Eb: NDArray, E0: Any, kf: Any, c_s: float, T: Any, a0: Any) -> NDArray:
+    """In place: the drawn readings ``Eb`` → aᵢ + Σ Kᵢⱼ·aⱼ^(zᵢ/zⱼ) = e^((E − E0)·ln10/(k·s(T))) − a₀."""
+    Eb -= E0
+    Eb *= LN10 / (kf * c_s * T)
+    with np.errstate(over="ignore"):
+        tot = np.exp(Eb, out=Eb)
+    tot -= a0
+    return tot
+
+
+def _general(
+    reader: Any, E: NDArray, shape: tuple, m0: NDArray, E0: Any, kf: Any, a0: Any, Kd: dict, T: Any, scale: Any
+):
+    """The molality of a block by the general reader (the activity model on a Solution batch)."""
+    return reader.solve(
+        E,
+        E0=E0,
+        k=kf,
+        a0=a0,
+        K=Kd,
+        T=np.broadcast_to(T, shape),
+        scale=np.broadcast_to(scale, shape),
+        m_start=m0,
+        details=False,
+    )
+
+
+def _below_detection(y: NDArray, E: NDArray) -> InputError:
+    """The error for a block whose values ``y`` (trials × samples) are not all finite."""
+    bad = ~np.isfinite(y)
+    cols = np.flatnonzero(bad.any(axis=0))
+    return InputError(
+        f"{int(np.count_nonzero(bad))} of {y.size} Monte Carlo trials fall below detection (the drawn "
+        f"reading is at or below what a0 and the interferents give) for sample(s) {cols[:10].tolist()}; "
+        "the uncertainty of such a reading is not defined by this model",
+        field="emf",
+        value=float(E[cols[0]]),
+    )
+
+
 def run_monte_carlo(
     reader: Any,
     draws: MCDraws,
@@ -496,83 +624,34 @@ def run_monte_carlo(
         Values minus the reference, per sample, in draw order (for coverage intervals: wrap
         each row in a :class:`DrawOrderSample`, which sorts it when first asked).
     """
-    cal = reader.cal
-    E = np.ravel(np.asarray(E, float))
-    k_s = E.size
-    m0 = np.ravel(np.broadcast_to(m_start, (k_s,)))
-    m0 = np.where(np.isfinite(m0) & (m0 > 0), m0, 1e-3)
-    spread_scale = np.ravel(np.broadcast_to(draws.spread_scale, (k_s,)))
-    T0 = np.ravel(np.broadcast_to(reader.T0, reader.matrix.shape)) * np.ones(k_s)
-    P0 = np.ravel(np.broadcast_to(reader.P0, reader.matrix.shape)) * np.ones(k_s)
-    T_uniform = bool(np.ptp(T0) == 0)
-    terms = _fast_terms(reader)
-    need_B = terms is not None and any(isinstance(v, _DHTerms) and v.size for key, v in terms.items() if key != "ideal")
-    n_cal = len(draws.cal_keys)
-    wv, V = np.linalg.eigh(draws.cal_cov)
-    L = V * np.sqrt(np.clip(wv, 0.0, None))  # cov = L Lᵀ, also when a parameter has no uncertainty
-    lgk_keys = [key for key in draws.cal_keys if key.startswith("lgK_")]
-    rng = np.random.default_rng(seed)
-    tb = max(1, min(trials, (block or BLOCK) // max(k_s, 1)))
-    if k_s * trials * 4 > MAX_STORE_BYTES:
-        raise InputError(
-            f"{k_s} samples × {trials} trials need {k_s * trials * 4 / 1e9:.1f} GB for the values behind the "
-            f"coverage intervals (limit {MAX_STORE_BYTES / 1e9:g} GB): read the samples in groups, or use fewer trials",
-            field="trials",
-            value=trials,
-        )
+    su = _setup(reader, draws, E, m_start, trials, seed, block)
+    cal, E, k_s, m0, terms, need_B = reader.cal, su.E, su.k_s, su.m0, su.terms, su.need_B
     store = np.empty((k_s, trials), np.float32)
     reference = None
     s1 = np.zeros(k_s)  # running sums of the offsets from the reference and of their squares
     s2 = np.zeros(k_s)
-    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
-        tot0 = 10.0 ** ((E - cal.E0) / (cal.slope_factor * nernst_slope_z(T0, cal.z))) - cal.a0
-    tot0 = np.where(np.isfinite(tot0) & (tot0 > 0), tot0, m0)
-    r0 = m0 / tot0  # 1/γ at the estimate: the start of the Newton iteration
+    r0 = m0 / su.tot0  # 1/γ at the estimate: the start of the Newton iteration
     lnr0 = np.log(r0)
     c_s = nernst_slope_z(1.0, cal.z)  # s(T) = c_s·T
     if terms is not None:
         sq = reader.charges.astype(float) ** 2
         w = 0.5 * sq[reader.i] + (0.5 * sq[reader.c] * reader.ratio if reader.c is not None else 0.0)
         I_mat = 0.5 * np.tensordot(sq, reader.base, axes=(0, 0))  # per sample
-    work = _Buffers((tb, k_s))
-    water_AB = _run_water_AB(T0, P0, draws.u_T, need_B) if terms is not None and draws.u_T > 0 else _water_AB
-    for start in range(0, trials, tb):
-        n = min(tb, trials - start)
+    work = _Buffers((su.tb, k_s))
+    water_AB = _run_water_AB(su.T0, su.P0, draws.u_T, need_B) if terms is not None and draws.u_T > 0 else _water_AB
+    for start in range(0, trials, su.tb):
+        n = min(su.tb, trials - start)
         shape = (n, k_s)
         buf = work.take(n)
-        c = rng.standard_normal((n, n_cal)) @ L.T  # the calibration, one call
-        c += draws.cal_mean
-        q = {key: c[:, j : j + 1] for j, key in enumerate(draws.cal_keys)}
         Eb = buf["E"]
-        if draws.u_emf > 0:
-            rng.standard_normal(out=Eb)
-            Eb *= draws.u_emf
-        else:
-            Eb.fill(0.0)
-        Eb += E
-        # temperature, matrix and model choice: one draw per trial, shared by the samples (each
-        # sample's distribution is the same as with draws of its own; see the module notes)
-        dT = rng.standard_normal((n, 1)) * draws.u_T if draws.u_T > 0 else np.zeros((1, 1))
-        T = T0 + dT if not T_uniform else T0[:1] + dT  # (n, k) or (n, 1)
-        scale = 1.0 + rng.standard_normal((n, 1)) * draws.u_scale if draws.u_scale > 0 else np.ones((1, 1))
-        dmodel = rng.uniform(-1.0, 1.0, (n, 1)) * draws.model_half if draws.model_half > 0 else None
-        E0 = 1e-3 * q["E0"] if "E0" in q else cal.E0  # the E0 input is in mV
-        kf = q.get("k", cal.slope_factor)
-        a0 = np.exp(LN10 * q["lga0"]) if "lga0" in q else cal.a0
-        Kd = {j: 10.0 ** q[key] for (j, _, _, _), key in zip(reader.inter, lgk_keys)} if lgk_keys else {}
-        Kvals = [Kd.get(j, Kj) for j, _, _, Kj in reader.inter]
+        T, scale, dmodel, E0, kf, a0, Kd, Kvals = _draw_block(su, reader, draws, n, Eb)
         m = None
         if terms is not None:
-            inv = LN10 / (kf * c_s * T)
-            Eb -= E0
-            Eb *= inv
-            with np.errstate(over="ignore"):
-                tot = np.exp(Eb, out=Eb)
-            tot -= a0
+            tot = _totals(Eb, E0, kf, c_s, T, a0)
             if draws.u_T > 0 or not start:  # else A, B as in the first block
-                A, B = water_AB(T, np.broadcast_to(P0[:1] if T_uniform else P0, np.shape(T)), need_B)
+                A, B = water_AB(T, np.broadcast_to(su.P0[:1] if su.T_uniform else su.P0, np.shape(T)), need_B)
             if reader.inter:
-                m = _newton(reader, terms, tot, Kvals, A, B, scale, m0, tot0, rtol)
+                m = _newton(reader, terms, tot, Kvals, A, B, scale, m0, su.tot0, rtol)
             elif terms["ideal"]:
                 m = np.where(tot <= 0, np.nan, tot)
             else:
@@ -581,32 +660,14 @@ def run_monte_carlo(
             if m is None:  # the general reader on this block
                 Eb = E0 + np.log10(tot + a0) * (kf * c_s * T)  # the drawn readings again
         if m is None:
-            m = reader.solve(
-                Eb,
-                E0=E0,
-                k=kf,
-                a0=a0,
-                K=Kd,
-                T=np.broadcast_to(T, shape),
-                scale=np.broadcast_to(scale, shape),
-                m_start=m0,
-                details=False,
-            )
-        y = m if dmodel is None else m + dmodel * spread_scale
+            m = _general(reader, Eb, shape, m0, E0, kf, a0, Kd, T, scale)
+        y = m if dmodel is None else m + dmodel * su.spread_scale
         if reference is None:
             reference = y.mean(axis=0)
         d = np.subtract(y, reference, out=buf["d"])  # offsets from the reference: the moments are taken on them
         b1 = d.sum(axis=0)
         if not np.all(np.isfinite(b1)):
-            bad = ~np.isfinite(y)
-            cols = np.flatnonzero(bad.any(axis=0))
-            raise InputError(
-                f"{int(np.count_nonzero(bad))} of {n * k_s} Monte Carlo trials fall below detection (the drawn "
-                f"reading is at or below what a0 and the interferents give) for sample(s) {cols[:10].tolist()}; "
-                "the uncertainty of such a reading is not defined by this model",
-                field="emf",
-                value=float(E[cols[0]]),
-            )
+            raise _below_detection(y, E)
         s1 += b1
         s2 += np.einsum("ij,ij->j", d, d)
         store[:, start : start + n] = d.T
