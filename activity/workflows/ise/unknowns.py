@@ -717,8 +717,8 @@ def _monte_carlo(
     The budget rows carry the GUM sensitivities at the estimates, as
     :func:`activity.uncertainty.propagate` gives them for a Monte Carlo run.
     """
-    from ...uncertainty.result import BudgetRow, PropagationResult, SortedSample
-    from ._mc import MCDraws, run_monte_carlo
+    from ...uncertainty.result import BudgetRow, PropagationResult
+    from ._mc import DrawOrderSample, MCDraws, run_monte_carlo
 
     trials = 100_000 if trials is None else int(trials)
     if trials < 2:
@@ -772,7 +772,7 @@ def _monte_carlo(
                 budget=tuple(rows),
                 correlation_share=float(cross / var_lin[k]) if var_lin[k] > 0 else 0.0,
                 trials=trials,
-                samples=SortedSample(float(ref[k]), store[k]),
+                samples=DrawOrderSample(float(ref[k]), store[k]),
             )
         )
     return mean.reshape(shape), sd.reshape(shape), results
