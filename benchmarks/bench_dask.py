@@ -87,6 +87,20 @@ def pitzer_graph(n, chunk, stacked=True):
     return [g.mean(axis=1)] if stacked else [g[s].mean() for s in SEAWATER]
 
 
+def _warm(chunk, variants):
+    """What warms a process before any timing: one full block of each graph, synchronously.
+
+    Imports dask.array and its random and reduction modules, reads the parameter set,
+    builds the J table and touches a block's worth of memory. A worker that has not run
+    it imports dask.array inside its first task: measured on this machine under load, the
+    second worker of the LocalCluster then started its first block 3 to 4 s late.
+    """
+    import dask
+
+    for stacked in variants:
+        dask.compute(*pitzer_graph(chunk, chunk, stacked), scheduler="sync")
+
+
 def _block_sums(n_blocks, chunk, blocks):
     """Plain numpy, no dask: the rows of ``pitzer_graph`` block by block, summed per species.
 
@@ -135,14 +149,18 @@ class PlainProcesses:
             parent.recv()  # started and warm, outside any timing
 
     def run(self, n_procs):
-        """All blocks over ``n_procs`` processes (block i to process i mod n): sums, wall, CPU."""
+        """All blocks over ``n_procs`` processes (block i to process i mod n).
+
+        Returns the sums, the wall time, the CPU time of the processes and their busy time
+        (each process's own wall time from its first block to its last, summed).
+        """
         pipes = self.pipes[:n_procs]
         start = time.perf_counter()
         for p, parent in enumerate(pipes):
             parent.send(list(range(p, self.n_blocks, n_procs)))
         got = [parent.recv() for parent in pipes]
         wall = time.perf_counter() - start
-        return sum(g[0] for g in got), wall, sum(g[2] for g in got)
+        return sum(g[0] for g in got), wall, sum(g[2] for g in got), sum(g[1] for g in got)
 
     def close(self):
         for parent, proc in zip(self.pipes, self.procs):
@@ -168,19 +186,18 @@ def run_pitzer(n, chunk, rounds=2, per_species=True):
     graphs = {True: pitzer_graph(n, chunk)}
     if per_species:
         graphs[False] = pitzer_graph(n, chunk, stacked=False)
-    for stacked in graphs:  # warm this process: imports, parameters, J table
-        dask.compute(*pitzer_graph(chunk, chunk, stacked), scheduler="sync")
+    _warm(chunk, list(graphs))  # this process
 
     def timed(func):
         start, cpu = time.perf_counter(), time.process_time()
         out = func()
         return np.ravel(np.asarray(out, dtype=float)), time.perf_counter() - start, time.process_time() - cpu
 
-    rows = {}  # name → list of (wall, cpu of the workers, cpu of this process)
+    rows = {}  # name → list of (wall, cpu of the workers, cpu of this process, busy time of the workers)
     results = {}
 
-    def record(name, out, wall, cpu, main_cpu=0.0):
-        rows.setdefault(name, []).append((wall, cpu, main_cpu))
+    def record(name, out, wall, cpu, main_cpu=0.0, busy=None):
+        rows.setdefault(name, []).append((wall, cpu, main_cpu, wall if busy is None else busy))
         results[name] = out
 
     load = [os.getloadavg()[0]]
@@ -191,16 +208,18 @@ def run_pitzer(n, chunk, rounds=2, per_species=True):
         ) as cluster,
         distributed.Client(cluster) as client,
     ):
-        for w in client.scheduler_info()["workers"]:  # one full block in each worker's task thread
-            client.submit(_block_sums, 1, chunk, [0], workers=[w], allow_other_workers=False, pure=False).result()
-        for stacked in graphs:  # and each graph once
-            dask.compute(*pitzer_graph(chunk, chunk, stacked))
+        for w in client.scheduler_info()["workers"]:  # each worker in its task thread, as this process
+            client.submit(_warm, chunk, list(graphs), workers=[w], allow_other_workers=False, pure=False).result()
+        for stacked in graphs:  # and each graph on the cluster, two blocks per worker (the scheduler learns)
+            dask.compute(*pitzer_graph(4 * chunk, chunk, stacked))
 
         def on_cluster(graph):
             before = client.run(time.process_time)
-            out, wall, main_cpu = timed(lambda: dask.compute(*graph))
+            with distributed.get_task_stream(client) as stream:
+                out, wall, main_cpu = timed(lambda: dask.compute(*graph))
             after = client.run(time.process_time)
-            return out, wall, sum(after[w] - before[w] for w in after), main_cpu
+            busy = sum(s["stop"] - s["start"] for t in stream.data for s in t["startstops"] if s["action"] == "compute")
+            return out, wall, sum(after[w] - before[w] for w in after), main_cpu, busy
 
         for r in range(rounds):  # interleaved: each round runs every row once
             out, wall, cpu = timed(lambda: dask.compute(*graphs[True], scheduler="sync"))
@@ -211,8 +230,8 @@ def run_pitzer(n, chunk, rounds=2, per_species=True):
                 record("one, per species", out, wall, cpu)
                 record("cluster, per species", *on_cluster(graphs[False]))
             for n_procs in (1, 2):
-                sums, wall, cpu = plain.run(n_procs)
-                record(f"plain {n_procs}", sums / n, wall, cpu)
+                sums, wall, cpu, busy = plain.run(n_procs)
+                record(f"plain {n_procs}", sums / n, wall, cpu, busy=busy)
             load.append(os.getloadavg()[0])
     plain.close()
 
@@ -240,6 +259,14 @@ def run_pitzer(n, chunk, rounds=2, per_species=True):
         f"  CPU for the same rows: cluster workers / one process {med('cluster', 1) / med('one', 1):.2f}, "
         f"two plain / one plain {med('plain 2', 1) / med('plain 1', 1):.2f}"
     )
+    # speed-up = 2 x (busy / (2 x wall)) / (busy / one-process time): idle cores or slower blocks
+    print("  where the time goes (busy = the workers' summed task time, or the plain processes' own):")
+    for label, two, one in (("cluster", "cluster", "one"), ("two plain", "plain 2", "plain 1")):
+        busy = med(two, 3)
+        print(
+            f"    {label:9s}: busy {busy / (2 * med(two)):.0%} of 2 cores x wall; the blocks took "
+            f"{busy / med(one):.2f}x their time in one process"
+        )
     same = np.max(np.abs(results["cluster"] - results["one"]))
     plain_diff = np.max(np.abs(results["plain 2"] - results["one"]))
     print(f"  results: cluster vs one process differ by {same:.1e}; plain sums vs dask means {plain_diff:.1e}")
