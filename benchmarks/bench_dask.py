@@ -8,14 +8,15 @@ Run::
 1. Pitzer, 8-ion seawater compositions generated lazily in chunks, reduced to the mean
    log10 γ of every species (nothing of size N is gathered; ``stacked=True``, so the
    reduction is fused into the task that evaluates the block): the same dask graph computed
-   by one process (the synchronous scheduler) and by a LocalCluster of two worker
-   processes; the ratio of the two wall times is the speed-up (target ≥ 1.7 on 2 cores; on
-   a shared machine the figure shows the cores actually free). Beside it the floor, with no
-   dask at all: the same blocks (same rows, same reduction) in one plain process and split
-   over two — the speed-up this machine allows two processes, which dask can at best
-   reach. Once more the graph of the per-species dict (each species reduced on its own,
-   the graph before ``stacked``), for comparison. Rows are medians of ``--rounds``
-   interleaved rounds; every process is started and warmed before any timing.
+   by one process (the synchronous scheduler, in a process spawned with the workers'
+   environment) and by a LocalCluster of two worker processes; the ratio of the two wall
+   times is the speed-up (target ≥ 1.7 on 2 cores; on a shared machine the figure shows the
+   cores actually free). Beside it the floor, with no dask at all: the same blocks (same
+   rows, same reduction) in one plain process and split over two — the speed-up this
+   machine allows two processes, which dask can at best reach. Once more the graph of the
+   per-species dict (each species reduced on its own, the graph before ``stacked``), for
+   comparison. Rows are medians of ``--rounds`` interleaved rounds; every process is
+   started and warmed before any timing.
 2. Davies on a 10⁴ × 10⁴ grid (NaCl molality × temperature, 10⁸ compositions) reduced
    chunk by chunk to min, max and mean of γ±, in a fresh process whose peak resident
    memory is printed (target < 1 GB).
@@ -121,27 +122,39 @@ def _block_sums(n_blocks, chunk, blocks):
     return total
 
 
-def _plain_child(conn, n_blocks, chunk):
-    """A worker process without dask: warms up, then sums the blocks it is sent until None."""
+def _plain_child(conn, n_blocks, chunk, variants):
+    """A spawned process: warms up, then runs what it is sent until None.
+
+    A list of blocks: their sums in plain numpy (no dask). A bool ``stacked``: the whole
+    dask graph of that kind on the synchronous scheduler — the one-process baseline, in a
+    process started like the workers (same environment, no cluster threads beside it).
+    """
     warnings.simplefilter("ignore")
     _block_sums(1, chunk, [0])  # warm: imports, the parameter set, the J table, a block's memory
+    _warm(chunk, variants)
     conn.send("ready")
-    while (blocks := conn.recv()) is not None:
+    while (job := conn.recv()) is not None:
         start, cpu = time.perf_counter(), time.process_time()
-        total = _block_sums(n_blocks, chunk, blocks)
-        conn.send((total, time.perf_counter() - start, time.process_time() - cpu))
+        if isinstance(job, bool):
+            import dask
+            import numpy as np
+
+            out = np.ravel(np.asarray(dask.compute(*pitzer_graph(n_blocks * chunk, chunk, job), scheduler="sync")))
+        else:
+            out = _block_sums(n_blocks, chunk, job)
+        conn.send((out, time.perf_counter() - start, time.process_time() - cpu))
 
 
 class PlainProcesses:
     """Two started, warmed processes (spawned, no dask): the floor of what any scheduler can do."""
 
-    def __init__(self, n_blocks, chunk):
+    def __init__(self, n_blocks, chunk, variants):
         ctx = multiprocessing.get_context("spawn")
         self.n_blocks = n_blocks
         self.pipes, self.procs = [], []
         for _ in range(2):
             parent, child = ctx.Pipe()
-            proc = ctx.Process(target=_plain_child, args=(child, n_blocks, chunk), daemon=True)
+            proc = ctx.Process(target=_plain_child, args=(child, n_blocks, chunk, variants), daemon=True)
             proc.start()
             self.pipes.append(parent)
             self.procs.append(proc)
@@ -161,6 +174,11 @@ class PlainProcesses:
         got = [parent.recv() for parent in pipes]
         wall = time.perf_counter() - start
         return sum(g[0] for g in got), wall, sum(g[2] for g in got), sum(g[1] for g in got)
+
+    def one_dask(self, stacked):
+        """The dask graph in the first process, synchronous scheduler: means, wall, CPU."""
+        self.pipes[0].send(stacked)
+        return self.pipes[0].recv()
 
     def close(self):
         for parent, proc in zip(self.pipes, self.procs):
@@ -186,7 +204,6 @@ def run_pitzer(n, chunk, rounds=2, per_species=True):
     graphs = {True: pitzer_graph(n, chunk)}
     if per_species:
         graphs[False] = pitzer_graph(n, chunk, stacked=False)
-    _warm(chunk, list(graphs))  # this process
 
     def timed(func):
         start, cpu = time.perf_counter(), time.process_time()
@@ -201,7 +218,7 @@ def run_pitzer(n, chunk, rounds=2, per_species=True):
         results[name] = out
 
     load = [os.getloadavg()[0]]
-    plain = PlainProcesses(n_blocks, chunk)
+    plain = PlainProcesses(n_blocks, chunk, list(graphs))
     with (
         distributed.LocalCluster(
             n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None, silence_logs=40
@@ -222,12 +239,10 @@ def run_pitzer(n, chunk, rounds=2, per_species=True):
             return out, wall, sum(after[w] - before[w] for w in after), main_cpu, busy
 
         for r in range(rounds):  # interleaved: each round runs every row once
-            out, wall, cpu = timed(lambda: dask.compute(*graphs[True], scheduler="sync"))
-            record("one", out, wall, cpu)
+            record("one", *plain.one_dask(True))
             record("cluster", *on_cluster(graphs[True]))
             if per_species and r == 0:
-                out, wall, cpu = timed(lambda: dask.compute(*graphs[False], scheduler="sync"))
-                record("one, per species", out, wall, cpu)
+                record("one, per species", *plain.one_dask(False))
                 record("cluster, per species", *on_cluster(graphs[False]))
             for n_procs in (1, 2):
                 sums, wall, cpu, busy = plain.run(n_procs)
@@ -246,8 +261,9 @@ def run_pitzer(n, chunk, rounds=2, per_species=True):
 
     print(f"Pitzer, {n:.0e} rows in {n_blocks} blocks of {chunk:.0e}, mean log10 γ of 8 species; medians of", end="")
     print(f" {rounds} interleaved rounds (load average {min(load):.1f}–{max(load):.1f}); all processes were started")
-    print("  and warmed (imports, parameter set, one full block in each) before any timing, one BLAS thread each:")
-    line("one process, dask sync scheduler", "one")
+    print("  and warmed (imports, parameter set, one full block in each) before any timing, one BLAS thread each;")
+    print("  the one-process baseline runs in a process spawned like the workers, with no cluster threads in it:")
+    line("one spawned process, dask sync scheduler", "one")
     line("LocalCluster, 2 workers, stacked reduction", "cluster", f"  + {med('cluster', 2):.2f} s CPU here")
     line("no dask: one plain process", "plain 1")
     line("no dask: two plain processes", "plain 2")
