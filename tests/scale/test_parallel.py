@@ -119,3 +119,62 @@ def test_on_a_local_cluster_of_two_worker_processes(client):
     # a reduction that never gathers the array: mean γ± of NaCl-type rows, chunk by chunk
     mean = client.compute(da.sqrt(g["Na+"] * g["Cl-"]).mean(), sync=True)
     assert mean == pytest.approx(float(np.mean(np.sqrt(ref["Na+"] * ref["Cl-"]))), rel=1e-13)
+
+
+def test_stacked_numpy_is_the_dict_in_one_array_in_the_given_order():
+    comp = _comp(40, 3)
+    g = activity_coefficients(comp, "pitzer", T=300.0, in_range=True)
+    st = activity_coefficients(comp, "pitzer", T=300.0, in_range=True, stacked=True)
+    assert isinstance(st, np.ndarray) and st.shape == (len(comp) + 1, 40)
+    for i, s in enumerate(comp):
+        np.testing.assert_array_equal(st[i], g[s])  # the same numbers, not only close
+    np.testing.assert_array_equal(st[-1] > 0.5, g["in_range"])
+    assert set(np.unique(st[-1])) <= {0.0, 1.0}
+
+
+def test_stacked_dask_stays_lazy_and_reduces_over_rows():
+    comp = _comp(300, 4)
+    T = np.linspace(280.0, 340.0, 300)  # part of the rows beyond Pitzer's 0–50 °C: flag 0.0 there
+    dcomp = {k: da.from_array(v, chunks=70) for k, v in comp.items()}
+    st = activity_coefficients(dcomp, "pitzer", T=da.from_array(T, chunks=70), output="log10_gamma", stacked=True)
+    assert isinstance(st, da.Array) and st.chunks == ((4,), (70, 70, 70, 70, 20))
+    st_flag = activity_coefficients(dcomp, "pitzer", T=T, in_range=True, stacked=True)
+    ref = get_model("pitzer").activity_coefficients(Solution(comp, T=T, neutrality="ignore"), warn=False)
+    lg = np.asarray(ref.log10_gamma)
+    means, flag = da.compute(st.mean(axis=1), st_flag[-1], scheduler="sync")
+    np.testing.assert_allclose(means, lg.mean(axis=1), rtol=1e-13)
+    np.testing.assert_array_equal(flag > 0.5, ref.in_range)
+    assert 0.0 < flag.mean() < 1.0
+
+
+def test_stacked_xarray_has_a_species_dimension_with_canonical_names():
+    xr = pytest.importorskip("xarray")
+    m = xr.DataArray(np.linspace(0.001, 0.3, 6), dims="m", coords={"m": np.arange(6) * 0.05})
+    st = activity_coefficients({"Ca2+": m, "Cl-": 2 * m}, "davies", in_range=True, stacked=True)
+    assert st.dims == ("species", "m") and list(st.coords["species"].values) == ["Ca^2+", "Cl-", "in_range"]
+    g = activity_coefficients({"Ca2+": m, "Cl-": 2 * m}, "davies")
+    np.testing.assert_array_equal(st.sel(species="Ca^2+").values, g["Ca^2+"].values)
+    np.testing.assert_array_equal(st.coords["m"].values, m.coords["m"].values)
+    lazy = activity_coefficients({"Ca2+": m.chunk({"m": 3}), "Cl-": 2 * m}, "davies", stacked=True)
+    assert isinstance(lazy.data, da.Array)
+    np.testing.assert_allclose(lazy.sel(species="Cl-").compute().values, g["Cl-"].values, rtol=1e-15)
+    clash = xr.DataArray(np.full(2, 0.1), dims="species")
+    with pytest.raises(InputError, match="species"):
+        activity_coefficients({"Na+": clash, "Cl-": clash}, "davies", stacked=True)
+
+
+def test_stacked_must_be_a_bool():
+    with pytest.raises(InputError, match="stacked"):
+        activity_coefficients({"Na+": 0.1, "Cl-": 0.1}, stacked="yes")
+
+
+def test_stacked_reduction_on_the_local_cluster(client):
+    comp = _comp(1000, 5)
+    k = da.random.default_rng(9).uniform(0.5, 1.5, 1000, chunks=200)  # rows made inside the graph, as in bench_dask
+    dcomp = {s: da.from_array(v, chunks=200) * k for s, v in comp.items()}
+    st = activity_coefficients(dcomp, "pitzer", output="log10_gamma", stacked=True)
+    got = client.compute(st.mean(axis=1), sync=True)
+    scale = k.compute(scheduler="sync")
+    scaled = {s: v * scale for s, v in comp.items()}
+    ref = get_model("pitzer").activity_coefficients(Solution(scaled, neutrality="ignore"), warn=False)
+    np.testing.assert_allclose(got, np.asarray(ref.log10_gamma).mean(axis=1), rtol=1e-13)
