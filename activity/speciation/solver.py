@@ -54,6 +54,7 @@ from typing import Any
 import numpy as np
 
 from ..coefficients._dh_form import DebyeHuckelForm
+from ..coefficients.davies import DaviesModel
 from ..coefficients.ideal import IdealModel
 from ..constants import LN10
 from ..solution import Solution
@@ -680,6 +681,12 @@ def _coupling(pb: _Problem, st: _Rows, ev: _Eval):
         D = system.nu @ Gc
         D -= G
     dI = system.h2T @ m
+    if not pb.by_I:
+        # I moves with γ too: δI = dI·δu + c δI with c = ½ Σ z² m D, so the total change is
+        # dI·δu / (1 − c). Without the factor the step undershot where c is large (triply
+        # charged phosphate: phosphate buffers with Pitzer did not converge); kept off zero
+        c = 0.5 * (system.z2 @ (m * D))
+        dI /= np.maximum(1.0 - c, 0.05)
     return Gc, D, dI
 
 
@@ -823,7 +830,11 @@ def solve_blocks(
     """
     N, ns = totals.shape[0], len(system.species)
     gam = _Gamma(model, system)
-    shift = gam.by_I and kw.get("coupled", True)
+    shift = kw.get("coupled", True)
+    # the start's γ(I): the model's own where it is a function of I alone; for any other
+    # model (Pitzer, plug-ins) Davies', which only has to bring the start near the answer
+    # (from the plain start, 0.01 mol/kg H3PO4 alone under Pitzer stalled far from it)
+    start_gam = gam if gam.by_I else _Gamma(DaviesModel(), system)
     # the charge-balanced component joins the start when every other one has a total
     others_by_mass = charge_col is not None and not act_cols and all(pin_cols[np.arange(system.n) != charge_col])
     lnm, lng, m = np.empty((ns, N)), np.zeros((ns, N)), np.empty((ns, N))  # rows last, filled in place
@@ -854,8 +865,16 @@ def solve_blocks(
             pin_cols,
             u0[sl],
             charge_col=charge_col if others_by_mass else None,
-            lnk_shift=(lambda I, T_b=T_b, P_b=P_b: gam.lnk_shift(I, T_b, P_b)) if shift else None,
+            lnk_shift=(lambda I, T_b=T_b, P_b=P_b: start_gam.lnk_shift(I, T_b, P_b)) if shift else None,
         )
+        if shift and not gam.by_I:
+            # any other model starts from the answer under Davies (whose solve has ln I as an
+            # unknown and is robust); its γ iteration alone from a distant start stalled
+            # (phosphoric acid and phosphate buffers under Pitzer)
+            pre = solve(system, lnk[sl], totals[sl], scale[sl], pin_cols, charge_col, act_cols, act_species,
+                        [t[sl] for t in act_targets], start_gam.model, T_b, P_b, u_start, I0=I_start,
+                        gam=start_gam, **kw)
+            u_start = np.where(pre.converged[:, None], pre.lnm[:, : system.n], u_start)
         part = solve(
             system,
             lnk[sl],

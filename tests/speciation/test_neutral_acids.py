@@ -83,3 +83,31 @@ def test_limiting_law_neutral_acids_up_to_0_1():
     for acid in ("H3PO4", "H2C2O4"):
         r = act.speciate({acid: np.geomspace(1e-6, 0.1, 30)}, "debye-huckel-limiting")
         assert bool(np.all(r.converged))
+
+
+# Under Pitzer the solver iterates γ from the speciated composition (not a function of I
+# alone). From the plain start it stalled on phosphate: these now converge, starting from
+# the Davies answer, with I's own response to γ in the step. The pH is compared with
+# Davies' only as a sanity bound (same data; the models differ by a few hundredths here).
+@pytest.mark.parametrize(
+    "composition",
+    [
+        {"H3PO4": 0.01},
+        {"H2PO4-": 0.01, "Na+": 0.01},
+        {"H2PO4-": 0.025, "HPO4^2-": 0.025, "Na+": 0.075},  # the phosphate pH standard's recipe
+        {"H2C2O4": 0.01},
+    ],
+)
+def test_pitzer_phosphate_and_neutral_acids_converge(composition):
+    r = act.speciate(composition, "pitzer")
+    assert bool(np.all(r.converged))
+    assert abs(r.ph - act.speciate(composition, "davies").ph) < 0.1
+    m = np.array([r.molality(s) for s in r.species])
+    z = np.array([_charge(s) for s in r.species], float)
+    assert abs(z @ m) / (np.abs(z) @ m) < 1e-10
+
+
+@pytest.mark.xfail(strict=True, reason="known, open: under Pitzer (no phosphate parameters in the shipped "
+                   "set) 0.3 mol/kg H3PO4 alone does not converge; Davies does")
+def test_pitzer_concentrated_phosphoric_acid():
+    assert bool(np.all(act.speciate({"H3PO4": 0.3}, "pitzer").converged))
