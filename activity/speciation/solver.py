@@ -395,6 +395,7 @@ def solve(
     coupled: bool = True,
     park: int = 0,
     I0: np.ndarray | None = None,
+    g0: np.ndarray | None = None,
     gam: _Gamma | None = None,
     out: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None,
 ) -> SolveOutput:
@@ -422,6 +423,8 @@ def solve(
         blocks can be finished together (:func:`solve_blocks`); 0: finish every row.
     I0 : (N,), optional
         Starting ionic strength (models of I alone; else from the start at γ = 1).
+    g0 : (n_species, N), optional
+        Starting ln γ (other models; else 0, γ = 1).
     gam : the γ of ``model`` bound to ``system`` (:class:`_Gamma`), if already made.
     out : three arrays (n_species, N), optional
         Where to write ln m, ln γ and m (rows last; e.g. column slices of a bigger batch's
@@ -449,7 +452,7 @@ def solve(
     elif by_I:  # ln I at the start: from γ = 1
         st.w = np.log(np.maximum(0.5 * (system.z2 @ _exp(lnkT + system.nu @ st.u)), 1e-12))
     else:
-        st.g = np.zeros((ns, N))
+        st.g = np.zeros((ns, N)) if g0 is None else np.ascontiguousarray(g0, dtype=float)
     pb = _Problem(system, gam, by_I, coupled, charge_col, list(act_cols), list(act_species),
                   bool(np.any(st.pin)), tol)
     structured = system.charge_from_mass and not act_cols
@@ -875,6 +878,9 @@ def solve_blocks(
                         [t[sl] for t in act_targets], start_gam.model, T_b, P_b, u_start, I0=I_start,
                         gam=start_gam, **kw)
             u_start = np.where(pre.converged[:, None], pre.lnm[:, : system.n], u_start)
+            g_start = np.where(pre.converged[None, :], pre.lng.T, 0.0)  # its ln γ with it
+        else:
+            g_start = None
         part = solve(
             system,
             lnk[sl],
@@ -891,6 +897,7 @@ def solve_blocks(
             u_start,
             park=min(PARK, int((sl.stop - sl.start) * PARK_SHARE)) if len(blocks) > 1 else 0,
             I0=I_start,
+            g0=g_start,
             gam=gam,
             out=(lnm[:, sl], lng[:, sl], m[:, sl]),
             **kw,
