@@ -3,6 +3,7 @@ calibration is versioned and files of format 1 still load."""
 
 import json
 import re
+import sys
 import warnings
 from pathlib import Path
 
@@ -16,6 +17,9 @@ from activity.workflows.ise.calibration import FORMAT, ISECalibration
 from activity.workflows.ise.demo import run_ise_demo
 from activity.workflows.ise.files import load_calibration, save_calibration
 from activity.workflows.ise.report import calibration_text
+
+sys.path.insert(0, str(Path(__file__).parent))
+from _examples import calibrate_args  # noqa: E402
 
 OLD = Path(__file__).with_name("calibration_format1.json")  # written by format 1 (potentials in V)
 # keys that hold data names (species, interferents), not quantities
@@ -39,21 +43,7 @@ def full_json(tmp_path_factory):
     ex = tmp_path_factory.mktemp("ex") / "ex"
     assert main(["ise-examples", str(ex)]) == 0
     out = tmp_path_factory.mktemp("out") / "o.json"
-    args = [
-        "calibrate",
-        str(ex / "standards.csv"),
-        "--method",
-        str(ex / "method.toml"),
-        "--samples",
-        str(ex / "samples.csv"),
-        "--addition",
-        str(ex / "addition.toml"),
-        "--selectivity",
-        str(ex / "selectivity.toml"),
-        "--json",
-        "-o",
-        str(out),
-    ]
+    args = calibrate_args(ex) + ["--json", "-o", str(out)]
     assert main(args) == 0
     return json.loads(out.read_text()), ex
 

@@ -3,12 +3,17 @@
 import re
 import shutil
 import subprocess
+import sys
+from pathlib import Path
 
 import pytest
 
 from activity.cli import main
 from activity.workflows.ise.demo import run_ise_demo
 from activity.workflows.ise.report import _budget_matrix
+
+sys.path.insert(0, str(Path(__file__).parent))
+from _examples import calibrate_args  # noqa: E402
 
 
 def _pdf_pages(html_path, pdf_path):
@@ -59,20 +64,7 @@ def test_record_prints_on_one_a4_page(tmp_path, extras, capsys):
     else:
         assert main(["ise-examples", str(tmp_path / "ex")]) == 0
         ex = tmp_path / "ex"
-        args = [
-            "calibrate",
-            str(ex / "standards.csv"),
-            "--method",
-            str(ex / "method.toml"),
-            "--samples",
-            str(ex / "samples.csv"),
-            "--addition",
-            str(ex / "addition.toml"),
-            "--selectivity",
-            str(ex / "selectivity.toml"),
-            "--record",
-            str(rec),
-        ]
+        args = calibrate_args(ex) + ["--record", str(rec)]
         if extras.endswith("drift"):
             args += ["--bracket", str(ex / "standards.csv"), "--elapsed", "90 min"]
     assert main(args) == 0
