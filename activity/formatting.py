@@ -6,9 +6,7 @@ Only formatting lives here — no chemistry and no I/O; files are written by
 
 from __future__ import annotations
 
-import csv
 import io
-import json
 import math
 import re
 from collections.abc import Iterable, Sequence
@@ -152,11 +150,15 @@ def _plain(obj: Any) -> Any:
 
 def to_json(obj: Any) -> str:
     """JSON text of nested dicts/lists/numpy values (NaN and infinities become null)."""
+    import json  # here, not at the top: a one-composition command that prints a table never loads it
+
     return json.dumps(_plain(obj), indent=2, ensure_ascii=False)
 
 
 def to_csv(headers: Sequence[str], rows: Iterable[Sequence[Any]]) -> str:
     """CSV text with full-precision numbers (``repr`` of floats)."""
+    import csv
+
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(headers)
