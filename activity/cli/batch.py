@@ -102,6 +102,22 @@ class ChunkRun:
         self._warned.add(messages)
         return out
 
+    def solution(self, chunk: TableInput, args: argparse.Namespace) -> Any:
+        """The chunk's solution under the command's conditions (temperature, pressure,
+        density, balancing ion), with its cautions printed (the first time each is met)."""
+        from ..io.tables import solution_from_table
+
+        sol = self.call(
+            solution_from_table,
+            chunk,
+            temperature=args.temperature,
+            pressure=args.pressure,
+            density=args.density,
+            balance_with=args.balance_with,
+        )
+        self.cautions(sol)
+        return sol
+
     def cautions(self, sol: Any) -> None:
         """Print the cautions of a chunk's solution that were not printed yet."""
         from ..cautions import cautions_for
@@ -133,7 +149,6 @@ def solution_table(args: argparse.Namespace, form: str, *, chunk_rows: int | Non
     """``activity solution --table``: every row by one model or all, in the chosen form."""
     from ..coefficients.compare import compare_models
     from ..io.files import atomic_output
-    from ..io.tables import solution_from_table
     from .render import _models_for
 
     run = ChunkRun(args.table, quiet=getattr(args, "quiet", False), chunk_rows=chunk_rows)
@@ -146,15 +161,7 @@ def solution_table(args: argparse.Namespace, form: str, *, chunk_rows: int | Non
 
     def evaluate(chunk: TableInput) -> tuple[Any, list]:
         nonlocal wanted, species
-        sol = run.call(
-            solution_from_table,
-            chunk,
-            temperature=args.temperature,
-            pressure=args.pressure,
-            density=args.density,
-            balance_with=args.balance_with,
-        )
-        run.cautions(sol)
+        sol = run.solution(chunk, args)
         runs = run.call(compare_models, sol, wanted)
         if not order:  # the first chunk: which models answer
             order.extend(r.name for r in runs)
@@ -351,7 +358,6 @@ def invert_table(
     from ..errors import InputError
     from ..io.files import atomic_output
     from ..io.streaming import json_value
-    from ..io.tables import solution_from_table
     from ..io.units import parse_potential
 
     run = ChunkRun(args.table, quiet=getattr(args, "quiet", False), chunk_rows=chunk_rows)
@@ -363,15 +369,7 @@ def invert_table(
             raise InputError("needs a 'reading [mV]' (or [V]) column", field="table", value=args.table)
         unit, values = chunk.extra["reading"]
         reading = values * parse_potential(f"1 {unit}", field="column 'reading'")
-        matrix = run.call(
-            solution_from_table,
-            chunk,
-            temperature=args.temperature,
-            pressure=args.pressure,
-            density=args.density,
-            balance_with=args.balance_with,
-        )
-        run.cautions(matrix)
+        matrix = run.solution(chunk, args)
         res = run.call(solve, reading, matrix)
         if not head:
             head.update(species=res.species, model=res.model)
