@@ -188,8 +188,8 @@ def _builder(
     T = np.asarray(matrix.T_compact, float)
     P = np.asarray(matrix.P_compact, float)
 
-    def build(x: np.ndarray) -> Solution:
-        m = base.copy()
+    def build(x: np.ndarray, last: bool = False) -> Solution:
+        m = base if last else base.copy()  # the last build may take the template itself
         row = m[i_d, ...]
         np.exp(x, out=row)
         if i_c is not None:
@@ -309,13 +309,22 @@ def _solve(
             f"{max_iter} iterations in {rows.size} row(s): {rows[:10].tolist()}",
             rows=rows,
         )
-    sol = build(x1)
-    g = model.activity_coefficients(sol, warn=False)
-    if warn:
-        warn_alerts(g.alerts)
+    sol = build(x1, last=True)
     j = sol.index(species)
-    gamma = 10.0 ** g.log10_gamma[j]
-    notes = list(g.notes)
+    if _ROW_PATH and _own_row_model(model):
+        # γ of the determinand alone (its row is the full evaluation's, bit for bit), with the
+        # validity record the full evaluation carries: the other species' rows are not formed
+        I = np.asarray(sol.ionic_strength, dtype=float)
+        bound = model.bind(sol.species, sol.charges)
+        lg = model.log10_gamma_rows(sol, bound, I, [j])[j]
+        _, notes_t, _, alerts = model._range_record(sol, bound, I)
+    else:
+        g = model.activity_coefficients(sol, warn=False)
+        lg, notes_t, alerts = g.log10_gamma[j], g.notes, g.alerts
+    if warn:
+        warn_alerts(alerts)
+    gamma = 10.0 ** lg
+    notes = list(notes_t)
     if counter is None:
         notes.append(
             f"{species} added without a counter-ion (counter_ion=None): the sample's charge balance ignores it"
@@ -328,9 +337,9 @@ def _solve(
         sol.ionic_strength,
         it,
         sol,
-        g.model,
+        model.name,
         tuple(notes),
-        g.alerts,
+        alerts,
     )
 
 
