@@ -330,7 +330,9 @@ def main():
     # 10⁶ rows per block: 64 MB of stacked log10 γ and ~0.25 s of work per task, as dask's
     # array best practices ask (chunks of about 100 MB, tasks well above the scheduler's
     # overhead); 5·10⁵-row blocks (20 tasks) gave 1.62–1.65x here, 10⁶-row blocks 1.74x
-    ap.add_argument("--blocks", type=int, help="Pitzer rows split into this many blocks (default: 10⁶ rows per block, at least 4)")
+    ap.add_argument(
+        "--blocks", type=int, help="Pitzer rows split into this many blocks (default: 10⁶ rows per block, at least 4)"
+    )
     ap.add_argument("--rounds", type=int, default=2, help="interleaved rounds of the Pitzer rows (medians)")
     ap.add_argument("--no-per-species", action="store_true", help="skip the per-species dict graph")
     ap.add_argument("--davies-child", nargs=2, type=int, help=argparse.SUPPRESS)

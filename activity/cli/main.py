@@ -119,6 +119,18 @@ def _command(argv: Sequence[str]) -> str | None:
     return None
 
 
+def _batch_work(args: argparse.Namespace) -> bool:
+    """Whether the command runs over many rows or trials: a table, or Monte Carlo. Such a run
+    keeps freed memory for its next block (see :mod:`activity._allocator`); a one-composition
+    command does not need it and does not pay for the import."""
+    return bool(
+        getattr(args, "table", None)
+        or getattr(args, "uncertainty", None) == "monte-carlo"
+        or getattr(args, "monte_carlo", False)
+        or (args.command in ("potential", "cell", "invert") and getattr(args, "method", None) == "monte-carlo")
+    )
+
+
 def _main(argv: Sequence[str] | None) -> int:
     argv = sys.argv[1:] if argv is None else list(argv)
     command = _command(argv)
@@ -127,6 +139,10 @@ def _main(argv: Sequence[str] | None) -> int:
     if not getattr(args, "func", None):
         parser.print_help()
         return 2
+    if _batch_work(args):
+        from .._allocator import keep_freed_memory
+
+        keep_freed_memory()
     try:
         return _run(args.func, args)
     except ActivityError as exc:
