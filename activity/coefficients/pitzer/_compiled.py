@@ -28,7 +28,7 @@ import numpy as np
 from numba import njit
 
 from ...constants import LN10, T_REF
-from ._kernel import B_CONST
+from ._kernel import B_CONST, I_TINY
 from ._unsym import _U_MAX, _U_MIN, _X_MAX, _X_MIN, _pieces
 
 __all__ = ["run", "BLOCK"]
@@ -39,8 +39,9 @@ INV_LN10 = 1.0 / LN10
 # caches on disk, and keys that cache on this file alone. So their values are written out
 # here too: a change in their home modules stops this import (and editing the line below
 # renews the cache) instead of leaving stale constants in cached code.
-_WRITTEN_OUT = (2.302585092994046, 298.15, 1.2, 1e-5, 1e4)  # LN10, T_REF, B_CONST, J table range
-if (LN10, T_REF, B_CONST, _X_MIN, _X_MAX) != _WRITTEN_OUT:
+_WRITTEN_OUT = (2.302585092994046, 298.15, 1.2, 1e-5, 1e4, 2.2250738585072014e-308)  # LN10, T_REF, B_CONST,
+# the J table range, I_TINY
+if (LN10, T_REF, B_CONST, _X_MIN, _X_MAX, I_TINY) != _WRITTEN_OUT:
     raise ImportError("a constant of the compiled Pitzer kernel changed: update _WRITTEN_OUT in " + __name__)
 
 #: Rows per block: the per-row sums and the coefficient rows of a block stay in cache.
@@ -381,7 +382,7 @@ def _blocks(
         # the per-row closing terms
         for r in range(L):
             Ir = Ib[r]
-            inv_I = 1.0 / Ir if Ir > 0 else 0.0
+            inv_I = 1.0 / Ir if Ir >= I_TINY else 0.0  # see I_TINY in _kernel
             Sp = 0.0
             Sg = 0.0
             Sphi = SB0[r]

@@ -30,6 +30,11 @@ __all__ = ["evaluate", "B_CONST", "g_funcs"]
 #: b = 1.2 (kg/mol)^½ for all electrolytes (Pitzer 1973; common practice).
 B_CONST = 1.2
 
+#: The least normal float. Below it 1/I overflows (I of subnormal molalities, ~1e-310), and
+#: the g′ term of F, g′(α√I) Σ m_c m_a B⁽ᵏ⁾/I, which vanishes as I^1.5 when I → 0, is taken
+#: as its limit 0 instead of inf · 0 = NaN.
+I_TINY = float(np.finfo(float).tiny)
+
 
 def g_funcs(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """g(x) = 2[1 − (1+x)e^(−x)]/x² and g′(x) = −2[1 − (1+x+x²/2)e^(−x)]/x² (x ≥ 0).
@@ -178,7 +183,7 @@ def evaluate(bound, P: dict, rowwise: bool, m: np.ndarray, I: np.ndarray, Aphi, 
         BkC = dot("BkT", mc) if want_lng else None
         Pk = np.einsum("cn,kcn->kn", mc, BkA)  # Σ_ca m_c m_a Bk_ca, (K, N)
         with np.errstate(divide="ignore", invalid="ignore"):
-            inv_I = np.where(I > 0, 1.0 / I, 0.0)
+            inv_I = np.where(I >= I_TINY, 1.0 / I, 0.0)
         with np.errstate(divide="ignore", invalid="ignore"):
             for k, al in enumerate(bound.alphas.tolist()):
                 g, gp, e = _g_funcs_e(al * sI)

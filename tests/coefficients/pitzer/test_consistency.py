@@ -2,6 +2,7 @@
 checked against each other, against the defining integral of J(x), and against the
 Debye–Hückel limiting law."""
 
+import importlib.util
 import warnings
 
 import numpy as np
@@ -13,6 +14,7 @@ from scipy.integrate import quad
 import activity as act
 from activity import Solution
 from activity.coefficients.pitzer import PitzerModel, e_theta, j_pitzer1975
+from activity.constants import LN10
 
 MODEL = PitzerModel()
 # ζ and λ terms are absent from the shipped set except CO2 λ; this demo overlay (invented
@@ -223,6 +225,26 @@ def test_limiting_law(salts, log_I, T):
     ll = -3.0 * act.debye_huckel_Aphi(T) * sol.charges**2 * sqI
     rel = np.abs(MODEL.ln_gamma(sol) / ll - 1.0)
     assert np.all(rel <= 12.0 * sqI)
+
+
+KERNELS = ["numpy"] + (["compiled"] if importlib.util.find_spec("numba") else [])
+
+
+@pytest.mark.parametrize("kernel", KERNELS)
+@pytest.mark.parametrize("m", [5e-324, 1e-320, 1e-310, 1e-300])
+def test_limiting_law_down_to_subnormal_molalities(kernel, m):
+    """The same law where 1/I overflows (I below the least normal float, 2.2e-308): the g′ term
+    of F, which vanishes like I^1.5, gave inf · 0 = NaN for every γ before (found by the
+    explore profile of the conformance test, CaCl2 at 5e-324 mol/kg). Both kernels; rows of
+    ordinary strength beside them are unchanged."""
+    sol = Solution({"Ca^2+": [m, 0.01], "Na+": [m, 0.1], "Cl-": [3 * m, 0.12]}, T=298.15)
+    res = quiet(PitzerModel(kernel=kernel).activity_coefficients, sol)
+    assert np.all(np.isfinite(res.log10_gamma)) and np.all(np.isfinite(res.osmotic_coefficient))
+    sqI = np.sqrt(sol.ionic_strength[0])
+    ll = -3.0 * act.debye_huckel_Aphi(298.15) * sol.charges**2 * sqI
+    np.testing.assert_allclose(LN10 * res.log10_gamma[:, 0], ll, rtol=1e-6)
+    ordinary = quiet(MODEL.activity_coefficients, Solution({"Ca^2+": 0.01, "Na+": 0.1, "Cl-": 0.12}))
+    np.testing.assert_allclose(res.log10_gamma[:, 1], ordinary.log10_gamma, rtol=1e-13)
 
 
 def test_temperature_array_equals_scalar_temperatures():
