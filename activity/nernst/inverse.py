@@ -252,6 +252,30 @@ def _ise_rows(
     return potential
 
 
+def _wandering(x: np.ndarray, done: np.ndarray) -> bool:
+    """Whether a row that failed ended inside the search bounds (the secant wandered, as where
+    E(m) is not monotonic) rather than pinned at one (a target beyond reach: a unit slip)."""
+    x, failed = np.ravel(x), ~np.ravel(done)
+    return bool(np.any(failed & (x > _LN_M_MIN) & (x < _LN_M_MAX)))
+
+
+def _outside_validity(model: Any, sol: Solution) -> str:
+    """For the message of a failed solve: where the last iterate lies outside the model's
+    validity, say so. There the potential need not rise steadily with the molality (under
+    the limiting law, Ca²⁺ alone in water: log10 m − 4A√(2m) peaks at m ≈ 0.09 mol/kg for
+    A = 0.509), so a root may be missing or not unique; the unit slip stays the other cause."""
+    try:
+        alerts = model.activity_coefficients(sol, warn=False).alerts
+    except Exception:  # noqa: BLE001 - the message must not hide the convergence failure
+        return ""
+    if not alerts:
+        return ""
+    return (
+        f"; at the last iterate the sample lies outside the model's validity ({alerts[0]}), where the potential "
+        "need not rise steadily with the molality: a root may be missing or not unique"
+    )
+
+
 def _solve(
     forward: Callable[[Solution], Any],
     target: Any,
@@ -306,7 +330,8 @@ def _solve(
         rows = np.flatnonzero(~np.ravel(done))
         raise ConvergenceError(
             f"no molality of {species} between 1e-16 and 30 mol/kg reproduces the potential within "
-            f"{max_iter} iterations in {rows.size} row(s): {rows[:10].tolist()}",
+            f"{max_iter} iterations in {rows.size} row(s): {rows[:10].tolist()}"
+            f"{_outside_validity(model, build(x1)) if _wandering(x1, done) else ''}",
             rows=rows,
         )
     sol = build(x1, last=True)
@@ -323,7 +348,7 @@ def _solve(
         lg, notes_t, alerts = g.log10_gamma[j], g.notes, g.alerts
     if warn:
         warn_alerts(alerts)
-    gamma = 10.0 ** lg
+    gamma = 10.0**lg
     notes = list(notes_t)
     if counter is None:
         notes.append(
