@@ -252,27 +252,28 @@ def _ise_rows(
     return potential
 
 
-def _wandering(x: np.ndarray, done: np.ndarray) -> bool:
-    """Whether a row that failed ended inside the search bounds (the secant wandered, as where
-    E(m) is not monotonic) rather than pinned at one (a target beyond reach: a unit slip)."""
+def _outside_validity(model: Any, sol: Solution, x: np.ndarray, done: np.ndarray) -> str:
+    """For the message of a failed solve: the failed rows that ended inside the search bounds
+    (the secant wandered, rather than being pinned at a bound by a target beyond reach, as
+    after a unit slip) and lie outside the model's validity at the last iterate. There the
+    potential need not rise steadily with the molality (under the limiting law, Ca²⁺ alone in
+    water: log10 m − 4A√(2m) peaks at m ≈ 0.09 mol/kg for A = 0.509), so a root may be missing
+    or not unique. Empty when there are none."""
     x, failed = np.ravel(x), ~np.ravel(done)
-    return bool(np.any(failed & (x > _LN_M_MIN) & (x < _LN_M_MAX)))
-
-
-def _outside_validity(model: Any, sol: Solution) -> str:
-    """For the message of a failed solve: where the last iterate lies outside the model's
-    validity, say so. There the potential need not rise steadily with the molality (under
-    the limiting law, Ca²⁺ alone in water: log10 m − 4A√(2m) peaks at m ≈ 0.09 mol/kg for
-    A = 0.509), so a root may be missing or not unique; the unit slip stays the other cause."""
+    wandered = failed & (x > _LN_M_MIN) & (x < _LN_M_MAX)
+    if not np.any(wandered):
+        return ""
     try:
-        alerts = model.activity_coefficients(sol, warn=False).alerts
+        res = model.activity_coefficients(sol, warn=False)
     except Exception:  # noqa: BLE001 - the message must not hide the convergence failure
         return ""
-    if not alerts:
+    outside = wandered & ~np.ravel(np.broadcast_to(np.asarray(res.in_range, dtype=bool), sol.shape))
+    if not np.any(outside):
         return ""
     return (
-        f"; at the last iterate the sample lies outside the model's validity ({alerts[0]}), where the potential "
-        "need not rise steadily with the molality: a root may be missing or not unique"
+        f"; at the last iterate row(s) {np.flatnonzero(outside)[:10].tolist()} lie outside the model's validity "
+        f"({res.alerts[0] if res.alerts else model.name}), where the potential need not rise steadily with "
+        "the molality: a root may be missing or not unique"
     )
 
 
@@ -331,7 +332,7 @@ def _solve(
         raise ConvergenceError(
             f"no molality of {species} between 1e-16 and 30 mol/kg reproduces the potential within "
             f"{max_iter} iterations in {rows.size} row(s): {rows[:10].tolist()}"
-            f"{_outside_validity(model, build(x1)) if _wandering(x1, done) else ''}",
+            f"{_outside_validity(model, build(x1), x1, done)}",
             rows=rows,
         )
     sol = build(x1, last=True)
