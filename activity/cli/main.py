@@ -120,14 +120,14 @@ def _command(argv: Sequence[str]) -> str | None:
 
 
 def _batch_work(args: argparse.Namespace) -> bool:
-    """Whether the command runs over many rows or trials: a table, or Monte Carlo. Such a run
-    keeps freed memory for its next block (see :mod:`activity._allocator`); a one-composition
-    command does not need it and does not pay for the import."""
+    """Whether the command runs over many rows or trials: a table, or Monte Carlo (asked for as
+    ``--method``, ``--uncertainty`` or ``--monte-carlo``, by command). Such a run keeps freed
+    memory for its next block (see :mod:`activity._allocator`); a one-composition command does
+    not need it and does not pay for the import."""
     return bool(
         getattr(args, "table", None)
-        or getattr(args, "uncertainty", None) == "monte-carlo"
+        or "monte-carlo" in (getattr(args, "method", None), getattr(args, "uncertainty", None))
         or getattr(args, "monte_carlo", False)
-        or (args.command in ("potential", "cell", "invert") and getattr(args, "method", None) == "monte-carlo")
     )
 
 

@@ -69,4 +69,8 @@ def test_batch_commands_ask_for_it_and_one_composition_does_not():
 
     assert batch("solution", "solution", "--table", "t.csv")
     assert batch("electrode", "invert", "--table", "t.csv")
+    assert batch("electrode", "potential", "Ca2+", "Ca2+=0.01", "Cl-=0.02", "--method", "monte-carlo")
+    assert batch("ise", "calibrate", "standards.csv", "--samples", "s.csv", "--uncertainty", "monte-carlo")
+    assert batch("ph", "ph-calibrate", "buffers.csv", "--monte-carlo")
     assert not batch("solution", "solution", "Na+=0.1", "Cl-=0.1")
+    assert not batch("electrode", "potential", "Ca2+", "Ca2+=0.01", "Cl-=0.02", "--method", "gum")
